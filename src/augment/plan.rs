@@ -1,0 +1,113 @@
+//! How many synthetic rows each class gets.
+
+use std::fmt;
+use std::str::FromStr;
+
+use serde::Serialize;
+
+use crate::error::{Error, Result};
+
+/// The count each grown class is brought up to.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub enum Target {
+    /// The largest class's count.
+    Largest,
+    /// The median class count (upper median for an even number of classes).
+    Median,
+    /// An absolute count.
+    Count(usize),
+    /// A factor of the class's own count (`x2` doubles it).
+    Factor(f64),
+}
+
+impl FromStr for Target {
+    type Err = Error;
+    fn from_str(s: &str) -> Result<Self> {
+        let bad = || {
+            Error::param(
+                "--target",
+                format!("'{s}' is not a target"),
+                "use largest, median, a count such as 200, or a factor such as x2",
+            )
+        };
+        match s {
+            "largest" => Ok(Target::Largest),
+            "median" => Ok(Target::Median),
+            _ if s.starts_with('x') => {
+                let f: f64 = s[1..].parse().map_err(|_| bad())?;
+                if f.is_finite() && f >= 1.0 && f <= 1.0e6 { Ok(Target::Factor(f)) } else { Err(bad()) }
+            }
+            _ => s.parse::<usize>().map(Target::Count).map_err(|_| bad()),
+        }
+    }
+}
+
+impl fmt::Display for Target {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            Target::Largest => f.write_str("largest"),
+            Target::Median => f.write_str("median"),
+            Target::Count(n) => write!(f, "{n}"),
+            Target::Factor(x) => write!(f, "x{x}"),
+        }
+    }
+}
+
+/// Rows to add per class index.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Plan {
+    pub add: Vec<usize>,
+}
+
+impl Plan {
+    /// Bring each class (or each class in `only`) up to `target`; classes at or above it, and
+    /// classes with no rows, are left alone.
+    pub fn new(counts: &[usize], target: Target, only: Option<&[u32]>) -> Plan {
+        let mut sorted: Vec<usize> = counts.iter().copied().filter(|&c| c > 0).collect();
+        sorted.sort_unstable();
+        let goal = |own: usize| -> usize {
+            match target {
+                Target::Largest => sorted.last().copied().unwrap_or(0),
+                Target::Median => sorted.get(sorted.len() / 2).copied().unwrap_or(0),
+                Target::Count(n) => n,
+                Target::Factor(f) => (own as f64 * f).round() as usize,
+            }
+        };
+        let add = counts
+            .iter()
+            .enumerate()
+            .map(|(c, &own)| {
+                let chosen = only.is_none_or(|o| o.contains(&(c as u32)));
+                if chosen && own > 0 { goal(own).saturating_sub(own) } else { 0 }
+            })
+            .collect();
+        Plan { add }
+    }
+
+    /// Classes that get at least one row.
+    pub fn grown_classes(&self) -> Vec<u32> {
+        self.add.iter().enumerate().filter(|&(_, &n)| n > 0).map(|(c, _)| c as u32).collect()
+    }
+
+    pub fn total(&self) -> usize {
+        self.add.iter().sum()
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn targets() {
+        // common practice, no source: "grow to the median/largest class" as defined in DESIGN.md.
+        let counts = [100, 10, 40, 3];
+        assert_eq!(Plan::new(&counts, Target::Median, None).add, vec![0, 30, 0, 37]);
+        assert_eq!(Plan::new(&counts, Target::Largest, None).add, vec![0, 90, 60, 97]);
+        assert_eq!(Plan::new(&counts, Target::Count(20), Some(&[1])).add, vec![0, 10, 0, 0]);
+        assert_eq!(Plan::new(&counts, Target::Factor(2.0), Some(&[3])).add, vec![0, 0, 0, 3]);
+        assert_eq!("x1.5".parse::<Target>().unwrap(), Target::Factor(1.5));
+        assert!("x0.5".parse::<Target>().is_err());
+        assert!("many".parse::<Target>().is_err());
+    }
+}

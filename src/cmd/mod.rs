@@ -1,0 +1,1 @@
+//! One function per command; the binary parses arguments into these options and calls them.

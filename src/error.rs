@@ -1,0 +1,100 @@
+//! One error type for the library. Every variant says what went wrong *and* what the user can
+//! do about it, because the binary prints these straight to the terminal.
+
+use std::path::{Path, PathBuf};
+
+/// Library result alias.
+pub type Result<T, E = Error> = std::result::Result<T, E>;
+
+#[derive(Debug, thiserror::Error)]
+pub enum Error {
+    /// An input file is unreadable or malformed. `location` names the key, column or row.
+    #[error("{}: {detail}{}\n  fix: {fix}", path.display(), location.as_deref().map(|l| format!(" ({l})")).unwrap_or_default())]
+    Input {
+        path: PathBuf,
+        location: Option<String>,
+        detail: String,
+        fix: String,
+    },
+    /// The operating system refused a read or write.
+    #[error("{}: {source}", path.display())]
+    Io {
+        path: PathBuf,
+        #[source]
+        source: std::io::Error,
+    },
+    /// A parameter is out of range or inconsistent with the data.
+    #[error("invalid {name}: {detail}\n  fix: {fix}")]
+    Param {
+        name: String,
+        detail: String,
+        fix: String,
+    },
+    /// The data cannot support the requested operation (too few rows, a single class, ...).
+    #[error("{detail}\n  fix: {fix}")]
+    Data { detail: String, fix: String },
+    /// An output cannot be written as asked.
+    #[error("{}: {detail}\n  fix: {fix}", path.display())]
+    Output {
+        path: PathBuf,
+        detail: String,
+        fix: String,
+    },
+}
+
+impl Error {
+    /// A malformed input file, with no particular location.
+    pub fn input(path: &Path, detail: impl Into<String>, fix: impl Into<String>) -> Self {
+        Error::Input {
+            path: path.to_path_buf(),
+            location: None,
+            detail: detail.into(),
+            fix: fix.into(),
+        }
+    }
+
+    /// A malformed input file, at a key, column or row named by `location`.
+    pub fn input_at(
+        path: &Path,
+        location: impl Into<String>,
+        detail: impl Into<String>,
+        fix: impl Into<String>,
+    ) -> Self {
+        Error::Input {
+            path: path.to_path_buf(),
+            location: Some(location.into()),
+            detail: detail.into(),
+            fix: fix.into(),
+        }
+    }
+
+    pub fn io(path: &Path, source: std::io::Error) -> Self {
+        Error::Io {
+            path: path.to_path_buf(),
+            source,
+        }
+    }
+
+    pub fn param(name: impl Into<String>, detail: impl Into<String>, fix: impl Into<String>) -> Self {
+        Error::Param {
+            name: name.into(),
+            detail: detail.into(),
+            fix: fix.into(),
+        }
+    }
+
+    pub fn data(detail: impl Into<String>, fix: impl Into<String>) -> Self {
+        Error::Data {
+            detail: detail.into(),
+            fix: fix.into(),
+        }
+    }
+
+    pub fn output(path: &Path, detail: impl Into<String>, fix: impl Into<String>) -> Self {
+        Error::Output {
+            path: path.to_path_buf(),
+            detail: detail.into(),
+            fix: fix.into(),
+        }
+    }
+}

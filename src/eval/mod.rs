@@ -1,0 +1,1 @@
+//! The leakage-free assessment protocol, metrics, statistics and diagnostics.

@@ -1,0 +1,1 @@
+//! Downstream probes: a k-NN classifier and a multinomial logistic regression.

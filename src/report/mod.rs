@@ -1,0 +1,1 @@
+//! Rendering assessment results: terminal table, JSON, CSV, HTML with inline SVG.
