@@ -6,6 +6,7 @@
 //! trained on real + synthetic rows; [`eval`] owns the splits, metrics and statistics; and
 //! [`report`] renders the results. [`neighbors`] and [`pca`] serve several stages.
 
+pub mod assess;
 pub mod augment;
 pub mod cmd;
 pub mod data;

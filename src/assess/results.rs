@@ -1,0 +1,118 @@
+//! What an assessment produces. This is the single source for the terminal table, the JSON,
+//! the CSV tables and the HTML report, so every output tells the same story.
+
+use serde::Serialize;
+
+/// The input file an assessment ran on.
+#[derive(Debug, Clone, Serialize)]
+pub struct InputInfo {
+    pub path: String,
+    pub sha256: String,
+    pub rows: usize,
+    pub dims: usize,
+    pub classes: Vec<String>,
+    pub class_counts: Vec<usize>,
+}
+
+/// One method × probe evaluated on one fold.
+#[derive(Debug, Clone, Serialize)]
+pub struct FoldRecord {
+    pub repeat: usize,
+    pub fold: usize,
+    pub method: String,
+    pub probe: String,
+    pub train_real: usize,
+    pub train_synthetic: usize,
+    pub test: usize,
+    /// Metric name → value: accuracy, balanced_accuracy, macro_f1, grown_class_recall, and for
+    /// the linear probe log_loss and ece.
+    pub metrics: Vec<(String, f64)>,
+    /// Recall per class index (NaN where the class has no test rows in this fold).
+    pub class_recall: Vec<f64>,
+    /// Linear probe only: whether L-BFGS met its tolerance.
+    pub converged: Option<bool>,
+}
+
+/// A method's mean on one metric and its paired difference against `none`.
+#[derive(Debug, Clone, Serialize)]
+pub struct SummaryRow {
+    pub method: String,
+    pub probe: String,
+    pub metric: String,
+    pub mean: f64,
+    pub delta_mean: f64,
+    pub delta_ci_low: f64,
+    pub delta_ci_high: f64,
+    pub p_value: f64,
+    pub folds: usize,
+}
+
+/// One class's recall under a method and probe, with its paired difference against `none`.
+#[derive(Debug, Clone, Serialize)]
+pub struct ClassRow {
+    pub method: String,
+    pub probe: String,
+    pub class: String,
+    pub grown: bool,
+    pub recall_mean: f64,
+    pub delta_mean: f64,
+    pub delta_ci_low: f64,
+    pub delta_ci_high: f64,
+    pub p_value: f64,
+    pub folds: usize,
+}
+
+/// Where a method's synthetic rows of one grown class sit, averaged over folds.
+#[derive(Debug, Clone, Serialize)]
+pub struct DiagnosticRow {
+    pub method: String,
+    pub class: String,
+    pub synthetic_rows: f64,
+    /// Share of synthetic rows whose nearest real training row is of another class.
+    pub intrusion_synthetic: f64,
+    /// The same share for the class's real rows (the baseline to compare with).
+    pub intrusion_real: f64,
+    /// Median synthetic-to-nearest-real distance ÷ median real-to-nearest-real distance.
+    pub distance_ratio: f64,
+    pub precision: f64,
+    pub recall: f64,
+    pub density: f64,
+    pub coverage: f64,
+}
+
+/// A 2-D PCA projection of one grown class's real and synthetic training rows (first fold).
+#[derive(Debug, Clone, Serialize)]
+pub struct Scatter {
+    pub method: String,
+    pub class: String,
+    pub real: Vec<[f32; 2]>,
+    pub synthetic: Vec<[f32; 2]>,
+    /// Real rows of the other classes nearest to this class, for context.
+    pub others: Vec<[f32; 2]>,
+}
+
+/// Everything `assess` found.
+#[derive(Debug, Clone, Serialize)]
+pub struct AssessResults {
+    pub embloom_version: String,
+    pub input: InputInfo,
+    /// The configuration as run (options after defaults were applied).
+    pub config: serde_json::Value,
+    pub seed: u64,
+    /// stratified, stratified-group or given.
+    pub split: String,
+    pub methods: Vec<String>,
+    pub probes: Vec<String>,
+    /// Names of the classes the plan grew (in the full data; per fold the plan is recomputed).
+    pub grown_classes: Vec<String>,
+    pub folds: Vec<FoldRecord>,
+    pub summary: Vec<SummaryRow>,
+    pub per_class: Vec<ClassRow>,
+    pub diagnostics: Vec<DiagnosticRow>,
+    pub scatter: Vec<Scatter>,
+    /// One plain sentence per method and probe.
+    pub sentences: Vec<String>,
+    pub warnings: Vec<String>,
+    /// Wall-clock seconds (excluded when outputs are compared for determinism).
+    pub elapsed_seconds: f64,
+}
