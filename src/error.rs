@@ -75,7 +75,11 @@ impl Error {
         }
     }
 
-    pub fn param(name: impl Into<String>, detail: impl Into<String>, fix: impl Into<String>) -> Self {
+    pub fn param(
+        name: impl Into<String>,
+        detail: impl Into<String>,
+        fix: impl Into<String>,
+    ) -> Self {
         Error::Param {
             name: name.into(),
             detail: detail.into(),

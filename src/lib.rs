@@ -10,6 +10,7 @@ pub mod assess;
 pub mod augment;
 pub mod cmd;
 pub mod data;
+pub mod demo;
 pub mod error;
 pub mod eval;
 pub mod io;

@@ -1,6 +1,15 @@
 //! The assessment: every method, on every fold, against the `none` baseline, with the same
 //! splits for all (a paired design).
 
+mod config;
 pub mod results;
+mod run;
+mod scatter;
+mod shared_knn;
+mod summary;
 
-pub use results::AssessResults;
+pub use config::AssessConfig;
+pub use results::{AssessResults, InputInfo};
+pub use run::{assess, assess_with};
+pub use shared_knn::merge as merge_knn;
+pub use summary::LEVEL;

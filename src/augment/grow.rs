@@ -22,7 +22,14 @@ pub struct Grown {
 
 /// Fit `method` on `train` and draw `plan.add[c]` rows for every class `c`. The stream for
 /// class `c` is `seed::stream(seed, [stream.., c])`. With `unit_norm`, rows are rescaled to norm 1.
-pub fn grow(train: &Dataset, method: &dyn Augmenter, plan: &Plan, unit_norm: bool, seed: u64, stream: &[u64]) -> Result<Grown> {
+pub fn grow(
+    train: &Dataset,
+    method: &dyn Augmenter,
+    plan: &Plan,
+    unit_norm: bool,
+    seed: u64,
+    stream: &[u64],
+) -> Result<Grown> {
     let _ = (train, method, plan, unit_norm, seed, stream);
     todo!("augment helper")
 }

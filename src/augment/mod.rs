@@ -83,7 +83,11 @@ impl FromStr for MethodKind {
             .find(|m| m.name() == s)
             .ok_or_else(|| {
                 let names: Vec<_> = MethodKind::ALL.iter().map(|m| m.name()).collect();
-                Error::param("method", format!("unknown method '{s}'"), format!("use one of: {}", names.join(", ")))
+                Error::param(
+                    "method",
+                    format!("unknown method '{s}'"),
+                    format!("use one of: {}", names.join(", ")),
+                )
             })
     }
 }

@@ -40,7 +40,9 @@ pub fn encode_labels(raw: RawLabels, path: &Path, key: &str) -> Result<(Vec<u32>
                     return Err(Error::input_at(
                         path,
                         format!("key '{key}', row {row}"),
-                        format!("label {f} is not a whole number; float labels must be integral class codes"),
+                        format!(
+                            "label {f} is not a whole number; float labels must be integral class codes"
+                        ),
                         "store labels as integers or strings, or fix the row",
                     ));
                 }
@@ -70,7 +72,12 @@ mod tests {
     #[test]
     fn first_seen_order_and_integral_floats() {
         // common practice, no source: class order is the order of first appearance.
-        let (l, c) = encode_labels(RawLabels::Float(vec![2.0, 0.0, 2.0]), Path::new("f"), "labels").unwrap();
+        let (l, c) = encode_labels(
+            RawLabels::Float(vec![2.0, 0.0, 2.0]),
+            Path::new("f"),
+            "labels",
+        )
+        .unwrap();
         assert_eq!(l, vec![0, 1, 0]);
         assert_eq!(c, vec!["2", "0"]);
         assert!(encode_labels(RawLabels::Float(vec![1.5]), Path::new("f"), "labels").is_err());

@@ -78,7 +78,10 @@ impl Dataset {
 
     /// Class index of a class name.
     pub fn class_index(&self, name: &str) -> Option<u32> {
-        self.classes.iter().position(|c| c == name).map(|i| i as u32)
+        self.classes
+            .iter()
+            .position(|c| c == name)
+            .map(|i| i as u32)
     }
 
     /// A view of the matrix.
@@ -89,14 +92,20 @@ impl Dataset {
     /// A new dataset holding `rows` (in that order); class names and indices are kept as they
     /// are, so labels of a subset stay comparable with the full set.
     pub fn select(&self, rows: &[usize]) -> Dataset {
-        let pick = |v: &Option<Vec<String>>| v.as_ref().map(|v| rows.iter().map(|&i| v[i].clone()).collect());
+        let pick = |v: &Option<Vec<String>>| {
+            v.as_ref()
+                .map(|v| rows.iter().map(|&i| v[i].clone()).collect())
+        };
         Dataset {
             x: self.x.select(Axis(0), rows),
             labels: rows.iter().map(|&i| self.labels[i]).collect(),
             classes: self.classes.clone(),
             ids: pick(&self.ids),
             groups: pick(&self.groups),
-            folds: self.folds.as_ref().map(|f| rows.iter().map(|&i| f[i]).collect()),
+            folds: self
+                .folds
+                .as_ref()
+                .map(|f| rows.iter().map(|&i| f[i]).collect()),
             stored_dtype: self.stored_dtype.clone(),
         }
     }

@@ -50,13 +50,17 @@ pub struct DatasetStats {
 
 impl DatasetStats {
     pub fn of(ds: &Dataset) -> DatasetStats {
-        let mut norms: Vec<f64> = ds
-            .x
-            .rows()
-            .into_iter()
-            .filter(|r| r.iter().all(|v| v.is_finite()))
-            .map(|r| r.iter().map(|&v| f64::from(v) * f64::from(v)).sum::<f64>().sqrt())
-            .collect();
+        let mut norms: Vec<f64> =
+            ds.x.rows()
+                .into_iter()
+                .filter(|r| r.iter().all(|v| v.is_finite()))
+                .map(|r| {
+                    r.iter()
+                        .map(|&v| f64::from(v) * f64::from(v))
+                        .sum::<f64>()
+                        .sqrt()
+                })
+                .collect();
         norms.sort_by(f64::total_cmp);
         let (min, med, max) = if norms.is_empty() {
             (f64::NAN, f64::NAN, f64::NAN)
@@ -69,7 +73,9 @@ impl DatasetStats {
             norm_min: min,
             norm_median: med,
             norm_max: max,
-            unit_norm: !norms.is_empty() && (min - 1.0).abs() <= UNIT_NORM_TOL && (max - 1.0).abs() <= UNIT_NORM_TOL,
+            unit_norm: !norms.is_empty()
+                && (min - 1.0).abs() <= UNIT_NORM_TOL
+                && (max - 1.0).abs() <= UNIT_NORM_TOL,
             nonfinite: NonFinite::of(ds.view()),
             duplicate_rows: duplicate_rows(ds),
         }
@@ -80,7 +86,11 @@ impl DatasetStats {
 pub fn is_unit_norm(x: ndarray::ArrayView2<f32>) -> bool {
     x.nrows() > 0
         && x.rows().into_iter().all(|r| {
-            let n = r.iter().map(|&v| f64::from(v) * f64::from(v)).sum::<f64>().sqrt();
+            let n = r
+                .iter()
+                .map(|&v| f64::from(v) * f64::from(v))
+                .sum::<f64>()
+                .sqrt();
             (n - 1.0).abs() <= UNIT_NORM_TOL
         })
 }
@@ -105,12 +115,22 @@ mod tests {
     #[test]
     fn stats_on_a_small_matrix() {
         // from memory: norms of (3,4) and (0,1) are 5 and 1.
-        let ds = Dataset::new(array![[3.0, 4.0], [0.0, 1.0], [3.0, 4.0], [f32::NAN, 0.0]], vec![0, 0, 1, 1], vec!["a".into(), "b".into()]);
+        let ds = Dataset::new(
+            array![[3.0, 4.0], [0.0, 1.0], [3.0, 4.0], [f32::NAN, 0.0]],
+            vec![0, 0, 1, 1],
+            vec!["a".into(), "b".into()],
+        );
         let s = DatasetStats::of(&ds);
         assert_eq!(s.norm_min, 1.0);
         assert_eq!(s.norm_max, 5.0);
         assert!(!s.unit_norm);
         assert_eq!(s.duplicate_rows, 1);
-        assert_eq!(s.nonfinite, NonFinite { count: 1, first_row: Some(3) });
+        assert_eq!(
+            s.nonfinite,
+            NonFinite {
+                count: 1,
+                first_row: Some(3)
+            }
+        );
     }
 }

@@ -69,3 +69,17 @@ pub fn write(path: &Path, set: &AugmentedSet, force: bool) -> Result<()> {
     let _ = (path, set, force);
     todo!("io helper")
 }
+
+impl AugmentedSet {
+    /// A set of real rows only (provenance says `real`, each row its own parent).
+    pub fn all_real(data: Dataset) -> AugmentedSet {
+        let n = data.n_rows();
+        AugmentedSet {
+            data,
+            origin: vec!["real".to_string(); n],
+            parent: (0..n as i64).collect(),
+            partner: vec![-1; n],
+            weight: vec![0.0; n],
+        }
+    }
+}

@@ -1,0 +1,70 @@
+//! The validated configuration of an assessment.
+
+use serde::Serialize;
+
+use crate::augment::{AugmentParams, MethodKind, Target};
+use crate::cmd::options::UnitNorm;
+use crate::error::{Error, Result};
+use crate::probe::ProbeKind;
+use crate::probe::knn::KnnParams;
+use crate::probe::linear::LinearParams;
+
+/// Everything an assessment needs besides the data.
+#[derive(Debug, Clone, Serialize)]
+pub struct AssessConfig {
+    /// Methods to compare; `none` (the baseline) is always first.
+    pub methods: Vec<MethodKind>,
+    pub probes: Vec<ProbeKind>,
+    pub folds: usize,
+    pub repeats: usize,
+    pub target: Target,
+    pub classes: Option<Vec<String>>,
+    pub augment: AugmentParams,
+    pub unit_norm: UnitNorm,
+    pub knn: KnnParams,
+    pub linear: LinearParams,
+    pub seed: u64,
+    /// Compute intrusion / distance / PRDC diagnostics.
+    pub diagnostics: bool,
+    /// Draw a progress bar on stderr.
+    #[serde(skip)]
+    pub progress: bool,
+}
+
+impl AssessConfig {
+    /// Check ranges and put `none` first (added when missing, duplicates removed).
+    pub fn validated(mut self) -> Result<Self> {
+        let mut methods = vec![MethodKind::None];
+        for m in self.methods {
+            if !methods.contains(&m) {
+                methods.push(m);
+            }
+        }
+        self.methods = methods;
+        if self.probes.is_empty() {
+            return Err(Error::param(
+                "--probes",
+                "no probe given",
+                "use knn, linear or knn,linear",
+            ));
+        }
+        self.probes.dedup();
+        if self.folds < 2 {
+            return Err(Error::param(
+                "--folds",
+                format!("{} folds cannot hold out data", self.folds),
+                "use 2 or more folds (5 is usual)",
+            ));
+        }
+        if self.repeats < 1 {
+            return Err(Error::param(
+                "--repeats",
+                "must be at least 1",
+                "use --repeats 1 or more",
+            ));
+        }
+        self.knn.validate()?;
+        self.linear.validate()?;
+        Ok(self)
+    }
+}

@@ -1,0 +1,361 @@
+//! The fold loop. Every augmenter is fitted on the fold's real training rows only; probes
+//! are trained on real + synthetic training rows and scored on the real test rows only; all
+//! methods see the same folds, so differences against `none` are paired.
+
+use std::collections::{BTreeSet, HashSet};
+use std::time::Instant;
+
+use indicatif::{ProgressBar, ProgressStyle};
+use ndarray::{Array2, Axis, concatenate};
+
+use super::config::AssessConfig;
+use super::results::{AssessResults, DiagnosticRow, FoldRecord, InputInfo, Scatter};
+use super::{scatter, shared_knn, summary};
+use crate::augment::{self, Augmenter, Grown, MethodKind, Plan};
+use crate::cmd::grow::describe_notes;
+use crate::cmd::options::class_indices;
+use crate::data::Dataset;
+use crate::error::{Error, Result};
+use crate::eval::diagnostics::class_diagnostics;
+use crate::eval::metrics::{ece, grown_class_recall, log_loss, score};
+use crate::eval::protocol::{Fold, make_folds};
+use crate::neighbors;
+use crate::probe::ProbeKind;
+use crate::probe::knn::KnnProbe;
+use crate::probe::linear::{LinearModel, LinearProbe};
+use crate::seed;
+
+/// Bins of the expected calibration error (Guo et al. 2017 use 15).
+const ECE_BINS: usize = 15;
+
+/// Assess the methods of `cfg` on `ds`.
+pub fn assess(ds: &Dataset, cfg: &AssessConfig, input: InputInfo) -> Result<AssessResults> {
+    let augmenters = cfg
+        .methods
+        .iter()
+        .map(|&m| augment::build(m, &cfg.augment))
+        .collect::<Result<Vec<_>>>()?;
+    assess_with(ds, cfg, input, &augmenters)
+}
+
+/// Assess with augmenters supplied by the caller (the first must be the `none` baseline);
+/// tests use it to plant a deliberately leaky augmenter.
+pub fn assess_with(
+    ds: &Dataset,
+    cfg: &AssessConfig,
+    input: InputInfo,
+    augmenters: &[Box<dyn Augmenter>],
+) -> Result<AssessResults> {
+    let started = Instant::now();
+    if augmenters.first().map(|a| a.kind()) != Some(MethodKind::None) {
+        return Err(Error::param(
+            "methods",
+            "the first method must be the none baseline",
+            "report this as a bug",
+        ));
+    }
+    if ds.n_classes() < 2 || ds.class_counts().iter().filter(|&&c| c > 0).count() < 2 {
+        return Err(Error::data(
+            format!(
+                "{} has a single class; there is nothing for a probe to tell apart",
+                input.path
+            ),
+            "assess needs at least two classes",
+        ));
+    }
+    let (split, folds) = make_folds(ds, cfg.folds, cfg.repeats, cfg.seed)?;
+    let only = cfg
+        .classes
+        .as_ref()
+        .map(|n| class_indices(n, &ds.classes))
+        .transpose()?;
+    let unit_norm = cfg.unit_norm.resolve(ds.view());
+    let knn_probe = KnnProbe::new(cfg.knn.clone())?;
+    let linear_probe = LinearProbe::new(cfg.linear.clone())?;
+
+    let bar = progress_bar(cfg.progress, folds.len() * augmenters.len());
+    let mut records = Vec::new();
+    let mut diagnostics = Vec::new();
+    let mut scatters = Vec::new();
+    let mut warnings = BTreeSet::new();
+    let mut grown_anywhere = BTreeSet::new();
+    for (fi, fold) in folds.iter().enumerate() {
+        let ctx = FoldContext::new(ds, fold, cfg, only.as_deref());
+        grown_anywhere.extend(ctx.grown.iter().copied());
+        let real_knn = cfg
+            .probes
+            .contains(&ProbeKind::Knn)
+            .then(|| neighbors::knn(ctx.test.view(), ctx.train.view(), cfg.knn.k, cfg.knn.metric));
+        let mut baseline_linear: Option<LinearModel> = None;
+        for augmenter in augmenters {
+            let kind = augmenter.kind();
+            bar.set_message(format!("fold {}/{} {}", fi + 1, folds.len(), kind.name()));
+            let grown = ctx.grow(augmenter.as_ref(), unit_norm, cfg.seed)?;
+            guard_no_test_rows(&grown.x, &ctx.train, &ctx.test, kind)?;
+            warnings.extend(describe_notes(&grown.notes, &ds.classes, kind));
+            let labels: Vec<u32> = ctx
+                .train
+                .labels
+                .iter()
+                .chain(&grown.labels)
+                .copied()
+                .collect();
+            for &probe in &cfg.probes {
+                let (pred, proba, converged) = match probe {
+                    ProbeKind::Knn => {
+                        let synthetic = neighbors::knn(
+                            ctx.test.view(),
+                            grown.x.view(),
+                            cfg.knn.k,
+                            cfg.knn.metric,
+                        );
+                        let real = real_knn
+                            .as_ref()
+                            .expect("computed when the knn probe is on");
+                        let merged = shared_knn::merge(
+                            real,
+                            &synthetic,
+                            ctx.train.n_rows() as u32,
+                            cfg.knn.k,
+                        );
+                        (
+                            knn_probe.predict_from_neighbours(&merged, &labels, ds.n_classes()),
+                            None,
+                            None,
+                        )
+                    }
+                    ProbeKind::Linear => {
+                        let x = stack(&ctx.train.x, &grown.x)?;
+                        let model = linear_probe.fit(
+                            x.view(),
+                            &labels,
+                            ds.n_classes(),
+                            baseline_linear.as_ref(),
+                        )?;
+                        if !model.converged {
+                            warnings.insert(format!(
+                                "the linear probe did not converge for {} (repeat {}, fold {}) after {} iterations; try a larger --linear-l2",
+                                kind.name(),
+                                fold.repeat + 1,
+                                fold.index + 1,
+                                model.iterations
+                            ));
+                        }
+                        let proba = model.predict_proba(ctx.test.view());
+                        let pred = model.predict(ctx.test.view());
+                        let converged = model.converged;
+                        if kind == MethodKind::None {
+                            baseline_linear = Some(model);
+                        }
+                        (pred, Some(proba), Some(converged))
+                    }
+                };
+                records.push(ctx.record(kind, probe, &grown, &pred, proba.as_ref(), converged));
+            }
+            if cfg.diagnostics && kind != MethodKind::None && grown.x.nrows() > 0 {
+                diagnostics.extend(ctx.diagnostics(kind, &grown, cfg)?);
+            }
+            if fi == 0 && kind != MethodKind::None {
+                scatters.extend(scatter::class_scatters(
+                    &ctx.train, &grown, &ctx.grown, kind,
+                ));
+            }
+            bar.inc(1);
+        }
+    }
+    bar.finish_and_clear();
+
+    let methods: Vec<String> = cfg.methods.iter().map(|m| m.name().to_string()).collect();
+    let probes: Vec<String> = cfg.probes.iter().map(|p| p.name().to_string()).collect();
+    let agg = summary::Aggregate::new(&records, &methods, &probes, &ds.classes, &grown_anywhere);
+    Ok(AssessResults {
+        embloom_version: env!("CARGO_PKG_VERSION").to_string(),
+        input,
+        config: serde_json::to_value(cfg).unwrap_or(serde_json::Value::Null),
+        seed: cfg.seed,
+        split: serde_json::to_value(split)
+            .ok()
+            .and_then(|v| v.as_str().map(str::to_string))
+            .unwrap_or_default(),
+        methods,
+        probes,
+        grown_classes: grown_anywhere
+            .iter()
+            .map(|&c| ds.classes[c as usize].clone())
+            .collect(),
+        summary: agg.summary(),
+        per_class: agg.per_class(),
+        sentences: agg.sentences(),
+        diagnostics: summary::average_diagnostics(&diagnostics),
+        scatter: scatters,
+        folds: records,
+        warnings: warnings.into_iter().collect(),
+        elapsed_seconds: started.elapsed().as_secs_f64(),
+    })
+}
+
+/// The real training and test rows of one fold and its growth plan.
+struct FoldContext<'a> {
+    fold: &'a Fold,
+    train: Dataset,
+    test: Dataset,
+    plan: Plan,
+    grown: Vec<u32>,
+}
+
+impl<'a> FoldContext<'a> {
+    fn new(ds: &Dataset, fold: &'a Fold, cfg: &AssessConfig, only: Option<&[u32]>) -> Self {
+        let train = ds.select(&fold.train);
+        let test = ds.select(&fold.test);
+        let plan = Plan::new(&train.class_counts(), cfg.target, only);
+        let grown = plan.grown_classes();
+        FoldContext {
+            fold,
+            train,
+            test,
+            plan,
+            grown,
+        }
+    }
+
+    /// Synthetic rows for this fold's training rows; the `none` baseline adds none.
+    fn grow(&self, augmenter: &dyn Augmenter, unit_norm: bool, seed: u64) -> Result<Grown> {
+        let kind = augmenter.kind();
+        let stream = [
+            seed::tag(kind.name()),
+            self.fold.repeat as u64,
+            self.fold.index as u64,
+        ];
+        augment::grow(&self.train, augmenter, &self.plan, unit_norm, seed, &stream)
+    }
+
+    fn record(
+        &self,
+        kind: MethodKind,
+        probe: ProbeKind,
+        grown: &Grown,
+        pred: &[u32],
+        proba: Option<&Array2<f64>>,
+        converged: Option<bool>,
+    ) -> FoldRecord {
+        let n_classes = self.train.n_classes();
+        let scores = score(&self.test.labels, pred, n_classes);
+        let mut metrics = vec![
+            ("accuracy".to_string(), scores.accuracy),
+            ("balanced_accuracy".to_string(), scores.balanced_accuracy),
+            ("macro_f1".to_string(), scores.macro_f1),
+            (
+                "grown_class_recall".to_string(),
+                grown_class_recall(&scores, &self.grown).unwrap_or(f64::NAN),
+            ),
+        ];
+        if let Some(p) = proba {
+            metrics.push((
+                "log_loss".to_string(),
+                log_loss(&self.test.labels, p.view()),
+            ));
+            metrics.push((
+                "ece".to_string(),
+                ece(&self.test.labels, p.view(), ECE_BINS),
+            ));
+        }
+        FoldRecord {
+            repeat: self.fold.repeat,
+            fold: self.fold.index,
+            method: kind.name().to_string(),
+            probe: probe.name().to_string(),
+            train_real: self.train.n_rows(),
+            train_synthetic: grown.x.nrows(),
+            test: self.test.n_rows(),
+            metrics,
+            class_recall: scores
+                .per_class
+                .iter()
+                .map(|c| if c.support > 0 { c.recall } else { f64::NAN })
+                .collect(),
+            converged,
+        }
+    }
+
+    fn diagnostics(
+        &self,
+        kind: MethodKind,
+        grown: &Grown,
+        cfg: &AssessConfig,
+    ) -> Result<Vec<DiagnosticRow>> {
+        let rows = class_diagnostics(
+            self.train.view(),
+            &self.train.labels,
+            grown.x.view(),
+            &grown.labels,
+            self.test.view(),
+            &self.test.labels,
+            &self.grown,
+            cfg.knn.metric,
+        );
+        Ok(rows
+            .into_iter()
+            .map(|d| DiagnosticRow {
+                method: kind.name().to_string(),
+                class: self.train.classes[d.class as usize].clone(),
+                synthetic_rows: d.synthetic as f64,
+                intrusion_synthetic: d.intrusion_synthetic,
+                intrusion_real: d.intrusion_real,
+                distance_ratio: d.distance_ratio,
+                precision: d.precision,
+                recall: d.recall,
+                density: d.density,
+                coverage: d.coverage,
+            })
+            .collect())
+    }
+}
+
+/// Real training rows on top of synthetic rows, for the linear probe.
+fn stack(real: &Array2<f32>, synthetic: &Array2<f32>) -> Result<Array2<f32>> {
+    concatenate(Axis(0), &[real.view(), synthetic.view()]).map_err(|e| {
+        Error::data(
+            format!("cannot stack synthetic rows: {e}"),
+            "report this as a bug",
+        )
+    })
+}
+
+/// Refuse synthetic rows that copy a test row of the fold (and no training row): the mark of
+/// an augmenter that saw held-out data.
+fn guard_no_test_rows(
+    synthetic: &Array2<f32>,
+    train: &Dataset,
+    test: &Dataset,
+    kind: MethodKind,
+) -> Result<()> {
+    if synthetic.nrows() == 0 {
+        return Ok(());
+    }
+    let bits = |r: ndarray::ArrayView1<f32>| r.iter().map(|v| v.to_bits()).collect::<Vec<u32>>();
+    let test_rows: HashSet<Vec<u32>> = test.x.rows().into_iter().map(bits).collect();
+    let train_rows: HashSet<Vec<u32>> = train.x.rows().into_iter().map(bits).collect();
+    for (i, row) in synthetic.rows().into_iter().enumerate() {
+        let b = bits(row);
+        if test_rows.contains(&b) && !train_rows.contains(&b) {
+            return Err(Error::data(
+                format!(
+                    "{kind} produced synthetic row {i} identical to a held-out test row: the augmenter saw test data"
+                ),
+                "fit augmenters on the fold's training rows only",
+            ));
+        }
+    }
+    Ok(())
+}
+
+fn progress_bar(show: bool, len: usize) -> ProgressBar {
+    if !show {
+        return ProgressBar::hidden();
+    }
+    let bar = ProgressBar::new(len as u64);
+    if let Ok(style) = ProgressStyle::with_template("{bar:30} {pos}/{len} {msg} [{elapsed}]") {
+        bar.set_style(style);
+    }
+    bar
+}

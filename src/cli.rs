@@ -1,0 +1,216 @@
+//! Command-line arguments, and their translation into the library's typed options.
+
+use std::path::PathBuf;
+
+use anyhow::Result;
+use clap::{Args, Parser, Subcommand};
+
+use embloom::augment::{AugmentParams, MethodKind, Target};
+use embloom::cmd::{self, options::UnitNorm};
+use embloom::io::ReadOptions;
+use embloom::neighbors::Metric;
+
+/// Feature-space augmentation for embedding matrices: grow rare classes by interpolating,
+/// extrapolating or adding principal-direction noise among same-class rows, and measure
+/// without leakage how each method moves a k-NN or linear probe.
+#[derive(Parser, Debug)]
+#[command(name = "embloom", version, about, long_about = None)]
+pub struct Cli {
+    #[command(subcommand)]
+    pub command: Command,
+    /// Worker threads (default: all cores). Results do not depend on it.
+    #[arg(long, global = true, value_name = "N")]
+    pub threads: Option<usize>,
+    /// No progress bars or summaries on stderr (errors are still printed).
+    #[arg(long, short, global = true)]
+    pub quiet: bool,
+}
+
+#[derive(Subcommand, Debug)]
+pub enum Command {
+    /// Show what is in an embedding file: rows, dims, classes, norms, NaN/Inf, duplicates.
+    Inspect {
+        #[command(flatten)]
+        input: InputArgs,
+        /// Print one JSON object on stdout.
+        #[arg(long)]
+        json: bool,
+    },
+    /// Write an augmented set: every real row, then synthetic rows with provenance.
+    Grow(GrowArgs),
+    /// Compare methods under a leakage-free cross-validation protocol (see `assess --help`).
+    Assess(Box<crate::cli_assess::AssessArgs>),
+    /// Make the invented street-sign demo data and run inspect, grow and assess on it.
+    Demo {
+        /// Folder for the demo's outputs.
+        #[arg(long, short, default_value = "embloom-demo-out")]
+        out: PathBuf,
+        /// Replace an existing output folder.
+        #[arg(long)]
+        force: bool,
+    },
+}
+
+/// Where the data is and which keys hold it.
+#[derive(Args, Debug, Clone)]
+pub struct InputArgs {
+    /// Embedding file: .npy, .npz, .csv, .tsv, .safetensors, .h5/.hdf5 (with the hdf5 feature).
+    pub file: PathBuf,
+    /// Labels for a .npy embedding file (a second .npy).
+    #[arg(long, value_name = "FILE")]
+    pub labels: Option<PathBuf>,
+    /// npz member, safetensors tensor or HDF5 dataset path of the embeddings.
+    #[arg(long, default_value = "embeddings", value_name = "KEY")]
+    pub embeddings_key: String,
+    /// npz member, safetensors tensor or HDF5 dataset path of the labels.
+    #[arg(long, default_value = "labels", value_name = "KEY")]
+    pub labels_key: String,
+    /// CSV/TSV column holding the labels.
+    #[arg(long, default_value = "label", value_name = "NAME")]
+    pub label_column: String,
+    /// Member or column holding a fold assignment (used by assess when present).
+    #[arg(long, default_value = "fold", value_name = "NAME")]
+    pub fold_key: String,
+    /// Skip rows with NaN/Inf instead of refusing the file.
+    #[arg(long)]
+    pub drop_nonfinite: bool,
+}
+
+impl InputArgs {
+    pub fn read_options(&self) -> ReadOptions {
+        ReadOptions {
+            labels_file: self.labels.clone(),
+            embeddings_key: self.embeddings_key.clone(),
+            labels_key: self.labels_key.clone(),
+            label_column: self.label_column.clone(),
+            fold_key: self.fold_key.clone(),
+            drop_nonfinite: self.drop_nonfinite,
+            ..ReadOptions::default()
+        }
+    }
+}
+
+/// How synthetic rows are made (shared by grow and assess).
+#[derive(Args, Debug, Clone)]
+pub struct MethodArgs {
+    /// Grow each class to: largest, median, a count N, or a factor xF of its own size.
+    #[arg(long, default_value = "median", value_parser = parse_target)]
+    pub target: Target,
+    /// Grow only these classes (comma-separated names).
+    #[arg(long, value_delimiter = ',', value_name = "A,B")]
+    pub classes: Option<Vec<String>>,
+    /// K nearest same-class neighbours for interpolate/extrapolate.
+    #[arg(long, default_value_t = 5, value_name = "K")]
+    pub neighbours: usize,
+    /// λ for extrapolate, noise scale for principal-noise and gaussian-noise (default 0.5).
+    #[arg(long, value_name = "X")]
+    pub magnitude: Option<f32>,
+    /// Share of a class's variance the principal-noise directions must explain.
+    #[arg(long, default_value_t = 0.95, value_name = "FRAC")]
+    pub variance_kept: f64,
+    /// Metric for same-class neighbours.
+    #[arg(long, default_value = "euclidean", value_parser = parse_metric)]
+    pub neighbour_metric: Metric,
+    /// Renormalise synthetic rows to unit norm: auto (when the input rows are), on, off.
+    #[arg(long, default_value = "auto", value_parser = parse_unit_norm)]
+    pub unit_norm: UnitNorm,
+    /// Make classes a method cannot grow (e.g. a single row) an error instead of a warning.
+    #[arg(long)]
+    pub strict: bool,
+    /// Seed for every random choice; the same seed gives the same output on any thread count.
+    #[arg(long, default_value_t = 0)]
+    pub seed: u64,
+}
+
+impl MethodArgs {
+    pub fn params(&self) -> AugmentParams {
+        AugmentParams {
+            neighbours: self.neighbours,
+            magnitude: self.magnitude,
+            variance_kept: self.variance_kept,
+            metric: self.neighbour_metric,
+            strict: self.strict,
+        }
+    }
+}
+
+#[derive(Args, Debug)]
+pub struct GrowArgs {
+    #[command(flatten)]
+    pub input: InputArgs,
+    /// Output file; its extension picks the format (.npz, .csv, .tsv, .safetensors, .h5).
+    #[arg(long, short)]
+    pub output: PathBuf,
+    /// none, interpolate (SMOTE), extrapolate, principal-noise, gaussian-noise.
+    #[arg(long, value_parser = parse_method)]
+    pub method: MethodKind,
+    #[command(flatten)]
+    pub how: MethodArgs,
+    /// Replace an existing output file.
+    #[arg(long)]
+    pub force: bool,
+    /// Print the summary as JSON on stdout.
+    #[arg(long)]
+    pub json: bool,
+}
+
+pub fn parse_target(s: &str) -> Result<Target, String> {
+    s.parse().map_err(|e: embloom::Error| e.to_string())
+}
+pub fn parse_method(s: &str) -> Result<MethodKind, String> {
+    s.parse().map_err(|e: embloom::Error| e.to_string())
+}
+pub fn parse_unit_norm(s: &str) -> Result<UnitNorm, String> {
+    s.parse().map_err(|e: embloom::Error| e.to_string())
+}
+pub fn parse_metric(s: &str) -> Result<Metric, String> {
+    match s {
+        "cosine" => Ok(Metric::Cosine),
+        "euclidean" => Ok(Metric::Euclidean),
+        _ => Err(format!("'{s}' is not a metric; use cosine or euclidean")),
+    }
+}
+
+/// Run one parsed command.
+pub fn run(cli: Cli) -> Result<()> {
+    if let Some(n) = cli.threads {
+        if n == 0 {
+            anyhow::bail!(
+                "invalid --threads: 0\n  fix: use 1 or more, or leave it out to use all cores"
+            );
+        }
+        rayon::ThreadPoolBuilder::new()
+            .num_threads(n)
+            .build_global()?;
+    }
+    let quiet = cli.quiet;
+    match cli.command {
+        Command::Inspect { input, json } => {
+            cmd::inspect::inspect(&input.file, &input.read_options(), json)?
+        }
+        Command::Grow(g) => {
+            let opts = cmd::grow::GrowOptions {
+                input: g.input.file.clone(),
+                output: g.output.clone(),
+                read: g.input.read_options(),
+                method: g.method,
+                target: g.how.target,
+                classes: g.how.classes.clone(),
+                params: g.how.params(),
+                unit_norm: g.how.unit_norm,
+                seed: g.how.seed,
+                force: g.force,
+                json: g.json,
+            };
+            let summary = cmd::grow::grow(&opts)?;
+            if g.json {
+                println!("{}", serde_json::to_string_pretty(&summary)?);
+            } else if !quiet {
+                eprint!("{}", summary.render());
+            }
+        }
+        Command::Assess(a) => crate::cli_assess::run(*a, quiet)?,
+        Command::Demo { out, force } => cmd::demo::demo(&out, force, quiet)?,
+    }
+    Ok(())
+}

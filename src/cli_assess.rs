@@ -1,0 +1,147 @@
+//! Arguments of `embloom assess`.
+
+use std::path::PathBuf;
+
+use anyhow::Result;
+use clap::Args;
+
+use crate::cli::{InputArgs, MethodArgs, parse_method, parse_metric};
+use embloom::augment::MethodKind;
+use embloom::cmd;
+use embloom::neighbors::Metric;
+use embloom::probe::ProbeKind;
+use embloom::probe::knn::{KnnParams, Vote};
+use embloom::probe::linear::{ClassWeight, LinearParams};
+
+/// Compare methods on k-NN and linear probes under stratified (or grouped, or given) k-fold
+/// cross-validation: each augmenter is fitted on a fold's real training rows only, and
+/// probes are scored on real held-out rows only. Differences against `none` are paired per
+/// fold, with 95% intervals from the corrected resampled t-test (Nadeau & Bengio 2003).
+#[derive(Args, Debug)]
+pub struct AssessArgs {
+    #[command(flatten)]
+    pub input: InputArgs,
+    /// Methods to compare (none, the baseline, is always included).
+    #[arg(long, value_delimiter = ',', default_value = "none,interpolate,extrapolate,principal-noise", value_parser = parse_method)]
+    pub methods: Vec<MethodKind>,
+    /// Probes: knn, linear.
+    #[arg(long, value_delimiter = ',', default_value = "knn,linear", value_parser = parse_probe)]
+    pub probes: Vec<ProbeKind>,
+    /// Number of folds (ignored when the file carries a fold assignment).
+    #[arg(long, default_value_t = 5)]
+    pub folds: usize,
+    /// Repeat the k-fold split with fresh shuffles (not for given folds).
+    #[arg(long, default_value_t = 1)]
+    pub repeats: usize,
+    #[command(flatten)]
+    pub how: MethodArgs,
+    /// k of the k-NN probe.
+    #[arg(long, default_value_t = 10)]
+    pub knn_k: usize,
+    /// Metric of the k-NN probe.
+    #[arg(long, default_value = "cosine", value_parser = parse_metric)]
+    pub knn_metric: Metric,
+    /// Vote of the k-NN probe: uniform, or weighted by exp(similarity / temperature).
+    #[arg(long, default_value = "uniform", value_parser = parse_vote)]
+    pub knn_vote: Vote,
+    /// Temperature of the weighted vote (Wu et al. 2018 use 0.07).
+    #[arg(long, default_value_t = 0.07)]
+    pub knn_temperature: f32,
+    /// L2 penalty λ of the linear probe (objective: mean cross-entropy + λ/2·‖W‖²).
+    #[arg(long, default_value_t = 1e-4)]
+    pub linear_l2: f64,
+    /// Standardise features for the linear probe (fitted on each fold's training rows).
+    #[arg(long, default_value = "on", value_parser = parse_on_off)]
+    pub linear_standardize: bool,
+    /// Class weights of the linear probe: none, balanced.
+    #[arg(long, default_value = "none", value_parser = parse_class_weight)]
+    pub linear_class_weight: ClassWeight,
+    /// Iteration cap of the linear probe's L-BFGS solver.
+    #[arg(long, default_value_t = 500)]
+    pub linear_max_iter: usize,
+    /// Skip the intrusion, distance and precision/recall/density/coverage diagnostics.
+    #[arg(long)]
+    pub no_diagnostics: bool,
+    /// Write results.json, CSV tables and report.html to this folder.
+    #[arg(long, value_name = "DIR")]
+    pub report: Option<PathBuf>,
+    /// Replace an existing report folder.
+    #[arg(long)]
+    pub force: bool,
+    /// Print results.json on stdout instead of the table.
+    #[arg(long)]
+    pub json: bool,
+}
+
+fn parse_probe(s: &str) -> Result<ProbeKind, String> {
+    s.parse().map_err(|e: embloom::Error| e.to_string())
+}
+fn parse_vote(s: &str) -> Result<Vote, String> {
+    match s {
+        "uniform" => Ok(Vote::Uniform),
+        "weighted" => Ok(Vote::Weighted),
+        _ => Err(format!("'{s}' is not a vote; use uniform or weighted")),
+    }
+}
+fn parse_on_off(s: &str) -> Result<bool, String> {
+    match s {
+        "on" => Ok(true),
+        "off" => Ok(false),
+        _ => Err(format!("'{s}': use on or off")),
+    }
+}
+fn parse_class_weight(s: &str) -> Result<ClassWeight, String> {
+    match s {
+        "none" => Ok(ClassWeight::None),
+        "balanced" => Ok(ClassWeight::Balanced),
+        _ => Err(format!("'{s}': use none or balanced")),
+    }
+}
+
+pub fn run(a: AssessArgs, quiet: bool) -> Result<()> {
+    let config = embloom::assess::AssessConfig {
+        methods: a.methods.clone(),
+        probes: a.probes.clone(),
+        folds: a.folds,
+        repeats: a.repeats,
+        target: a.how.target,
+        classes: a.how.classes.clone(),
+        augment: a.how.params(),
+        unit_norm: a.how.unit_norm,
+        knn: KnnParams {
+            k: a.knn_k,
+            metric: a.knn_metric,
+            vote: a.knn_vote,
+            temperature: a.knn_temperature,
+        },
+        linear: LinearParams {
+            l2: a.linear_l2,
+            standardize: a.linear_standardize,
+            class_weight: a.linear_class_weight,
+            max_iter: a.linear_max_iter,
+            ..LinearParams::default()
+        },
+        seed: a.how.seed,
+        diagnostics: !a.no_diagnostics,
+        progress: cmd::options::show_progress(quiet),
+    };
+    let opts = cmd::assess::AssessOptions {
+        input: a.input.file.clone(),
+        read: a.input.read_options(),
+        config,
+        report: a.report.clone(),
+        force: a.force,
+    };
+    let results = cmd::assess::run(&opts)?;
+    if a.json {
+        println!("{}", serde_json::to_string_pretty(&results)?);
+    } else {
+        print!("{}", embloom::report::terminal_table(&results));
+        if let Some(dir) = &a.report {
+            if !quiet {
+                eprintln!("report written to {}", dir.display());
+            }
+        }
+    }
+    Ok(())
+}

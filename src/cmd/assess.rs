@@ -1,0 +1,73 @@
+//! `embloom assess`: read, assess, and write the report folder.
+
+use std::io::Read;
+use std::path::{Path, PathBuf};
+
+use sha2::{Digest, Sha256};
+
+use crate::assess::{AssessConfig, AssessResults, InputInfo, assess};
+use crate::error::{Error, Result};
+use crate::io::{self, ReadOptions};
+
+#[derive(Debug, Clone)]
+pub struct AssessOptions {
+    pub input: PathBuf,
+    pub read: ReadOptions,
+    pub config: AssessConfig,
+    pub report: Option<PathBuf>,
+    pub force: bool,
+}
+
+/// Run an assessment and write its report folder when asked.
+pub fn run(opts: &AssessOptions) -> Result<AssessResults> {
+    if let Some(dir) = &opts.report {
+        if dir.exists() && !opts.force {
+            return Err(Error::output(
+                dir,
+                "already exists",
+                "pass --force to replace it, or choose another folder",
+            ));
+        }
+    }
+    let config = opts.config.clone().validated()?;
+    let loaded = io::read(&opts.input, &opts.read)?;
+    let ds = &loaded.dataset;
+    let input = InputInfo {
+        path: opts.input.display().to_string(),
+        sha256: sha256_of(&opts.input)?,
+        rows: ds.n_rows(),
+        dims: ds.dims(),
+        classes: ds.classes.clone(),
+        class_counts: ds.class_counts(),
+    };
+    let mut results = assess(ds, &config, input)?;
+    if loaded.dropped_nonfinite > 0 {
+        results.warnings.push(format!(
+            "{} input rows with NaN/Inf were skipped",
+            loaded.dropped_nonfinite
+        ));
+    }
+    if let Some(dir) = &opts.report {
+        crate::report::write_report_dir(dir, &results, opts.force)?;
+    }
+    Ok(results)
+}
+
+/// Hex SHA-256 of a file, so a report names exactly the data it was computed on.
+pub fn sha256_of(path: &Path) -> Result<String> {
+    let mut file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
+    let mut hasher = Sha256::new();
+    let mut buf = vec![0u8; 1 << 20];
+    loop {
+        let n = file.read(&mut buf).map_err(|e| Error::io(path, e))?;
+        if n == 0 {
+            break;
+        }
+        hasher.update(&buf[..n]);
+    }
+    Ok(hasher
+        .finalize()
+        .iter()
+        .map(|b| format!("{b:02x}"))
+        .collect())
+}

@@ -1,0 +1,160 @@
+//! `embloom inspect`: what is in an embedding file.
+
+use std::path::Path;
+
+use serde::Serialize;
+
+use crate::data::{Dataset, DatasetStats};
+use crate::error::Result;
+use crate::io::{self, ReadOptions};
+
+#[derive(Debug, Serialize)]
+pub struct ClassCount {
+    pub name: String,
+    pub count: usize,
+}
+
+/// The facts `inspect` reports.
+#[derive(Debug, Serialize)]
+pub struct Inspection {
+    pub file: String,
+    pub rows: usize,
+    pub dims: usize,
+    pub dtype: String,
+    /// Largest first; ties in first-seen order.
+    pub classes: Vec<ClassCount>,
+    /// Largest class count ÷ smallest.
+    pub imbalance_ratio: f64,
+    pub norm_min: f64,
+    pub norm_median: f64,
+    pub norm_max: f64,
+    pub unit_norm: bool,
+    pub nonfinite_rows: usize,
+    pub first_nonfinite_row: Option<usize>,
+    pub duplicate_rows: usize,
+    pub has_groups: bool,
+    pub has_ids: bool,
+    pub has_folds: bool,
+}
+
+impl Inspection {
+    pub fn of(file: &Path, ds: &Dataset) -> Inspection {
+        let stats = DatasetStats::of(ds);
+        let counts = ds.class_counts();
+        let mut classes: Vec<ClassCount> = ds
+            .classes
+            .iter()
+            .zip(&counts)
+            .map(|(n, &c)| ClassCount {
+                name: n.clone(),
+                count: c,
+            })
+            .collect();
+        classes.sort_by(|a, b| b.count.cmp(&a.count));
+        let max = classes.first().map_or(0, |c| c.count);
+        let min = classes.last().map_or(0, |c| c.count);
+        Inspection {
+            file: file.display().to_string(),
+            rows: stats.rows,
+            dims: stats.dims,
+            dtype: ds.stored_dtype.clone(),
+            classes,
+            imbalance_ratio: if min > 0 {
+                max as f64 / min as f64
+            } else {
+                f64::NAN
+            },
+            norm_min: stats.norm_min,
+            norm_median: stats.norm_median,
+            norm_max: stats.norm_max,
+            unit_norm: stats.unit_norm,
+            nonfinite_rows: stats.nonfinite.count,
+            first_nonfinite_row: stats.nonfinite.first_row,
+            duplicate_rows: stats.duplicate_rows,
+            has_groups: ds.groups.is_some(),
+            has_ids: ds.ids.is_some(),
+            has_folds: ds.folds.is_some(),
+        }
+    }
+
+    /// A human-readable rendering.
+    pub fn render(&self) -> String {
+        let mut s = String::new();
+        s += &format!("{}\n", self.file);
+        s += &format!(
+            "  rows {}  dims {}  stored as {}\n",
+            self.rows, self.dims, self.dtype
+        );
+        s += &format!(
+            "  row norms min {:.4}  median {:.4}  max {:.4}  ({})\n",
+            self.norm_min,
+            self.norm_median,
+            self.norm_max,
+            if self.unit_norm {
+                "unit-norm"
+            } else {
+                "not unit-norm"
+            }
+        );
+        match self.first_nonfinite_row {
+            Some(r) => {
+                s += &format!(
+                    "  rows with NaN/Inf: {} (first at row {r})\n",
+                    self.nonfinite_rows
+                )
+            }
+            None => s += "  rows with NaN/Inf: 0\n",
+        }
+        s += &format!("  exact duplicate rows: {}\n", self.duplicate_rows);
+        let extras: Vec<&str> = [
+            (self.has_ids, "ids"),
+            (self.has_groups, "groups"),
+            (self.has_folds, "folds"),
+        ]
+        .iter()
+        .filter(|(h, _)| *h)
+        .map(|(_, n)| *n)
+        .collect();
+        if !extras.is_empty() {
+            s += &format!("  carries: {}\n", extras.join(", "));
+        }
+        s += &format!(
+            "  {} classes, imbalance ratio {:.1} (largest ÷ smallest)\n",
+            self.classes.len(),
+            self.imbalance_ratio
+        );
+        let width = self
+            .classes
+            .iter()
+            .map(|c| c.name.chars().count())
+            .max()
+            .unwrap_or(5)
+            .max(5);
+        for c in &self.classes {
+            s += &format!(
+                "    {:<width$}  {:>7}  {:5.1}%\n",
+                c.name,
+                c.count,
+                100.0 * c.count as f64 / self.rows.max(1) as f64
+            );
+        }
+        s
+    }
+}
+
+/// Run `inspect` on `path`. Non-finite rows are counted, not refused.
+pub fn inspect(path: &Path, read: &ReadOptions, json: bool) -> Result<()> {
+    let mut read = read.clone();
+    read.keep_nonfinite = true;
+    let loaded = io::read(path, &read)?;
+    let report = Inspection::of(path, &loaded.dataset);
+    if json {
+        println!(
+            "{}",
+            serde_json::to_string_pretty(&report).expect("inspection serialises")
+        );
+    } else {
+        print!("{}", report.render());
+    }
+    Ok(())
+}
