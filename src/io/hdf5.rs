@@ -157,6 +157,14 @@ fn tensor(file: &File, path: &Path, key: &str) -> Result<Tensor> {
             (Values::Text(v), "str".into())
         }
         TypeDescriptor::FixedAscii(w) | TypeDescriptor::FixedUnicode(w) => {
+            if *w > 1024 {
+                return Err(Error::input_at(
+                    path,
+                    format!("key '{key}'"),
+                    format!("fixed-length strings of {w} bytes are wider than the 1024 supported"),
+                    "store the strings as variable-length (h5py.string_dtype())",
+                ));
+            }
             let unicode = matches!(desc, TypeDescriptor::FixedUnicode(_));
             let raw = fixed_strings(&ds, *w, unicode).map_err(e)?;
             let v = raw

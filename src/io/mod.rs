@@ -240,7 +240,6 @@ pub fn write(path: &Path, set: &AugmentedSet, force: bool) -> Result<()> {
         ));
     }
     let export = export::prepare(path, set)?;
-    atomic::check_target(path, force)?;
     atomic::write_with(path, force, |tmp| match format {
         Format::Npz => {
             let file = std::fs::OpenOptions::new()
