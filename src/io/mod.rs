@@ -2,10 +2,33 @@
 //! file's extension and the keys by options. Every reader yields the same [`Dataset`]; every
 //! writer goes through [`atomic`] so a crash never leaves half a file under the target name.
 
+//!
+//! | extension | read | write |
+//! |---|---|---|
+//! | `.npy` | embeddings; labels from `labels_file` | refused (one array cannot hold labels and provenance) |
+//! | `.npz` | members by key; `ids`, `groups`, fold carried | uncompressed archive |
+//! | `.csv` / `.tsv` | header row; label, `id`, `group`, fold columns; the rest are features | same layout |
+//! | `.safetensors` | tensors by key | text columns as I64 codes, names in `__metadata__` |
+//! | `.h5` / `.hdf5` | datasets by path (feature `hdf5`) | variable-length UTF-8 strings |
+
+mod assemble;
+mod atomic;
+mod csv;
+mod export;
+#[cfg(feature = "hdf5")]
+mod hdf5;
+mod npy;
+mod npz;
+mod pyliteral;
+mod safetensors;
+mod tensor;
+
 use std::path::{Path, PathBuf};
 
 use crate::data::Dataset;
-use crate::error::Result;
+use crate::error::{Error, Result};
+
+pub use atomic::write_with as write_atomically;
 
 /// Where to find each piece of a dataset inside a file.
 #[derive(Debug, Clone)]
@@ -57,17 +80,186 @@ pub struct AugmentedSet {
     pub weight: Vec<f32>,
 }
 
+/// The file formats embloom knows, by extension.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Format {
+    Npy,
+    Npz,
+    Csv,
+    Tsv,
+    Safetensors,
+    Hdf5,
+}
+
+/// Extensions accepted, for messages.
+pub const SUPPORTED: &str = ".npy, .npz, .csv, .tsv, .safetensors, .h5, .hdf5";
+
+impl Format {
+    /// The format of `path`, from its (case-insensitive) extension.
+    pub fn of(path: &Path) -> Result<Format> {
+        let ext = path
+            .extension()
+            .map(|e| e.to_string_lossy().to_ascii_lowercase())
+            .unwrap_or_default();
+        Ok(match ext.as_str() {
+            "npy" => Format::Npy,
+            "npz" => Format::Npz,
+            "csv" => Format::Csv,
+            "tsv" => Format::Tsv,
+            "safetensors" => Format::Safetensors,
+            "h5" | "hdf5" => Format::Hdf5,
+            _ => {
+                let found = if ext.is_empty() {
+                    "no extension".to_string()
+                } else {
+                    format!("extension '.{ext}'")
+                };
+                return Err(Error::input(
+                    path,
+                    format!("{found} is not a supported format"),
+                    format!("use one of {SUPPORTED}"),
+                ));
+            }
+        })
+    }
+}
+
+#[cfg(not(feature = "hdf5"))]
+fn no_hdf5(path: &Path) -> Error {
+    Error::input(
+        path,
+        "this build of embloom has no HDF5 support",
+        "rebuild with `cargo build --release --features hdf5` (needs libhdf5-dev), or convert the file to .npz",
+    )
+}
+
+fn require_file(path: &Path, what: &str) -> Result<()> {
+    match std::fs::metadata(path) {
+        Ok(m) if m.is_file() => Ok(()),
+        Ok(_) => Err(Error::input(
+            path,
+            format!("{what} is not a regular file"),
+            "give the path of a file",
+        )),
+        Err(e) if e.kind() == std::io::ErrorKind::NotFound => Err(Error::input(
+            path,
+            format!("{what} not found"),
+            "check the path",
+        )),
+        Err(e) => Err(Error::io(path, e)),
+    }
+}
+
+/// A `.npy` embeddings file plus its separate labels file.
+fn read_npy(path: &Path, opts: &ReadOptions) -> Result<assemble::Parts> {
+    let (x, stored_dtype) = npy::read_file(path, "array")?.into_matrix(path, "array")?;
+    let Some(lp) = opts.labels_file.as_deref() else {
+        return Err(Error::input(
+            path,
+            "a .npy file holds only the embeddings; the labels must come from a second file",
+            "pass --labels FILE (a .npy array with one label per row), or use .npz/.csv/.safetensors/.h5",
+        ));
+    };
+    require_file(lp, "labels file")?;
+    if Format::of(lp)? != Format::Npy {
+        return Err(Error::input(
+            lp,
+            "the labels file must be a .npy array",
+            "save the labels with numpy.save(FILE.npy, labels)",
+        ));
+    }
+    let labels = npy::read_file(lp, "array")?.into_labels(lp, "array")?;
+    Ok(assemble::Parts {
+        x,
+        stored_dtype,
+        x_source: format!("embeddings {}", path.display()),
+        labels,
+        labels_source: format!("labels file {}", lp.display()),
+        ids: None,
+        groups: None,
+        folds: None,
+        row_lines: None,
+    })
+}
+
 /// Read any supported format, chosen by extension.
 pub fn read(path: &Path, opts: &ReadOptions) -> Result<Loaded> {
-    let _ = (path, opts);
-    todo!("io helper")
+    let format = Format::of(path)?;
+    require_file(path, "input file")?;
+    let parts = match format {
+        Format::Npy => read_npy(path, opts)?,
+        Format::Npz => npz::read(path, opts)?,
+        Format::Csv => csv::read(path, ',', opts)?,
+        Format::Tsv => csv::read(path, '\t', opts)?,
+        Format::Safetensors => safetensors::read(path, opts)?,
+        #[cfg(feature = "hdf5")]
+        Format::Hdf5 => hdf5::read(path, opts)?,
+        #[cfg(not(feature = "hdf5"))]
+        Format::Hdf5 => return Err(no_hdf5(path)),
+    };
+    assemble::finish(path, parts, opts.drop_nonfinite)
+}
+
+/// Runs a stream writer on a buffered file at `tmp`.
+fn stream(
+    tmp: &Path,
+    f: impl FnOnce(&mut dyn std::io::Write) -> std::io::Result<()>,
+) -> Result<()> {
+    let file = std::fs::OpenOptions::new()
+        .write(true)
+        .truncate(true)
+        .open(tmp)
+        .map_err(|e| Error::io(tmp, e))?;
+    let mut w = std::io::BufWriter::new(file);
+    f(&mut w).map_err(|e| Error::io(tmp, e))
 }
 
 /// Write an augmented set in the format of `path`'s extension. Refuses an existing file
-/// unless `force`.
+/// unless `force`. The file appears complete or not at all (see [`atomic`]).
 pub fn write(path: &Path, set: &AugmentedSet, force: bool) -> Result<()> {
-    let _ = (path, set, force);
-    todo!("io helper")
+    let format = Format::of(path).map_err(|_| {
+        Error::output(
+            path,
+            "unknown output extension",
+            "name the output with one of .npz, .csv, .tsv, .safetensors, .h5",
+        )
+    })?;
+    if format == Format::Npy {
+        return Err(Error::output(
+            path,
+            "a .npy file holds one array and cannot keep the labels and provenance",
+            "use .npz, .csv, .safetensors or .h5 to keep labels and provenance",
+        ));
+    }
+    #[cfg(not(feature = "hdf5"))]
+    if format == Format::Hdf5 {
+        return Err(Error::output(
+            path,
+            "this build of embloom has no HDF5 support",
+            "rebuild with `--features hdf5`, or write .npz",
+        ));
+    }
+    let export = export::prepare(path, set)?;
+    atomic::write_with(path, force, |tmp| match format {
+        Format::Npz => {
+            let file = std::fs::OpenOptions::new()
+                .write(true)
+                .truncate(true)
+                .open(tmp)
+                .map_err(|e| Error::io(tmp, e))?;
+            npz::write(file, &export).map_err(|e| Error::io(tmp, e))
+        }
+        Format::Csv => stream(tmp, |w| csv::write(w, ',', &export)),
+        Format::Tsv => stream(tmp, |w| csv::write(w, '\t', &export)),
+        Format::Safetensors => stream(tmp, |w| safetensors::write(w, &export)),
+        #[cfg(feature = "hdf5")]
+        Format::Hdf5 => hdf5::write(tmp, &export),
+        _ => Err(Error::output(
+            path,
+            "unsupported output format",
+            "use .npz, .csv, .safetensors or .h5",
+        )),
+    })
 }
 
 impl AugmentedSet {

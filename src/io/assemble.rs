@@ -1,0 +1,159 @@
+//! The checks every reader shares, applied once the pieces of a dataset have been decoded:
+//! lengths agree, the matrix is not empty, non-finite rows are refused or dropped, and labels
+//! become class indices.
+
+use std::path::Path;
+
+use ndarray::{Array2, Axis};
+
+use super::Loaded;
+use crate::data::{Dataset, RawLabels, encode_labels};
+use crate::error::{Error, Result};
+
+/// The decoded pieces of a dataset, before the shared checks.
+pub struct Parts {
+    pub x: Array2<f32>,
+    pub stored_dtype: String,
+    /// Where the embeddings came from ("key 'embeddings'", "features", ...), for messages.
+    pub x_source: String,
+    pub labels: RawLabels,
+    /// Where the labels came from, for messages.
+    pub labels_source: String,
+    pub ids: Option<(String, Vec<String>)>,
+    pub groups: Option<(String, Vec<String>)>,
+    pub folds: Option<(String, Vec<i64>)>,
+    /// Text-file line number of each row, so messages can point into the file.
+    pub row_lines: Option<Vec<usize>>,
+}
+
+fn row_name(lines: &Option<Vec<usize>>, row: usize) -> String {
+    match lines.as_ref().and_then(|l| l.get(row)) {
+        Some(line) => format!("row {row}, line {line}"),
+        None => format!("row {row}"),
+    }
+}
+
+fn keep<T: Clone>(v: Vec<T>, mask: &[bool]) -> Vec<T> {
+    v.into_iter()
+        .zip(mask)
+        .filter(|(_, k)| **k)
+        .map(|(x, _)| x)
+        .collect()
+}
+
+fn keep_labels(raw: RawLabels, mask: &[bool]) -> RawLabels {
+    match raw {
+        RawLabels::Int(v) => RawLabels::Int(keep(v, mask)),
+        RawLabels::Float(v) => RawLabels::Float(keep(v, mask)),
+        RawLabels::Text(v) => RawLabels::Text(keep(v, mask)),
+    }
+}
+
+/// Applies the shared checks and builds the dataset.
+pub fn finish(path: &Path, parts: Parts, drop_nonfinite: bool) -> Result<Loaded> {
+    let Parts {
+        x,
+        stored_dtype,
+        x_source,
+        labels,
+        labels_source,
+        ids,
+        groups,
+        folds,
+        row_lines,
+    } = parts;
+    let n = x.nrows();
+    if labels.len() != n {
+        return Err(Error::input_at(
+            path,
+            format!("{x_source} vs {labels_source}"),
+            format!("{} labels for {n} embedding rows", labels.len()),
+            "give exactly one label per embedding row (check the labels key or file)",
+        ));
+    }
+    for (what, len) in [
+        (
+            ids.as_ref().map(|(k, _)| k),
+            ids.as_ref().map(|(_, v)| v.len()),
+        ),
+        (
+            groups.as_ref().map(|(k, _)| k),
+            groups.as_ref().map(|(_, v)| v.len()),
+        ),
+        (
+            folds.as_ref().map(|(k, _)| k),
+            folds.as_ref().map(|(_, v)| v.len()),
+        ),
+    ] {
+        if let (Some(key), Some(len)) = (what, len)
+            && len != n
+        {
+            return Err(Error::input_at(
+                path,
+                format!("{key} vs {x_source}"),
+                format!("{len} values for {n} embedding rows"),
+                "give exactly one value per embedding row, or remove the member",
+            ));
+        }
+    }
+    if n == 0 {
+        return Err(Error::input_at(
+            path,
+            x_source,
+            "the embedding matrix has zero rows",
+            "give a file with at least one row",
+        ));
+    }
+    if x.ncols() == 0 {
+        return Err(Error::input_at(
+            path,
+            x_source,
+            "the embedding matrix has zero columns",
+            "give a file with at least one feature column",
+        ));
+    }
+    let finite: Vec<bool> = x
+        .rows()
+        .into_iter()
+        .map(|r| r.iter().all(|v| v.is_finite()))
+        .collect();
+    let dropped = finite.iter().filter(|f| !**f).count();
+    let (x, labels, ids, groups, folds) = if dropped == 0 {
+        (x, labels, ids, groups, folds)
+    } else if !drop_nonfinite {
+        let first = finite.iter().position(|f| !*f).unwrap_or(0);
+        return Err(Error::input_at(
+            path,
+            format!("{x_source}, {}", row_name(&row_lines, first)),
+            format!("{dropped} row(s) hold NaN or infinite values; the first is row {first}"),
+            "fix the embeddings, or pass --drop-nonfinite to skip those rows",
+        ));
+    } else {
+        if dropped == n {
+            return Err(Error::input_at(
+                path,
+                x_source,
+                "every row holds NaN or infinite values",
+                "fix the embeddings",
+            ));
+        }
+        let rows: Vec<usize> = (0..n).filter(|&i| finite[i]).collect();
+        (
+            x.select(Axis(0), &rows),
+            keep_labels(labels, &finite),
+            ids.map(|(k, v)| (k, keep(v, &finite))),
+            groups.map(|(k, v)| (k, keep(v, &finite))),
+            folds.map(|(k, v)| (k, keep(v, &finite))),
+        )
+    };
+    let (codes, classes) = encode_labels(labels, path, &labels_source)?;
+    let mut dataset = Dataset::new(x, codes, classes);
+    dataset.ids = ids.map(|(_, v)| v);
+    dataset.groups = groups.map(|(_, v)| v);
+    dataset.folds = folds.map(|(_, v)| v);
+    dataset.stored_dtype = stored_dtype;
+    Ok(Loaded {
+        dataset,
+        dropped_nonfinite: dropped,
+    })
+}

@@ -1,0 +1,442 @@
+//! The `.npy` array format (numpy's NEP 1): magic, version, a Python-literal header dict, then
+//! raw element bytes. Parsed by hand so that object arrays are refused (never unpickled) and
+//! every size is checked against the bytes actually present *before* anything is allocated.
+
+use std::path::Path;
+
+use ndarray::{ArrayD, IxDyn, ShapeBuilder};
+
+use super::pyliteral::{self, Literal};
+use super::tensor::{Tensor, Values};
+use crate::error::{Error, Result};
+
+const MAGIC: &[u8] = b"\x93NUMPY";
+
+/// Element kinds embloom can decode.
+#[derive(Debug, Clone, Copy, PartialEq)]
+enum Kind {
+    Float,
+    Int,
+    Uint,
+    Bool,
+    /// numpy `U`: UCS-4 code points.
+    Unicode,
+    /// numpy `S`: NUL-padded bytes.
+    Bytes,
+}
+
+#[derive(Debug, Clone, Copy)]
+struct Dtype {
+    kind: Kind,
+    /// Bytes per element.
+    size: usize,
+    big_endian: bool,
+}
+
+struct Header {
+    dtype: Dtype,
+    descr: String,
+    fortran: bool,
+    shape: Vec<usize>,
+    data_start: usize,
+}
+
+fn bad(path: &Path, key: &str, detail: impl Into<String>) -> Error {
+    Error::input_at(
+        path,
+        format!("key '{key}'"),
+        detail,
+        "rewrite the array with numpy.save (a plain numeric or string array)",
+    )
+}
+
+fn parse_descr(descr: &str) -> std::result::Result<Dtype, String> {
+    let (order, rest) = match descr.chars().next() {
+        Some(c @ ('<' | '>' | '|' | '=')) => (c, &descr[1..]),
+        _ => ('=', descr),
+    };
+    let big_endian = order == '>' || (order == '=' && cfg!(target_endian = "big"));
+    let mut chars = rest.chars();
+    let kind_char = chars.next().ok_or("empty dtype")?;
+    let count: &str = chars.as_str();
+    if kind_char == 'O' {
+        return Err(format!(
+            "dtype '{descr}' is a Python object array; embloom never unpickles files. Save a numeric or fixed-width string array instead"
+        ));
+    }
+    let n: usize = count
+        .parse()
+        .map_err(|_| format!("unsupported dtype '{descr}'"))?;
+    let (kind, size) = match (kind_char, n) {
+        ('f', 2 | 4 | 8) => (Kind::Float, n),
+        ('i', 1 | 2 | 4 | 8) => (Kind::Int, n),
+        ('u', 1 | 2 | 4 | 8) => (Kind::Uint, n),
+        ('b', 1) => (Kind::Bool, 1),
+        ('U', _) => (
+            Kind::Unicode,
+            n.checked_mul(4).ok_or("string width too large")?,
+        ),
+        ('S', _) => (Kind::Bytes, n),
+        _ => {
+            return Err(format!(
+                "unsupported dtype '{descr}' (accepted: float16/32/64, integers, bool, 'U' and 'S' strings)"
+            ));
+        }
+    };
+    Ok(Dtype {
+        kind,
+        size,
+        big_endian,
+    })
+}
+
+fn parse_header(bytes: &[u8], path: &Path, key: &str) -> Result<Header> {
+    if bytes.len() < 10 || &bytes[..6] != MAGIC {
+        return Err(bad(
+            path,
+            key,
+            "not a .npy array (magic bytes \\x93NUMPY missing)",
+        ));
+    }
+    let major = bytes[6];
+    let (len, start): (usize, usize) = match major {
+        1 => (u16::from_le_bytes([bytes[8], bytes[9]]) as usize, 10),
+        2 | 3 => {
+            if bytes.len() < 12 {
+                return Err(bad(path, key, "file ends inside the .npy header"));
+            }
+            (
+                u32::from_le_bytes([bytes[8], bytes[9], bytes[10], bytes[11]]) as usize,
+                12,
+            )
+        }
+        v => {
+            return Err(bad(
+                path,
+                key,
+                format!(".npy format version {v} is not supported (1, 2 or 3 expected)"),
+            ));
+        }
+    };
+    let end = start
+        .checked_add(len)
+        .filter(|&e| e <= bytes.len())
+        .ok_or_else(|| {
+            bad(
+                path,
+                key,
+                "file ends inside the .npy header (truncated file?)",
+            )
+        })?;
+    let text = std::str::from_utf8(&bytes[start..end])
+        .map_err(|_| bad(path, key, ".npy header is not text"))?;
+    let items = match pyliteral::parse(text)
+        .map_err(|e| bad(path, key, format!("unreadable .npy header: {e}")))?
+    {
+        Literal::Dict(items) => items,
+        _ => return Err(bad(path, key, ".npy header is not a dict")),
+    };
+    let get = |name: &str| items.iter().find(|(k, _)| k == name).map(|(_, v)| v);
+    let descr = match get("descr") {
+        Some(Literal::Str(s)) => s.clone(),
+        Some(_) => {
+            return Err(bad(
+                path,
+                key,
+                "structured (record) dtypes are not supported",
+            ));
+        }
+        None => return Err(bad(path, key, ".npy header has no 'descr'")),
+    };
+    let fortran = match get("fortran_order") {
+        Some(Literal::Bool(b)) => *b,
+        _ => return Err(bad(path, key, ".npy header has no boolean 'fortran_order'")),
+    };
+    let shape = match get("shape") {
+        Some(Literal::Seq(dims)) => dims
+            .iter()
+            .map(|d| match d {
+                Literal::Int(n) => {
+                    usize::try_from(*n).map_err(|_| bad(path, key, "shape too large"))
+                }
+                _ => Err(bad(path, key, "shape holds a non-integer")),
+            })
+            .collect::<Result<Vec<usize>>>()?,
+        _ => return Err(bad(path, key, ".npy header has no 'shape' tuple")),
+    };
+    let dtype = parse_descr(&descr).map_err(|e| bad(path, key, e))?;
+    Ok(Header {
+        dtype,
+        descr,
+        fortran,
+        shape,
+        data_start: end,
+    })
+}
+
+/// Decodes a complete `.npy` image held in memory.
+pub fn decode(bytes: &[u8], path: &Path, key: &str) -> Result<Tensor> {
+    let h = parse_header(bytes, path, key)?;
+    let data = &bytes[h.data_start..];
+    // Checked before any allocation: a header may claim any shape.
+    let count = h
+        .shape
+        .iter()
+        .try_fold(1usize, |acc, &d| acc.checked_mul(d));
+    let need = count.and_then(|c| c.checked_mul(h.dtype.size));
+    let (count, need) = match (count, need) {
+        (Some(c), Some(n)) => (c, n),
+        _ => {
+            return Err(bad(
+                path,
+                key,
+                format!("header shape {:?} is impossibly large", h.shape),
+            ));
+        }
+    };
+    if need != data.len() {
+        return Err(bad(
+            path,
+            key,
+            format!(
+                "header shape {:?} of {} needs {need} data bytes but the file holds {} (truncated or corrupt file)",
+                h.shape,
+                h.descr,
+                data.len()
+            ),
+        ));
+    }
+    let values = decode_values(data, count, h.dtype, path, key)?;
+    let values = if h.fortran && h.shape.len() > 1 {
+        to_c_order(values, &h.shape)
+    } else {
+        values
+    };
+    let dtype = match (h.dtype.kind, h.dtype.size) {
+        (Kind::Float, n) => format!("f{}", n * 8),
+        (Kind::Int, n) => format!("i{}", n * 8),
+        (Kind::Uint, n) => format!("u{}", n * 8),
+        (Kind::Bool, _) => "bool".into(),
+        _ => h.descr.trim_start_matches(['<', '>', '|', '=']).to_string(),
+    };
+    Ok(Tensor {
+        shape: h.shape,
+        values,
+        dtype,
+    })
+}
+
+fn word<const N: usize>(chunk: &[u8], big: bool) -> [u8; N] {
+    let mut w = [0u8; N];
+    w.copy_from_slice(chunk);
+    if big {
+        w.reverse();
+    }
+    w
+}
+
+fn decode_values(data: &[u8], count: usize, dt: Dtype, path: &Path, key: &str) -> Result<Values> {
+    let big = dt.big_endian;
+    // Zero-width string dtypes have no bytes to chunk; every element is "".
+    if dt.size == 0 {
+        return Ok(Values::Text(vec![String::new(); count]));
+    }
+    let chunks = data.chunks_exact(dt.size);
+    Ok(match (dt.kind, dt.size) {
+        (Kind::Float, 2) => Values::F32(
+            chunks
+                .map(|c| half::f16::from_bits(u16::from_le_bytes(word(c, big))).to_f32())
+                .collect(),
+        ),
+        (Kind::Float, 4) => Values::F32(chunks.map(|c| f32::from_le_bytes(word(c, big))).collect()),
+        (Kind::Float, _) => Values::F64(chunks.map(|c| f64::from_le_bytes(word(c, big))).collect()),
+        (Kind::Int, 1) => Values::Int(chunks.map(|c| i64::from(c[0] as i8)).collect()),
+        (Kind::Int, 2) => Values::Int(
+            chunks
+                .map(|c| i64::from(i16::from_le_bytes(word(c, big))))
+                .collect(),
+        ),
+        (Kind::Int, 4) => Values::Int(
+            chunks
+                .map(|c| i64::from(i32::from_le_bytes(word(c, big))))
+                .collect(),
+        ),
+        (Kind::Int, _) => Values::Int(chunks.map(|c| i64::from_le_bytes(word(c, big))).collect()),
+        (Kind::Bool, _) => Values::Int(chunks.map(|c| i64::from(c[0] != 0)).collect()),
+        (Kind::Uint, 1) => Values::Int(chunks.map(|c| i64::from(c[0])).collect()),
+        (Kind::Uint, 2) => Values::Int(
+            chunks
+                .map(|c| i64::from(u16::from_le_bytes(word(c, big))))
+                .collect(),
+        ),
+        (Kind::Uint, 4) => Values::Int(
+            chunks
+                .map(|c| i64::from(u32::from_le_bytes(word(c, big))))
+                .collect(),
+        ),
+        (Kind::Uint, _) => {
+            let mut out = Vec::with_capacity(count);
+            for (row, c) in chunks.enumerate() {
+                let v = u64::from_le_bytes(word(c, big));
+                out.push(i64::try_from(v).map_err(|_| {
+                    bad(
+                        path,
+                        key,
+                        format!("row {row}: value {v} does not fit a signed 64-bit integer"),
+                    )
+                })?);
+            }
+            Values::Int(out)
+        }
+        (Kind::Unicode, _) => {
+            let mut out = Vec::with_capacity(count);
+            for (row, c) in chunks.enumerate() {
+                let mut s = String::new();
+                for cp in c.chunks_exact(4) {
+                    let u = u32::from_le_bytes(word(cp, big));
+                    if u == 0 {
+                        break;
+                    }
+                    s.push(char::from_u32(u).ok_or_else(|| {
+                        bad(path, key, format!("row {row}: invalid code point {u:#x}"))
+                    })?);
+                }
+                out.push(s);
+            }
+            Values::Text(out)
+        }
+        (Kind::Bytes, _) => {
+            let mut out = Vec::with_capacity(count);
+            for (row, c) in chunks.enumerate() {
+                let end = c.iter().rposition(|&b| b != 0).map_or(0, |p| p + 1);
+                let s = std::str::from_utf8(&c[..end])
+                    .map_err(|_| bad(path, key, format!("row {row}: byte string is not UTF-8")))?;
+                out.push(s.to_string());
+            }
+            Values::Text(out)
+        }
+    })
+}
+
+/// Reorders Fortran-order (column-major) values into C order for the same logical shape.
+fn to_c_order(values: Values, shape: &[usize]) -> Values {
+    fn reorder<T: Clone>(v: Vec<T>, shape: &[usize]) -> Vec<T> {
+        match ArrayD::from_shape_vec(IxDyn(shape).f(), v) {
+            Ok(a) => a.iter().cloned().collect(),
+            // Unreachable: decode() checked the element count against the shape.
+            Err(e) => unreachable!("shape checked before reorder: {e}"),
+        }
+    }
+    match values {
+        Values::F32(v) => Values::F32(reorder(v, shape)),
+        Values::F64(v) => Values::F64(reorder(v, shape)),
+        Values::Int(v) => Values::Int(reorder(v, shape)),
+        Values::Text(v) => Values::Text(reorder(v, shape)),
+    }
+}
+
+/// Element payloads embloom writes.
+pub enum Payload<'a> {
+    F32(&'a [f32]),
+    I64(&'a [i64]),
+    Text(&'a [String]),
+}
+
+/// A version 1.0 `.npy` image (version 2.0 when the header would not fit 65535 bytes).
+pub fn encode(shape: &[usize], payload: Payload<'_>) -> Vec<u8> {
+    let (descr, body): (String, Vec<u8>) = match payload {
+        Payload::F32(v) => (
+            "<f4".into(),
+            v.iter().flat_map(|x| x.to_le_bytes()).collect(),
+        ),
+        Payload::I64(v) => (
+            "<i8".into(),
+            v.iter().flat_map(|x| x.to_le_bytes()).collect(),
+        ),
+        Payload::Text(v) => {
+            let width = v
+                .iter()
+                .map(|s| s.chars().count())
+                .max()
+                .unwrap_or(0)
+                .max(1);
+            let mut body = Vec::with_capacity(v.len() * width * 4);
+            for s in v {
+                let n = s.chars().count();
+                body.extend(s.chars().flat_map(|c| u32::from(c).to_le_bytes()));
+                body.extend(std::iter::repeat_n(0u8, (width - n) * 4));
+            }
+            (format!("<U{width}"), body)
+        }
+    };
+    let dims = match shape {
+        [n] => format!("({n},)"),
+        _ => format!(
+            "({})",
+            shape
+                .iter()
+                .map(|d| d.to_string())
+                .collect::<Vec<_>>()
+                .join(", ")
+        ),
+    };
+    let mut header = format!("{{'descr': '{descr}', 'fortran_order': False, 'shape': {dims}, }}");
+    // NEP 1: pad with spaces and end with '\n' so the data starts on a 64-byte boundary.
+    let padded = |prefix: usize| (prefix + header.len() + 1).div_ceil(64) * 64;
+    let v1 = padded(10) - 10 <= usize::from(u16::MAX);
+    let prefix = if v1 { 10 } else { 12 };
+    let total = padded(prefix);
+    header.push_str(&" ".repeat(total - prefix - header.len() - 1));
+    header.push('\n');
+    let mut out = Vec::with_capacity(total + body.len());
+    out.extend_from_slice(MAGIC);
+    if v1 {
+        out.extend_from_slice(&[1, 0]);
+        out.extend_from_slice(&(header.len() as u16).to_le_bytes());
+    } else {
+        out.extend_from_slice(&[2, 0]);
+        out.extend_from_slice(&(header.len() as u32).to_le_bytes());
+    }
+    out.extend_from_slice(header.as_bytes());
+    out.extend_from_slice(&body);
+    out
+}
+
+/// Reads a `.npy` file from disk.
+pub fn read_file(path: &Path, key: &str) -> Result<Tensor> {
+    let bytes = std::fs::read(path).map_err(|e| Error::io(path, e))?;
+    decode(&bytes, path, key)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn encode_then_decode() {
+        // common practice, no source: what we write we must read back bit for bit.
+        let p = Path::new("mem.npy");
+        let t = decode(
+            &encode(&[2, 3], Payload::F32(&[0.0, 1.5, -2.0, 3.0, 4.25, 5.0])),
+            p,
+            "a",
+        )
+        .unwrap();
+        assert_eq!(t.shape, vec![2, 3]);
+        match t.values {
+            Values::F32(v) => assert_eq!(v, vec![0.0, 1.5, -2.0, 3.0, 4.25, 5.0]),
+            other => panic!("{other:?}"),
+        }
+        let names = vec!["ab".to_string(), "ü".into()];
+        match decode(&encode(&[2], Payload::Text(&names)), p, "a")
+            .unwrap()
+            .values
+        {
+            Values::Text(v) => assert_eq!(v, names),
+            other => panic!("{other:?}"),
+        }
+        // NEP 1: the data offset is a multiple of 64 (from memory of the numpy format docs).
+        let img = encode(&[1], Payload::I64(&[7]));
+        assert_eq!((img.len() - 8) % 64, 0);
+    }
+}

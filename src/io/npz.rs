@@ -1,0 +1,157 @@
+//! `.npz`: a zip archive of `.npy` members, as `np.savez` (stored) and `np.savez_compressed`
+//! (deflated) write it. Members are picked by key; the optional `ids`, `groups` and fold
+//! members ride along when present.
+
+use std::fs::File;
+use std::io::{Read, Write};
+use std::path::Path;
+
+use zip::ZipArchive;
+use zip::write::SimpleFileOptions;
+
+use super::ReadOptions;
+use super::assemble::Parts;
+use super::export::{Column, Export};
+use super::npy::{self, Payload};
+use super::tensor::Tensor;
+use crate::error::{Error, Result};
+
+fn zip_error(path: &Path, e: zip::result::ZipError) -> Error {
+    Error::input(
+        path,
+        format!("not a readable .npz (zip) archive: {e}"),
+        "rewrite the file with numpy.savez or numpy.savez_compressed",
+    )
+}
+
+struct Archive<'a> {
+    path: &'a Path,
+    zip: ZipArchive<File>,
+    keys: Vec<String>,
+}
+
+impl Archive<'_> {
+    fn has(&self, key: &str) -> bool {
+        self.keys.iter().any(|k| k == key)
+    }
+
+    fn member(&mut self, key: &str) -> Result<Tensor> {
+        if !self.has(key) {
+            return Err(Error::input_at(
+                self.path,
+                format!("key '{key}'"),
+                format!(
+                    "no member '{key}'; members present: {}",
+                    self.keys.join(", ")
+                ),
+                "pass the right key (--embeddings-key / --labels-key) or rewrite the archive",
+            ));
+        }
+        let name = format!("{key}.npy");
+        let path = self.path;
+        let mut entry = self.zip.by_name(&name).map_err(|e| zip_error(path, e))?;
+        let declared = entry.size();
+        let mut bytes = Vec::new();
+        // Never read past the declared size: a lying archive cannot make us allocate more.
+        (&mut entry)
+            .take(declared.saturating_add(1))
+            .read_to_end(&mut bytes)
+            .map_err(|e| {
+                Error::input_at(
+                    path,
+                    format!("key '{key}'"),
+                    format!("cannot decompress member: {e}"),
+                    "rewrite the archive",
+                )
+            })?;
+        if bytes.len() as u64 != declared {
+            return Err(Error::input_at(
+                path,
+                format!("key '{key}'"),
+                "member size disagrees with the archive directory",
+                "rewrite the archive",
+            ));
+        }
+        npy::decode(&bytes, path, key)
+    }
+
+    fn optional(&mut self, key: &str) -> Result<Option<Tensor>> {
+        if self.has(key) {
+            self.member(key).map(Some)
+        } else {
+            Ok(None)
+        }
+    }
+}
+
+/// Reads the pieces of a dataset from an `.npz` archive.
+pub fn read(path: &Path, opts: &ReadOptions) -> Result<Parts> {
+    let file = File::open(path).map_err(|e| Error::io(path, e))?;
+    let zip = ZipArchive::new(file).map_err(|e| zip_error(path, e))?;
+    let keys = zip
+        .file_names()
+        .filter_map(|n| n.strip_suffix(".npy"))
+        .map(str::to_string)
+        .collect::<Vec<_>>();
+    let mut keys = keys;
+    keys.sort();
+    let mut ar = Archive { path, zip, keys };
+    let (x, stored_dtype) = ar
+        .member(&opts.embeddings_key)?
+        .into_matrix(path, &opts.embeddings_key)?;
+    let labels = ar
+        .member(&opts.labels_key)?
+        .into_labels(path, &opts.labels_key)?;
+    let ids = ar
+        .optional("ids")?
+        .map(|t| t.into_strings(path, "ids"))
+        .transpose()?;
+    let groups = ar
+        .optional("groups")?
+        .map(|t| t.into_strings(path, "groups"))
+        .transpose()?;
+    let folds = ar
+        .optional(&opts.fold_key)?
+        .map(|t| t.into_ints(path, &opts.fold_key))
+        .transpose()?;
+    Ok(Parts {
+        x,
+        stored_dtype,
+        x_source: format!("key '{}'", opts.embeddings_key),
+        labels,
+        labels_source: format!("key '{}'", opts.labels_key),
+        ids: ids.map(|v| ("key 'ids'".into(), v)),
+        groups: groups.map(|v| ("key 'groups'".into(), v)),
+        folds: folds.map(|v| (format!("key '{}'", opts.fold_key), v)),
+        row_lines: None,
+    })
+}
+
+/// Writes an uncompressed archive `np.load` reads: one `.npy` member per column.
+pub fn write(out: File, export: &Export<'_>) -> std::io::Result<()> {
+    let mut zip = zip::ZipWriter::new(std::io::BufWriter::new(out));
+    let opts = SimpleFileOptions::default()
+        .compression_method(zip::CompressionMethod::Stored)
+        .large_file(true);
+    let x = export.x;
+    let flat: Vec<f32> = x.iter().copied().collect();
+    let mut members = vec![(
+        "embeddings".to_string(),
+        npy::encode(&[x.nrows(), x.ncols()], Payload::F32(&flat)),
+    )];
+    for (name, col) in &export.columns {
+        let n = col.len();
+        let img = match col {
+            Column::Int(v) => npy::encode(&[n], Payload::I64(v)),
+            Column::F32(v) => npy::encode(&[n], Payload::F32(v)),
+            Column::Text(v) => npy::encode(&[n], Payload::Text(v)),
+        };
+        members.push((name.to_string(), img));
+    }
+    for (name, img) in members {
+        zip.start_file(format!("{name}.npy"), opts)
+            .map_err(std::io::Error::other)?;
+        zip.write_all(&img)?;
+    }
+    zip.finish().map_err(std::io::Error::other)?.flush()
+}

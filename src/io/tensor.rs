@@ -1,0 +1,152 @@
+//! The one in-memory shape every container format decodes into before a dataset is assembled:
+//! a shape plus typed values. Keeping it format-neutral lets the shape and dtype checks (2-D,
+//! float embeddings, 1-D labels) be written once instead of once per format.
+
+use std::path::Path;
+
+use ndarray::Array2;
+
+use crate::data::RawLabels;
+use crate::error::{Error, Result};
+
+/// Decoded element values, widened to a few working types.
+#[derive(Debug, Clone)]
+pub enum Values {
+    /// f16, bf16 and f32 data (exactly representable in f32).
+    F32(Vec<f32>),
+    F64(Vec<f64>),
+    Int(Vec<i64>),
+    Text(Vec<String>),
+}
+
+/// A decoded array in C (row-major) order.
+#[derive(Debug, Clone)]
+pub struct Tensor {
+    pub shape: Vec<usize>,
+    pub values: Values,
+    /// The element type as stored ("f16", "f32", "i64", "<U7", ...).
+    pub dtype: String,
+}
+
+impl Tensor {
+    fn shape_text(&self) -> String {
+        let dims: Vec<String> = self.shape.iter().map(|d| d.to_string()).collect();
+        format!("({})", dims.join(", "))
+    }
+
+    /// The embeddings matrix. Refuses non-float data and anything that is not 2-D.
+    pub fn into_matrix(self, path: &Path, key: &str) -> Result<(Array2<f32>, String)> {
+        if self.shape.len() != 2 {
+            return Err(Error::input_at(
+                path,
+                format!("key '{key}'"),
+                format!(
+                    "embeddings must be a 2-D array (rows × dims), found shape {}",
+                    self.shape_text()
+                ),
+                "store one embedding per row as a 2-D array",
+            ));
+        }
+        let (rows, cols) = (self.shape[0], self.shape[1]);
+        let data: Vec<f32> = match self.values {
+            Values::F32(v) => v,
+            Values::F64(v) => v.into_iter().map(|x| x as f32).collect(),
+            Values::Int(_) | Values::Text(_) => {
+                return Err(Error::input_at(
+                    path,
+                    format!("key '{key}'"),
+                    format!(
+                        "embeddings have element type {}; only float16, bfloat16, float32 and float64 are accepted",
+                        self.dtype
+                    ),
+                    "convert the embeddings to a float type (e.g. numpy .astype('float32'))",
+                ));
+            }
+        };
+        let x = Array2::from_shape_vec((rows, cols), data).map_err(|e| {
+            Error::input_at(
+                path,
+                format!("key '{key}'"),
+                format!("shape and data disagree: {e}"),
+                "rewrite the file",
+            )
+        })?;
+        Ok((x, self.dtype))
+    }
+
+    /// Checks the array is a column (n or n×1) and returns its length.
+    fn column_len(&self, path: &Path, key: &str) -> Result<usize> {
+        match self.shape.as_slice() {
+            [n] | [n, 1] => Ok(*n),
+            _ => Err(Error::input_at(
+                path,
+                format!("key '{key}'"),
+                format!(
+                    "expected a 1-D array (one value per row), found shape {}",
+                    self.shape_text()
+                ),
+                "store one value per row as a 1-D array",
+            )),
+        }
+    }
+
+    /// A label column, any type; `data::encode_labels` does the rest.
+    pub fn into_labels(self, path: &Path, key: &str) -> Result<RawLabels> {
+        self.column_len(path, key)?;
+        Ok(match self.values {
+            Values::F32(v) => RawLabels::Float(v.into_iter().map(f64::from).collect()),
+            Values::F64(v) => RawLabels::Float(v),
+            Values::Int(v) => RawLabels::Int(v),
+            Values::Text(v) => RawLabels::Text(v),
+        })
+    }
+
+    /// A text-like column (ids, groups): integers become their decimal strings.
+    pub fn into_strings(self, path: &Path, key: &str) -> Result<Vec<String>> {
+        self.column_len(path, key)?;
+        match self.values {
+            Values::Int(v) => Ok(v.into_iter().map(|i| i.to_string()).collect()),
+            Values::Text(v) => Ok(v),
+            Values::F32(_) | Values::F64(_) => Err(Error::input_at(
+                path,
+                format!("key '{key}'"),
+                format!("expected integers or strings, found {}", self.dtype),
+                "store ids and groups as integers or strings",
+            )),
+        }
+    }
+
+    /// An integer column (fold assignment). Integral floats are accepted.
+    pub fn into_ints(self, path: &Path, key: &str) -> Result<Vec<i64>> {
+        self.column_len(path, key)?;
+        let floats = match self.values {
+            Values::Int(v) => return Ok(v),
+            Values::F32(v) => v.into_iter().map(f64::from).collect(),
+            Values::F64(v) => v,
+            Values::Text(_) => {
+                return Err(Error::input_at(
+                    path,
+                    format!("key '{key}'"),
+                    format!("expected integers, found {}", self.dtype),
+                    "store the fold assignment as integers",
+                ));
+            }
+        };
+        floats
+            .iter()
+            .enumerate()
+            .map(|(row, &f)| {
+                if f.is_finite() && f.fract() == 0.0 && f.abs() < 9.0e15 {
+                    Ok(f as i64)
+                } else {
+                    Err(Error::input_at(
+                        path,
+                        format!("key '{key}', row {row}"),
+                        format!("value {f} is not a whole number"),
+                        "store the fold assignment as integers",
+                    ))
+                }
+            })
+            .collect()
+    }
+}
