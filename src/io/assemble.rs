@@ -50,7 +50,7 @@ fn keep_labels(raw: RawLabels, mask: &[bool]) -> RawLabels {
 }
 
 /// Applies the shared checks and builds the dataset.
-pub fn finish(path: &Path, parts: Parts, drop_nonfinite: bool) -> Result<Loaded> {
+pub fn finish(path: &Path, parts: Parts, drop_nonfinite: bool, keep_nonfinite: bool) -> Result<Loaded> {
     let Parts {
         x,
         stored_dtype,
@@ -118,7 +118,7 @@ pub fn finish(path: &Path, parts: Parts, drop_nonfinite: bool) -> Result<Loaded>
         .map(|r| r.iter().all(|v| v.is_finite()))
         .collect();
     let dropped = finite.iter().filter(|f| !**f).count();
-    let (x, labels, ids, groups, folds) = if dropped == 0 {
+    let (x, labels, ids, groups, folds) = if dropped == 0 || keep_nonfinite {
         (x, labels, ids, groups, folds)
     } else if !drop_nonfinite {
         let first = finite.iter().position(|f| !*f).unwrap_or(0);

@@ -45,6 +45,8 @@ pub struct ReadOptions {
     pub fold_key: String,
     /// Skip rows with NaN/Inf instead of refusing the file.
     pub drop_nonfinite: bool,
+    /// Keep rows with NaN/Inf as they are (for `inspect`, which reports them).
+    pub keep_nonfinite: bool,
 }
 
 impl Default for ReadOptions {
@@ -56,6 +58,7 @@ impl Default for ReadOptions {
             label_column: "label".into(),
             fold_key: "fold".into(),
             drop_nonfinite: false,
+            keep_nonfinite: false,
         }
     }
 }
@@ -197,7 +200,7 @@ pub fn read(path: &Path, opts: &ReadOptions) -> Result<Loaded> {
         #[cfg(not(feature = "hdf5"))]
         Format::Hdf5 => return Err(no_hdf5(path)),
     };
-    assemble::finish(path, parts, opts.drop_nonfinite)
+    assemble::finish(path, parts, opts.drop_nonfinite, opts.keep_nonfinite)
 }
 
 /// Runs a stream writer on a buffered file at `tmp`.

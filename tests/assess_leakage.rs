@@ -1,0 +1,143 @@
+//! The protocol's promise: augmenters see only the fold's real training rows, and synthetic
+//! rows never reach a test fold. A planted leaky augmenter must be caught.
+
+use std::sync::{Arc, Mutex};
+
+use embloom::assess::{AssessConfig, InputInfo, assess_with};
+use embloom::augment::{self, AugmentParams, Augmenter, FitNote, FittedAugmenter, MethodKind, Provenance, Synthetic, Target};
+use embloom::cmd::options::UnitNorm;
+use embloom::eval::protocol::make_folds;
+use embloom::probe::ProbeKind;
+use embloom::probe::knn::KnnParams;
+use embloom::probe::linear::LinearParams;
+use embloom::seed::Rng;
+use embloom::{Dataset, Result};
+use ndarray::Array2;
+
+/// Random property-test input (not a figure): 3 classes of 40, 8 and 10 rows in 6 dims.
+fn dataset() -> Dataset {
+    let counts = [40usize, 8, 10];
+    let n: usize = counts.iter().sum();
+    let mut labels = Vec::new();
+    for (c, &k) in counts.iter().enumerate() {
+        labels.extend(std::iter::repeat_n(c as u32, k));
+    }
+    let x = Array2::from_shape_fn((n, 6), |(i, j)| {
+        let h = ((i * 7919 + j * 104_729) % 1000) as f32 / 1000.0;
+        h + if j == labels[i] as usize { 1.5 } else { 0.0 }
+    });
+    let mut ds = Dataset::new(x, labels, vec!["a".into(), "b".into(), "c".into()]);
+    ds.ids = Some((0..n).map(|i| i.to_string()).collect());
+    ds
+}
+
+fn config() -> AssessConfig {
+    AssessConfig {
+        methods: vec![MethodKind::None, MethodKind::Interpolate],
+        probes: vec![ProbeKind::Knn, ProbeKind::Linear],
+        folds: 4,
+        repeats: 2,
+        target: Target::Largest,
+        classes: None,
+        augment: AugmentParams::default(),
+        unit_norm: UnitNorm::Off,
+        knn: KnnParams { k: 3, ..KnnParams::default() },
+        linear: LinearParams::default(),
+        seed: 5,
+        diagnostics: true,
+        progress: false,
+    }
+}
+
+fn info(ds: &Dataset) -> InputInfo {
+    InputInfo { path: "test".into(), sha256: String::new(), rows: ds.n_rows(), dims: ds.dims(), classes: ds.classes.clone(), class_counts: ds.class_counts() }
+}
+
+/// Records the ids of every training set it is fitted on, then behaves like interpolate.
+struct Spy {
+    seen: Arc<Mutex<Vec<Vec<String>>>>,
+    inner: Box<dyn Augmenter>,
+}
+
+impl Augmenter for Spy {
+    fn kind(&self) -> MethodKind {
+        MethodKind::Interpolate
+    }
+    fn fit(&self, train: &Dataset, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
+        self.seen.lock().unwrap().push(train.ids.clone().unwrap());
+        self.inner.fit(train, classes)
+    }
+}
+
+#[test]
+fn augmenters_are_fitted_on_each_folds_training_rows_only() {
+    let ds = dataset();
+    let cfg = config().validated().unwrap();
+    let seen = Arc::new(Mutex::new(Vec::new()));
+    let augmenters: Vec<Box<dyn Augmenter>> = vec![
+        augment::build(MethodKind::None, &cfg.augment).unwrap(),
+        Box::new(Spy { seen: seen.clone(), inner: augment::build(MethodKind::Interpolate, &cfg.augment).unwrap() }),
+    ];
+    let results = assess_with(&ds, &cfg, info(&ds), &augmenters).unwrap();
+    let (_, folds) = make_folds(&ds, cfg.folds, cfg.repeats, cfg.seed).unwrap();
+    let seen = seen.lock().unwrap();
+    assert_eq!(seen.len(), folds.len());
+    for (fit, fold) in seen.iter().zip(&folds) {
+        let train: Vec<String> = fold.train.iter().map(|i| i.to_string()).collect();
+        assert_eq!(fit, &train, "the augmenter saw rows outside the training fold");
+        for t in &fold.test {
+            assert!(!fit.contains(&t.to_string()));
+        }
+    }
+    // Probes are scored on real test rows only: each record's test count is its fold's size.
+    for r in &results.folds {
+        let fold = folds.iter().find(|f| f.repeat == r.repeat && f.index == r.fold).unwrap();
+        assert_eq!(r.test, fold.test.len());
+        assert_eq!(r.train_real, fold.train.len());
+    }
+}
+
+/// An augmenter that smuggles copies of held-out rows in as "synthetic" rows.
+struct Leaky {
+    all: Dataset,
+}
+
+struct LeakyFit {
+    rows: Vec<(u32, Vec<f32>)>,
+}
+
+impl Augmenter for Leaky {
+    fn kind(&self) -> MethodKind {
+        MethodKind::Interpolate
+    }
+    fn fit(&self, train: &Dataset, _classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
+        let train_ids = train.ids.clone().unwrap();
+        let ids = self.all.ids.as_ref().unwrap();
+        let rows = (0..self.all.n_rows())
+            .filter(|&i| !train_ids.contains(&ids[i]))
+            .map(|i| (self.all.labels[i], self.all.x.row(i).to_vec()))
+            .collect();
+        Ok(Box::new(LeakyFit { rows }))
+    }
+}
+
+impl FittedAugmenter for LeakyFit {
+    fn sample(&self, class: u32, n: usize, _rng: &mut Rng) -> Result<Synthetic> {
+        let picked: Vec<&Vec<f32>> = self.rows.iter().filter(|(c, _)| *c == class).map(|(_, r)| r).cycle().take(n).collect();
+        let d = self.rows.first().map_or(0, |r| r.1.len());
+        let x = Array2::from_shape_fn((picked.len(), d), |(i, j)| picked[i][j]);
+        Ok(Synthetic { x, provenance: vec![Provenance { parent: 0, partner: None, weight: 0.0 }; picked.len()] })
+    }
+    fn notes(&self) -> &[FitNote] {
+        &[]
+    }
+}
+
+#[test]
+fn a_leaky_augmenter_is_caught() {
+    let ds = dataset();
+    let cfg = config().validated().unwrap();
+    let augmenters: Vec<Box<dyn Augmenter>> = vec![augment::build(MethodKind::None, &cfg.augment).unwrap(), Box::new(Leaky { all: ds.clone() })];
+    let err = assess_with(&ds, &cfg, info(&ds), &augmenters).unwrap_err().to_string();
+    assert!(err.contains("held-out test row"), "{err}");
+}

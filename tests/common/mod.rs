@@ -1,0 +1,71 @@
+//! Helpers shared by the CLI integration tests: run the binary, make small input files.
+#![allow(dead_code)]
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+/// Run the embloom binary with `args` (and extra environment).
+pub fn embloom(args: &[&str], env: &[(&str, &str)]) -> Output {
+    let mut cmd = Command::new(env!("CARGO_BIN_EXE_embloom"));
+    cmd.args(args);
+    for (k, v) in env {
+        cmd.env(k, v);
+    }
+    cmd.output().expect("the embloom binary runs")
+}
+
+pub fn stdout(o: &Output) -> String {
+    String::from_utf8_lossy(&o.stdout).into_owned()
+}
+
+pub fn stderr(o: &Output) -> String {
+    String::from_utf8_lossy(&o.stderr).into_owned()
+}
+
+/// A reproducible pseudo-random value in [-1, 1) (a property-test input, not a figure).
+pub fn value(i: usize, j: usize, seed: u64) -> f32 {
+    let mut z = (i as u64).wrapping_mul(0x9e37_79b9_7f4a_7c15) ^ (j as u64).wrapping_mul(0xbf58_476d_1ce4_e5b9) ^ seed;
+    z ^= z >> 31;
+    z = z.wrapping_mul(0x94d0_49bb_1331_11eb);
+    z ^= z >> 29;
+    ((z >> 40) as f32 / (1u64 << 24) as f32) * 2.0 - 1.0
+}
+
+/// Write a CSV with `counts[c]` rows of class `c{c}` (class mean offset by c), `dims` features.
+pub fn write_csv(path: &Path, counts: &[usize], dims: usize, seed: u64) {
+    let mut s = String::from("label");
+    for j in 0..dims {
+        s += &format!(",f{j}");
+    }
+    s += "\n";
+    let mut row = 0;
+    for (c, &n) in counts.iter().enumerate() {
+        for _ in 0..n {
+            s += &format!("c{c}");
+            for j in 0..dims {
+                let centre = if j % counts.len() == c { 2.0 } else { 0.0 };
+                s += &format!(",{}", centre + value(row, j, seed));
+            }
+            s += "\n";
+            row += 1;
+        }
+    }
+    std::fs::write(path, s).expect("temp file writes");
+}
+
+/// A fresh temporary folder.
+pub fn tempdir() -> tempfile::TempDir {
+    tempfile::tempdir().expect("temp dir")
+}
+
+pub fn p(dir: &Path, name: &str) -> PathBuf {
+    dir.join(name)
+}
+
+/// No file or folder in `dir` other than `keep`.
+pub fn only_these(dir: &Path, keep: &[&str]) -> bool {
+    std::fs::read_dir(dir)
+        .expect("dir lists")
+        .filter_map(|e| e.ok())
+        .all(|e| keep.contains(&e.file_name().to_string_lossy().as_ref()))
+}
