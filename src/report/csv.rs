@@ -1,0 +1,266 @@
+//! The CSV tables written beside the HTML report, for spreadsheets, pandas and R.
+//!
+//! Conventions, the same in every file:
+//! - one header row, then one row per record; fields separated by `,`, lines ended by `\n`;
+//! - a field is quoted (`"…"`, inner quotes doubled, RFC 4180) when it holds a comma, a quote,
+//!   a line break or leading/trailing space, so any class name round-trips;
+//! - numbers use Rust's shortest round-trip `Display` for f64 (e.g. `0.1`, `0.8125`), so no
+//!   digits are lost; infinities are written `inf` / `-inf`;
+//! - NaN (a figure that could not be computed, e.g. the recall of a class with no test rows
+//!   in a fold) is written as an **empty field**, which pandas and R both read as missing;
+//! - booleans are `true` / `false`; an absent optional value is an empty field.
+
+use std::borrow::Cow;
+
+use crate::assess::results::AssessResults;
+
+/// `summary.csv`: one row per method × probe × metric.
+pub fn summary_csv(r: &AssessResults) -> String {
+    let mut out = String::new();
+    row(
+        &mut out,
+        [
+            "method",
+            "probe",
+            "metric",
+            "mean",
+            "delta_mean",
+            "delta_ci_low",
+            "delta_ci_high",
+            "p_value",
+            "folds",
+        ]
+        .map(Cow::from),
+    );
+    for s in &r.summary {
+        row(
+            &mut out,
+            [
+                text(&s.method),
+                text(&s.probe),
+                text(&s.metric),
+                num(s.mean),
+                num(s.delta_mean),
+                num(s.delta_ci_low),
+                num(s.delta_ci_high),
+                num(s.p_value),
+                s.folds.to_string().into(),
+            ],
+        );
+    }
+    out
+}
+
+/// `per_class.csv`: one row per method × probe × class, recall and its delta against `none`.
+pub fn per_class_csv(r: &AssessResults) -> String {
+    let mut out = String::new();
+    row(
+        &mut out,
+        [
+            "method",
+            "probe",
+            "class",
+            "grown",
+            "recall_mean",
+            "delta_mean",
+            "delta_ci_low",
+            "delta_ci_high",
+            "p_value",
+            "folds",
+        ]
+        .map(Cow::from),
+    );
+    for c in &r.per_class {
+        row(
+            &mut out,
+            [
+                text(&c.method),
+                text(&c.probe),
+                text(&c.class),
+                c.grown.to_string().into(),
+                num(c.recall_mean),
+                num(c.delta_mean),
+                num(c.delta_ci_low),
+                num(c.delta_ci_high),
+                num(c.p_value),
+                c.folds.to_string().into(),
+            ],
+        );
+    }
+    out
+}
+
+/// `diagnostics.csv`: one row per method × grown class, where the synthetic rows sit.
+pub fn diagnostics_csv(r: &AssessResults) -> String {
+    let mut out = String::new();
+    row(
+        &mut out,
+        [
+            "method",
+            "class",
+            "synthetic_rows",
+            "intrusion_synthetic",
+            "intrusion_real",
+            "distance_ratio",
+            "precision",
+            "recall",
+            "density",
+            "coverage",
+        ]
+        .map(Cow::from),
+    );
+    for d in &r.diagnostics {
+        row(
+            &mut out,
+            [
+                text(&d.method),
+                text(&d.class),
+                num(d.synthetic_rows),
+                num(d.intrusion_synthetic),
+                num(d.intrusion_real),
+                num(d.distance_ratio),
+                num(d.precision),
+                num(d.recall),
+                num(d.density),
+                num(d.coverage),
+            ],
+        );
+    }
+    out
+}
+
+/// `folds.csv`: one row per fold record. Every metric any record carries gets a column (in
+/// first-seen order; empty where a record lacks it, e.g. `log_loss` for the k-NN probe), then
+/// one `recall:<class>` column per class.
+pub fn folds_csv(r: &AssessResults) -> String {
+    let mut metrics: Vec<&str> = Vec::new();
+    for f in &r.folds {
+        for (name, _) in &f.metrics {
+            if !metrics.contains(&name.as_str()) {
+                metrics.push(name);
+            }
+        }
+    }
+    let n_recall = r
+        .folds
+        .iter()
+        .map(|f| f.class_recall.len())
+        .max()
+        .unwrap_or(0)
+        .max(r.input.classes.len());
+    let recall_header = |i: usize| -> Cow<str> {
+        match r.input.classes.get(i) {
+            Some(name) => Cow::Owned(format!("recall:{name}")),
+            None => Cow::Owned(format!("recall:class{i}")),
+        }
+    };
+
+    let mut out = String::new();
+    let mut header: Vec<Cow<str>> = [
+        "repeat",
+        "fold",
+        "method",
+        "probe",
+        "train_real",
+        "train_synthetic",
+        "test",
+        "converged",
+    ]
+    .map(Cow::from)
+    .into_iter()
+    .collect();
+    header.extend(metrics.iter().map(|m| Cow::from(*m)));
+    header.extend((0..n_recall).map(recall_header));
+    row(&mut out, header);
+
+    for f in &r.folds {
+        let mut fields: Vec<Cow<str>> = vec![
+            f.repeat.to_string().into(),
+            f.fold.to_string().into(),
+            text(&f.method),
+            text(&f.probe),
+            f.train_real.to_string().into(),
+            f.train_synthetic.to_string().into(),
+            f.test.to_string().into(),
+            f.converged
+                .map(|c| c.to_string())
+                .unwrap_or_default()
+                .into(),
+        ];
+        fields.extend(metrics.iter().map(|m| {
+            f.metrics
+                .iter()
+                .find(|(name, _)| name == m)
+                .map(|(_, v)| num(*v))
+                .unwrap_or_default()
+        }));
+        fields.extend(
+            (0..n_recall).map(|i| f.class_recall.get(i).map(|v| num(*v)).unwrap_or_default()),
+        );
+        row(&mut out, fields);
+    }
+    out
+}
+
+/// Append one CSV line.
+fn row<'a>(out: &mut String, fields: impl IntoIterator<Item = Cow<'a, str>>) {
+    for (i, f) in fields.into_iter().enumerate() {
+        if i > 0 {
+            out.push(',');
+        }
+        out.push_str(&quote(&f));
+    }
+    out.push('\n');
+}
+
+/// A text field, quoted later by [`row`] if it needs it.
+fn text(s: &str) -> Cow<'_, str> {
+    Cow::Borrowed(s)
+}
+
+/// A number: shortest round-trip form, NaN as an empty field.
+fn num(v: f64) -> Cow<'static, str> {
+    if v.is_nan() {
+        Cow::Borrowed("")
+    } else {
+        Cow::Owned(v.to_string())
+    }
+}
+
+/// Quote a field when a reader would otherwise split or trim it.
+fn quote(field: &str) -> Cow<'_, str> {
+    let needs = field.contains([',', '"', '\n', '\r'])
+        || field.starts_with(char::is_whitespace)
+        || field.ends_with(char::is_whitespace);
+    if needs {
+        Cow::Owned(format!("\"{}\"", field.replace('"', "\"\"")))
+    } else {
+        Cow::Borrowed(field)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn quoting_follows_rfc4180() {
+        // RFC 4180 §2 rules 6 and 7: quote fields with commas, quotes or line breaks; double
+        // inner quotes.
+        assert_eq!(quote("plain"), "plain");
+        assert_eq!(quote("a,b"), "\"a,b\"");
+        assert_eq!(quote("say \"hi\""), "\"say \"\"hi\"\"\"");
+        assert_eq!(quote("two\nlines"), "\"two\nlines\"");
+        assert_eq!(quote(" padded"), "\" padded\"");
+    }
+
+    #[test]
+    fn numbers_round_trip_and_nan_is_empty() {
+        // Rust's f64 Display is the shortest string that parses back to the same value
+        // (std documentation).
+        for v in [0.1, 0.8125, 1.0 / 3.0, 1e-12, 123456.789] {
+            assert_eq!(num(v).parse::<f64>().unwrap(), v);
+        }
+        assert_eq!(num(f64::NAN), "");
+    }
+}

@@ -1,0 +1,150 @@
+//! How a figure reads as text, and which method × probe rows a report shows. Shared by the
+//! terminal table and the HTML page so both put the same numbers in the same order.
+
+use crate::assess::results::{AssessResults, SummaryRow};
+
+/// The baseline every delta is measured against; its rows show only the mean.
+pub const BASELINE: &str = "none";
+
+/// The three headline metrics: (name in the results, label for people).
+pub const MAIN_METRICS: [(&str, &str); 3] = [
+    ("balanced_accuracy", "balanced accuracy"),
+    ("macro_f1", "macro-F1"),
+    ("grown_class_recall", "grown-class recall"),
+];
+
+/// Text shown where a figure is missing or not a number.
+pub const MISSING: &str = "n/a";
+
+/// Round to three decimals, folding −0.000 into 0.000 so a tiny negative never prints a sign
+/// that suggests a loss.
+fn round3(v: f64) -> f64 {
+    let r = (v * 1000.0).round() / 1000.0;
+    if r == 0.0 { 0.0 } else { r }
+}
+
+/// A level such as a mean accuracy: `0.812`, or `n/a`.
+pub fn value(v: f64) -> String {
+    if v.is_finite() {
+        format!("{:.3}", round3(v))
+    } else {
+        MISSING.to_string()
+    }
+}
+
+/// A difference, always signed: `+0.034`, `-0.012`, or `n/a`.
+pub fn signed(v: f64) -> String {
+    if v.is_finite() {
+        format!("{:+.3}", round3(v))
+    } else {
+        MISSING.to_string()
+    }
+}
+
+/// One summary cell: `mean (Δ +d.ddd [lo, hi])`, only the mean for the baseline, `n/a` when
+/// the assessment produced no row.
+pub fn summary_cell(row: Option<&SummaryRow>) -> String {
+    match row {
+        None => MISSING.to_string(),
+        Some(s) if s.method == BASELINE => value(s.mean),
+        Some(s) if !s.delta_mean.is_finite() => format!("{} (Δ {MISSING})", value(s.mean)),
+        Some(s) => format!(
+            "{} (Δ {} [{}, {}])",
+            value(s.mean),
+            signed(s.delta_mean),
+            signed(s.delta_ci_low),
+            signed(s.delta_ci_high)
+        ),
+    }
+}
+
+/// The summary row for one method, probe and metric, if the assessment produced it.
+pub fn find_summary<'a>(
+    r: &'a AssessResults,
+    method: &str,
+    probe: &str,
+    metric: &str,
+) -> Option<&'a SummaryRow> {
+    r.summary
+        .iter()
+        .find(|s| s.method == method && s.probe == probe && s.metric == metric)
+}
+
+/// A method × probe combination as the report lists it.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Pair {
+    pub method: String,
+    pub probe: String,
+}
+
+impl Pair {
+    pub fn is_baseline(&self) -> bool {
+        self.method == BASELINE
+    }
+}
+
+/// Every method × probe to show, probe by probe (so each block shares one baseline), methods in
+/// the order they were run; then any combination that appears only in the rows, so nothing the
+/// assessment measured is silently dropped.
+pub fn pairs(r: &AssessResults) -> Vec<Pair> {
+    let mut out: Vec<Pair> = Vec::new();
+    let mut push = |method: &str, probe: &str| {
+        if !out.iter().any(|p| p.method == method && p.probe == probe) {
+            out.push(Pair {
+                method: method.to_string(),
+                probe: probe.to_string(),
+            });
+        }
+    };
+    for probe in &r.probes {
+        for method in &r.methods {
+            push(method, probe);
+        }
+    }
+    for s in &r.summary {
+        push(&s.method, &s.probe);
+    }
+    for c in &r.per_class {
+        push(&c.method, &c.probe);
+    }
+    out
+}
+
+/// The pairs that have a delta to show (everything except the baseline).
+pub fn compared_pairs(r: &AssessResults) -> Vec<Pair> {
+    pairs(r).into_iter().filter(|p| !p.is_baseline()).collect()
+}
+
+/// The class names in data order, then any class named only in the per-class or diagnostic
+/// rows.
+pub fn class_names(r: &AssessResults) -> Vec<String> {
+    let mut out: Vec<String> = r.input.classes.clone();
+    for name in r
+        .per_class
+        .iter()
+        .map(|c| &c.class)
+        .chain(r.diagnostics.iter().map(|d| &d.class))
+    {
+        if !out.contains(name) {
+            out.push(name.clone());
+        }
+    }
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn rounding_never_prints_negative_zero() {
+        // Three-decimal fixed notation with an explicit sign (common practice, no source).
+        assert_eq!(signed(-0.0001), "+0.000");
+        assert_eq!(signed(-0.0), "+0.000");
+        assert_eq!(signed(0.0346), "+0.035");
+        assert_eq!(signed(-0.0124), "-0.012");
+        assert_eq!(value(0.81249), "0.812");
+        assert_eq!(value(f64::NAN), "n/a");
+        assert_eq!(signed(f64::INFINITY), "n/a");
+    }
+}

@@ -1,0 +1,572 @@
+//! Rendering tests for the report: terminal table, CSV, HTML and the report folder.
+//!
+//! All figures in `results()` are INVENTED TEST DATA, chosen only to exercise the renderers
+//! (signs, NaN, awkward class names); they are not measurements. The expected strings follow
+//! the output formats the renderers define (task brief for `embloom report`), and the CSV
+//! parser below follows RFC 4180.
+
+use embloom::assess::results::{
+    AssessResults, ClassRow, DiagnosticRow, FoldRecord, InputInfo, Scatter, SummaryRow,
+};
+use embloom::report::{
+    CAUTION, diagnostics_csv, folds_csv, html_report, per_class_csv, summary_csv, terminal_table,
+    write_report_dir,
+};
+
+const METHODS: [&str; 4] = ["none", "interpolate", "extrapolate", "principal-noise"];
+const PROBES: [&str; 2] = ["knn", "linear"];
+/// Awkward names on purpose: a comma, markup, and a quote.
+const CLASSES: [&str; 4] = ["cat", "dog, large", "<b>&", "say \"hi\""];
+const GROWN: [&str; 2] = ["dog, large", "<b>&"];
+const METRICS: [&str; 4] = [
+    "accuracy",
+    "balanced_accuracy",
+    "macro_f1",
+    "grown_class_recall",
+];
+
+/// A deterministic wiggle in [-1, 1] so the invented figures differ from cell to cell.
+fn wiggle(i: usize) -> f64 {
+    ((i as f64) * 1.618_034).sin()
+}
+
+/// Invented test data (see the module comment).
+fn results() -> AssessResults {
+    let mut folds = Vec::new();
+    let mut summary = Vec::new();
+    let mut per_class = Vec::new();
+    let mut k = 0usize;
+    for (mi, method) in METHODS.iter().enumerate() {
+        for probe in PROBES {
+            for fold in 0..5 {
+                k += 1;
+                let mut metrics: Vec<(String, f64)> = METRICS
+                    .iter()
+                    .map(|m| (m.to_string(), 0.7 + 0.05 * wiggle(k + m.len())))
+                    .collect();
+                if probe == "linear" {
+                    metrics.push(("log_loss".into(), 0.6 + 0.1 * wiggle(k)));
+                    metrics.push(("ece".into(), 0.04));
+                }
+                let mut class_recall: Vec<f64> = (0..CLASSES.len())
+                    .map(|c| 0.6 + 0.2 * wiggle(k * 7 + c))
+                    .collect();
+                if fold == 3 {
+                    class_recall[3] = f64::NAN; // no test rows of that class in this fold
+                }
+                folds.push(FoldRecord {
+                    repeat: 0,
+                    fold,
+                    method: method.to_string(),
+                    probe: probe.to_string(),
+                    train_real: 400,
+                    train_synthetic: if mi == 0 { 0 } else { 120 },
+                    test: 100,
+                    metrics,
+                    class_recall,
+                    converged: (probe == "linear").then_some(fold != 2),
+                });
+            }
+            for (j, metric) in METRICS.iter().enumerate() {
+                k += 1;
+                let base = mi == 0;
+                let d = if base { 0.0 } else { 0.03 * wiggle(k) + 0.01 };
+                summary.push(SummaryRow {
+                    method: method.to_string(),
+                    probe: probe.to_string(),
+                    metric: metric.to_string(),
+                    mean: 0.7 + 0.02 * j as f64 + d,
+                    delta_mean: d,
+                    delta_ci_low: if base { 0.0 } else { d - 0.02 },
+                    delta_ci_high: if base { 0.0 } else { d + 0.02 },
+                    p_value: if base { f64::NAN } else { 0.04 },
+                    folds: 5,
+                });
+            }
+            for (c, class) in CLASSES.iter().enumerate() {
+                k += 1;
+                let base = mi == 0;
+                let grown = GROWN.contains(class);
+                let d = if base {
+                    0.0
+                } else if grown {
+                    0.08 + 0.05 * wiggle(k)
+                } else {
+                    -0.03 + 0.02 * wiggle(k)
+                };
+                per_class.push(ClassRow {
+                    method: method.to_string(),
+                    probe: probe.to_string(),
+                    class: class.to_string(),
+                    grown,
+                    recall_mean: 0.6 + 0.05 * c as f64 + d,
+                    delta_mean: d,
+                    delta_ci_low: d - 0.03,
+                    delta_ci_high: d + 0.03,
+                    p_value: 0.2,
+                    folds: 5,
+                });
+            }
+        }
+    }
+    // Pin two rows to known values the tests look for, and blank one out.
+    let pinned = summary
+        .iter_mut()
+        .find(|s| s.method == "interpolate" && s.probe == "knn" && s.metric == "macro_f1")
+        .unwrap();
+    pinned.mean = 0.8123;
+    pinned.delta_mean = 0.0341;
+    pinned.delta_ci_low = -0.0102;
+    pinned.delta_ci_high = 0.0562;
+    let base = summary
+        .iter_mut()
+        .find(|s| s.method == "none" && s.probe == "knn" && s.metric == "macro_f1")
+        .unwrap();
+    base.mean = 0.7782;
+    let blank = summary
+        .iter_mut()
+        .find(|s| {
+            s.method == "extrapolate" && s.probe == "linear" && s.metric == "grown_class_recall"
+        })
+        .unwrap();
+    blank.delta_mean = f64::NAN;
+    blank.delta_ci_low = f64::NAN;
+    blank.delta_ci_high = f64::NAN;
+    per_class
+        .iter_mut()
+        .find(|c| c.method == "principal-noise" && c.probe == "linear" && c.class == "cat")
+        .unwrap()
+        .delta_mean = f64::NAN;
+
+    let mut diagnostics = Vec::new();
+    let mut scatter = Vec::new();
+    for (mi, method) in METHODS.iter().enumerate().skip(1) {
+        for (gi, class) in GROWN.iter().enumerate() {
+            diagnostics.push(DiagnosticRow {
+                method: method.to_string(),
+                class: class.to_string(),
+                synthetic_rows: 60.0,
+                intrusion_synthetic: 0.05 * mi as f64,
+                intrusion_real: 0.04,
+                distance_ratio: if mi == 2 && gi == 1 {
+                    f64::NAN
+                } else {
+                    0.8 + 0.2 * mi as f64
+                },
+                precision: 0.9,
+                recall: 0.5,
+                density: 1.1,
+                coverage: 0.7,
+            });
+            let pt = |i: usize, cx: f32, s: f32| -> [f32; 2] {
+                [cx + s * wiggle(i) as f32, s * wiggle(i * 3 + 1) as f32]
+            };
+            let mut synthetic: Vec<[f32; 2]> = (0..40)
+                .map(|i| pt(i + 100, 0.3, 0.6 + 0.3 * mi as f32))
+                .collect();
+            synthetic.push([f32::NAN, 0.0]); // must be skipped, not drawn
+            scatter.push(Scatter {
+                method: method.to_string(),
+                class: class.to_string(),
+                real: (0..30).map(|i| pt(i, 0.0, 1.0)).collect(),
+                synthetic,
+                others: (0..50).map(|i| pt(i + 500, 3.0, 1.2)).collect(),
+            });
+        }
+    }
+
+    AssessResults {
+        embloom_version: "0.1.0".into(),
+        input: InputInfo {
+            path: "data/test <scenario>.npz".into(),
+            sha256: "ab".repeat(32),
+            rows: 500,
+            dims: 64,
+            classes: CLASSES.iter().map(|c| c.to_string()).collect(),
+            class_counts: vec![250, 40, 30, 180],
+        },
+        config: serde_json::json!({"target": "median", "k": 5, "note": "<script>"}),
+        seed: 7,
+        split: "stratified".into(),
+        methods: METHODS.iter().map(|m| m.to_string()).collect(),
+        probes: PROBES.iter().map(|p| p.to_string()).collect(),
+        grown_classes: GROWN.iter().map(|c| c.to_string()).collect(),
+        folds,
+        summary,
+        per_class,
+        diagnostics,
+        scatter,
+        sentences: vec![
+            "interpolate with the knn probe raised macro-F1 by 0.034 (test data sentence).".into(),
+        ],
+        warnings: vec!["class \"<b>&\" has only 30 rows (test data warning).".into()],
+        elapsed_seconds: 1.5,
+    }
+}
+
+fn squash(s: &str) -> String {
+    s.split_whitespace().collect::<Vec<_>>().join(" ")
+}
+
+/// A small RFC 4180 reader: quoted fields may hold commas, doubled quotes and line breaks.
+fn parse_csv(text: &str) -> Vec<Vec<String>> {
+    let mut rows = Vec::new();
+    let mut row = Vec::new();
+    let mut field = String::new();
+    let mut quoted = false;
+    let mut chars = text.chars().peekable();
+    while let Some(c) = chars.next() {
+        if quoted {
+            match c {
+                '"' if chars.peek() == Some(&'"') => {
+                    chars.next();
+                    field.push('"');
+                }
+                '"' => quoted = false,
+                c => field.push(c),
+            }
+        } else {
+            match c {
+                '"' => quoted = true,
+                ',' => row.push(std::mem::take(&mut field)),
+                '\n' => {
+                    row.push(std::mem::take(&mut field));
+                    rows.push(std::mem::take(&mut row));
+                }
+                c => field.push(c),
+            }
+        }
+    }
+    assert!(!quoted, "unterminated quoted field");
+    assert!(
+        field.is_empty() && row.is_empty(),
+        "last line lacks a line end"
+    );
+    rows
+}
+
+#[test]
+fn table_shows_every_method_and_formatted_deltas() {
+    let r = results();
+    let t = terminal_table(&r);
+    for m in METHODS {
+        assert!(t.contains(m), "method {m} missing");
+    }
+    // Format "mean (Δ +d.ddd [lo, hi])" from the brief, applied to the pinned row.
+    assert!(t.contains("0.812 (Δ +0.034 [-0.010, +0.056])"), "{t}");
+    // The baseline shows its mean only.
+    let none_line = t
+        .lines()
+        .find(|l| l.starts_with("knn") && l.contains(" none ") && l.contains("0.778"))
+        .expect("a knn · none row with its macro-F1 mean");
+    assert!(!none_line.contains('Δ'), "{none_line}");
+    // NaN deltas read as n/a, never as NaN.
+    assert!(t.contains("n/a"));
+    assert!(!t.contains("NaN"));
+    // Readable at 100 columns (counted in characters, not bytes).
+    for line in t.lines() {
+        assert!(line.chars().count() <= 100, "too wide: {line:?}");
+    }
+    // One row per method × probe in each table: 8 rows, and the three metric headers.
+    for h in ["balanced accuracy", "macro-F1", "grown-class recall"] {
+        assert!(t.contains(h), "header {h} missing");
+    }
+    let flat = squash(&t);
+    assert!(flat.contains(&squash(CAUTION)));
+    assert!(flat.contains("raised macro-F1 by 0.034"));
+    assert!(flat.contains("warning: class \"<b>&\" has only 30 rows"));
+    assert!(!t.contains('\x1b'), "no colour codes");
+}
+
+#[test]
+fn table_columns_are_aligned() {
+    let t = terminal_table(&results());
+    // Each table's rule line marks the column starts; every data row must have its cells start
+    // at the same character positions.
+    let lines: Vec<&str> = t.lines().collect();
+    let mut tables = 0;
+    for (i, rule) in lines.iter().enumerate() {
+        if !rule.starts_with("---") {
+            continue;
+        }
+        tables += 1;
+        let starts: Vec<usize> = rule
+            .char_indices()
+            .filter(|(j, c)| *c == '-' && (*j == 0 || rule.as_bytes()[j - 1] == b' '))
+            .map(|(j, _)| j)
+            .collect();
+        for row in lines[i + 1..].iter().take_while(|l| !l.is_empty()) {
+            let chars: Vec<char> = row.chars().collect();
+            for s in starts.iter().skip(1) {
+                assert!(chars.len() > *s, "short row {row:?}");
+                assert_eq!(chars[s - 1], ' ', "misaligned before col {s}: {row:?}");
+                assert_ne!(chars[*s], ' ', "misaligned at col {s}: {row:?}");
+            }
+        }
+    }
+    assert!(tables >= 1);
+}
+
+#[test]
+fn csv_files_parse_back_with_consistent_shape() {
+    let r = results();
+    for (text, records, cols) in [
+        (summary_csv(&r), r.summary.len(), 9),
+        (per_class_csv(&r), r.per_class.len(), 10),
+        (diagnostics_csv(&r), r.diagnostics.len(), 10),
+        // 8 fixed columns + 6 metrics (4 shared, log_loss and ece for linear) + 4 classes.
+        (folds_csv(&r), r.folds.len(), 8 + 6 + 4),
+    ] {
+        let rows = parse_csv(&text);
+        assert_eq!(rows.len(), records + 1, "header + one line per record");
+        for row in &rows {
+            assert_eq!(row.len(), cols, "{row:?}");
+        }
+    }
+
+    let rows = parse_csv(&per_class_csv(&r));
+    let class_col = rows[0].iter().position(|h| h == "class").unwrap();
+    let names: Vec<&str> = rows[1..].iter().map(|r| r[class_col].as_str()).collect();
+    for c in CLASSES {
+        assert!(names.contains(&c), "class {c:?} did not round-trip");
+    }
+    // NaN is an empty field; other numbers parse back exactly.
+    let delta_col = rows[0].iter().position(|h| h == "delta_mean").unwrap();
+    let nan_row = r
+        .per_class
+        .iter()
+        .position(|c| c.delta_mean.is_nan())
+        .unwrap();
+    assert_eq!(rows[nan_row + 1][delta_col], "");
+    for (row, rec) in rows[1..].iter().zip(&r.per_class) {
+        if rec.delta_mean.is_finite() {
+            assert_eq!(row[delta_col].parse::<f64>().unwrap(), rec.delta_mean);
+        }
+    }
+
+    let folds = parse_csv(&folds_csv(&r));
+    let header = &folds[0];
+    assert!(header.contains(&"recall:dog, large".to_string()));
+    assert!(header.contains(&"log_loss".to_string()));
+    let ll = header.iter().position(|h| h == "log_loss").unwrap();
+    let probe = header.iter().position(|h| h == "probe").unwrap();
+    let conv = header.iter().position(|h| h == "converged").unwrap();
+    for row in &folds[1..] {
+        // k-NN records have no log loss and no convergence flag: empty fields.
+        assert_eq!(row[ll].is_empty(), row[probe] == "knn");
+        assert_eq!(row[conv].is_empty(), row[probe] == "knn");
+    }
+}
+
+/// The SVG fragments of a page (each `<svg …>…</svg>`).
+fn svg_blocks(html: &str) -> Vec<&str> {
+    let mut out = Vec::new();
+    let mut rest = html;
+    while let Some(start) = rest.find("<svg") {
+        let end = rest[start..].find("</svg>").expect("unclosed <svg>") + start + 6;
+        out.push(&rest[start..end]);
+        rest = &rest[end..];
+    }
+    out
+}
+
+/// Every attribute value of every tag in `svg`, as (name, value).
+fn attributes(svg: &str) -> Vec<(String, String)> {
+    let mut out = Vec::new();
+    for tag in svg.split('<').skip(1) {
+        let tag = tag.split('>').next().unwrap_or("");
+        let mut rest = tag;
+        while let Some(eq) = rest.find("=\"") {
+            let name = rest[..eq].rsplit(' ').next().unwrap_or("").to_string();
+            let after = &rest[eq + 2..];
+            let close = after.find('"').expect("unterminated attribute");
+            out.push((name, after[..close].to_string()));
+            rest = &after[close + 1..];
+        }
+    }
+    out
+}
+
+#[test]
+fn html_is_self_contained_well_formed_and_escaped() {
+    let r = results();
+    let html = html_report(&r);
+    assert!(html.starts_with("<!DOCTYPE html>"));
+    assert_eq!(html.matches("<svg").count(), html.matches("</svg>").count());
+    // One delta chart, one heatmap, one scatter per entry.
+    assert_eq!(svg_blocks(&html).len(), 2 + r.scatter.len());
+    for id in [
+        "header",
+        "caution",
+        "summary",
+        "chart-deltas",
+        "chart-class-recall",
+        "chart-scatter",
+        "diagnostics",
+        "notes",
+    ] {
+        assert!(
+            html.contains(&format!("id=\"{id}\"")),
+            "section {id} missing"
+        );
+    }
+    // No scripts and no external resources.
+    assert!(!html.contains("<script"));
+    assert!(!html.contains("src="));
+    assert!(!html.contains("href="));
+    // Text is escaped: the class `<b>&` and the path's `<scenario>` never appear raw.
+    assert!(html.contains("&lt;b&gt;&amp;"));
+    assert!(!html.contains("<b>&"));
+    assert!(!html.contains("<scenario>"));
+    assert!(html.contains("&lt;script&gt;"), "config JSON escaped");
+    assert!(squash(&html).contains(&squash(CAUTION)));
+    // Every class name (escaped) is in the heatmap; every scatter has its "class — method" title.
+    let heatmap = svg_blocks(&html)[1];
+    assert!(heatmap.contains("dog, large") && heatmap.contains("say &quot;hi&quot;"));
+    assert!(html.contains("&lt;b&gt;&amp; — extrapolate"));
+
+    let numeric = [
+        "x",
+        "y",
+        "x1",
+        "y1",
+        "x2",
+        "y2",
+        "cx",
+        "cy",
+        "r",
+        "width",
+        "height",
+        "font-size",
+        "stroke-width",
+        "opacity",
+    ];
+    for svg in svg_blocks(&html) {
+        for (name, value) in attributes(svg) {
+            let lower = value.to_ascii_lowercase();
+            assert!(
+                !lower.contains("nan") && !lower.contains("inf"),
+                "{name}=\"{value}\""
+            );
+            if numeric.contains(&name.as_str()) {
+                let v: f64 = value
+                    .parse()
+                    .unwrap_or_else(|_| panic!("{name}=\"{value}\""));
+                assert!(v.is_finite());
+            }
+            if name == "points" || name == "viewBox" {
+                for part in value.split([' ', ',']) {
+                    assert!(part.parse::<f64>().is_ok(), "{name}=\"{value}\"");
+                }
+            }
+        }
+    }
+    // The NaN synthetic point is skipped: 40 finite triangles per scatter.
+    let first = svg_blocks(&html)[2];
+    assert_eq!(
+        first.matches("<polygon").count(),
+        40 + 1,
+        "40 points + 1 legend marker"
+    );
+}
+
+#[test]
+fn report_dir_is_written_atomically() {
+    let base = tempfile::tempdir().unwrap();
+    let dir = base.path().join("run1");
+    let r = results();
+    let files = [
+        "results.json",
+        "summary.csv",
+        "per_class.csv",
+        "diagnostics.csv",
+        "folds.csv",
+        "report.html",
+    ];
+    write_report_dir(&dir, &r, false).unwrap();
+    for f in files {
+        assert!(dir.join(f).is_file(), "{f} missing");
+    }
+    let listing = |p: &std::path::Path| -> Vec<String> {
+        let mut v: Vec<String> = std::fs::read_dir(p)
+            .unwrap()
+            .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+            .collect();
+        v.sort();
+        v
+    };
+    assert_eq!(listing(&dir).len(), files.len());
+    assert_eq!(
+        listing(base.path()),
+        vec!["run1".to_string()],
+        "no temp folder left"
+    );
+
+    // results.json: serde_json writes NaN as null, so the file is valid JSON.
+    let json: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(dir.join("results.json")).unwrap()).unwrap();
+    let p0 = &json["summary"][0]["p_value"];
+    assert!(
+        p0.is_null(),
+        "NaN p-value of the baseline must be null, got {p0}"
+    );
+    assert_eq!(json["input"]["classes"][2], "<b>&");
+
+    // An existing folder is refused without force, and left untouched.
+    std::fs::write(dir.join("marker.txt"), "old").unwrap();
+    let err = write_report_dir(&dir, &r, false).unwrap_err().to_string();
+    assert!(err.contains("--force"), "{err}");
+    assert!(dir.join("marker.txt").exists());
+    assert_eq!(listing(base.path()), vec!["run1".to_string()]);
+
+    // With force the old folder is replaced as a whole.
+    write_report_dir(&dir, &r, true).unwrap();
+    assert!(!dir.join("marker.txt").exists());
+    assert_eq!(listing(&dir).len(), files.len());
+    assert_eq!(
+        listing(base.path()),
+        vec!["run1".to_string()],
+        "no temp or old folder left"
+    );
+
+    // A file in the way is not replaced, even with force.
+    let file = base.path().join("plain.txt");
+    std::fs::write(&file, "x").unwrap();
+    assert!(write_report_dir(&file, &r, true).is_err());
+    assert_eq!(std::fs::read_to_string(&file).unwrap(), "x");
+
+    // A missing parent is created.
+    let nested = base.path().join("a").join("b");
+    write_report_dir(&nested, &r, false).unwrap();
+    assert!(nested.join("report.html").is_file());
+}
+
+#[test]
+fn empty_results_render_without_panicking() {
+    // An assessment that produced no rows at all (e.g. only `none` and no folds) must still
+    // give a readable table, header-only CSVs and a valid page (common practice, no source).
+    let mut r = results();
+    r.methods = vec!["none".into()];
+    r.folds.clear();
+    r.summary.clear();
+    r.per_class.clear();
+    r.diagnostics.clear();
+    r.scatter.clear();
+    r.sentences.clear();
+    r.warnings.clear();
+    let t = terminal_table(&r);
+    assert!(squash(&t).contains(&squash(CAUTION)));
+    assert!(t.contains("none"));
+    for csv in [
+        summary_csv(&r),
+        per_class_csv(&r),
+        diagnostics_csv(&r),
+        folds_csv(&r),
+    ] {
+        assert_eq!(parse_csv(&csv).len(), 1, "header only");
+    }
+    let html = html_report(&r);
+    assert_eq!(html.matches("<svg").count(), 0);
+    assert!(html.contains("No method besides none was assessed."));
+    assert!(html.contains("id=\"chart-scatter\""));
+}
