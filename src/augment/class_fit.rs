@@ -33,7 +33,13 @@ impl<T: Send> PerClass<T> {
     /// result is collected in class-index order, so it does not depend on the thread count.
     /// A class with no rows is skipped without calling `fit_class`. With `strict`, any skipped
     /// class turns the whole fit into an error naming every such class.
-    pub(super) fn fit<F>(kind: MethodKind, train: &Dataset, classes: &[u32], strict: bool, fit_class: F) -> Result<Self>
+    pub(super) fn fit<F>(
+        kind: MethodKind,
+        train: &Dataset,
+        classes: &[u32],
+        strict: bool,
+        fit_class: F,
+    ) -> Result<Self>
     where
         F: Fn(u32, &[usize]) -> Result<ClassFit<T>> + Sync,
     {
@@ -42,7 +48,10 @@ impl<T: Send> PerClass<T> {
         wanted.dedup();
         if let Some(&bad) = wanted.iter().find(|&&c| c as usize >= train.n_classes()) {
             return Err(Error::data(
-                format!("{kind}: class index {bad} is not in the training set ({} classes)", train.n_classes()),
+                format!(
+                    "{kind}: class index {bad} is not in the training set ({} classes)",
+                    train.n_classes()
+                ),
                 "grow only classes that occur in the training data",
             ));
         }
@@ -56,7 +65,11 @@ impl<T: Send> PerClass<T> {
         let fitted: Vec<(u32, Result<ClassFit<T>>)> = rows
             .into_par_iter()
             .map(|(c, r)| {
-                let fit = if r.is_empty() { Ok(ClassFit::Skip("no training rows".into())) } else { fit_class(c, &r) };
+                let fit = if r.is_empty() {
+                    Ok(ClassFit::Skip("no training rows".into()))
+                } else {
+                    fit_class(c, &r)
+                };
                 (c, fit)
             })
             .collect();
@@ -83,7 +96,12 @@ impl<T: Send> PerClass<T> {
                 "give these classes more training rows, leave them out of the grown classes, or turn off strict mode to skip them with a warning",
             ));
         }
-        Ok(PerClass { kind, dims: train.dims(), models, notes })
+        Ok(PerClass {
+            kind,
+            dims: train.dims(),
+            models,
+            notes,
+        })
     }
 }
 
@@ -93,7 +111,10 @@ impl<T> PerClass<T> {
         match self.models.get(&class) {
             Some(m) => Ok(m.as_ref()),
             None => Err(Error::data(
-                format!("{}: class index {class} was not among the classes it was fitted on", self.kind),
+                format!(
+                    "{}: class index {class} was not among the classes it was fitted on",
+                    self.kind
+                ),
                 "fit the method on every class you want to sample",
             )),
         }
@@ -105,6 +126,9 @@ impl<T> PerClass<T> {
 
     /// Zero rows of the fitted width, for skipped classes and `n == 0`.
     pub(super) fn empty(&self) -> Synthetic {
-        Synthetic { x: Array2::zeros((0, self.dims)), provenance: Vec::new() }
+        Synthetic {
+            x: Array2::zeros((0, self.dims)),
+            provenance: Vec::new(),
+        }
     }
 }

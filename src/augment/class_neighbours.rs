@@ -33,19 +33,36 @@ pub(super) struct Pair<'a> {
 impl ClassNeighbours {
     /// Neighbour lists for the class rows `rows` of `train`. A one-row class has no
     /// neighbour and is skipped; K is reduced to `rows - 1` when the class is that small.
-    pub(super) fn fit(train: &Dataset, class: u32, rows: &[usize], k: usize, metric: Metric) -> Result<ClassFit<Self>> {
+    pub(super) fn fit(
+        train: &Dataset,
+        class: u32,
+        rows: &[usize],
+        k: usize,
+        metric: Metric,
+    ) -> Result<ClassFit<Self>> {
         let m = rows.len();
         if m < 2 {
-            return Ok(ClassFit::Skip("only one training row, so no same-class neighbour".into()));
+            return Ok(ClassFit::Skip(
+                "only one training row, so no same-class neighbour".into(),
+            ));
         }
         let used = k.min(m - 1);
         let note = (used < k).then_some(FitNote::Clamped { class, k: used });
         let x = train.x.select(Axis(0), rows);
         let knn = knn_within(x.view(), used, metric);
         if knn.k == 0 || knn.n_queries() != m {
-            return Ok(ClassFit::Skip("the neighbour search returned no neighbours".into()));
+            return Ok(ClassFit::Skip(
+                "the neighbour search returned no neighbours".into(),
+            ));
         }
-        Ok(ClassFit::Ready { model: ClassNeighbours { rows: rows.to_vec(), x, knn }, note })
+        Ok(ClassFit::Ready {
+            model: ClassNeighbours {
+                rows: rows.to_vec(),
+                x,
+                knn,
+            },
+            note,
+        })
     }
 
     /// A base row uniform over the class and a partner uniform among its K neighbours.
@@ -54,7 +71,12 @@ impl ClassNeighbours {
         let base = rng.gen_range(0..self.rows.len());
         let j = rng.gen_range(0..self.knn.k);
         let other = self.knn.row(base).0[j] as usize;
-        Pair { parent: self.rows[base], partner: self.rows[other], x: self.x.row(base), n: self.x.row(other) }
+        Pair {
+            parent: self.rows[base],
+            partner: self.rows[other],
+            x: self.x.row(base),
+            n: self.x.row(other),
+        }
     }
 
     pub(super) fn dims(&self) -> usize {

@@ -2,14 +2,17 @@
 //! from one of its K nearest same-class neighbours n: x + λ·(x − n), λ fixed (default 0.5).
 //! Unlike interpolation it can reach past the class hull, towards where the class may extend.
 
-use ndarray::Array2;
 use super::class_fit::{ClassFit, PerClass};
 use super::class_neighbours::ClassNeighbours;
-use super::{AugmentParams, Augmenter, FitNote, FittedAugmenter, MethodKind, Provenance, Synthetic, check_finite};
+use super::{
+    AugmentParams, Augmenter, FitNote, FittedAugmenter, MethodKind, Provenance, Synthetic,
+    check_finite,
+};
 use crate::data::Dataset;
 use crate::error::Result;
 use crate::neighbors::Metric;
 use crate::seed::Rng;
+use ndarray::Array2;
 
 /// Configured extrapolation.
 pub(super) struct Extrapolate {
@@ -22,7 +25,12 @@ pub(super) struct Extrapolate {
 
 impl Extrapolate {
     pub(super) fn new(params: &AugmentParams, lambda: f32) -> Self {
-        Extrapolate { k: params.neighbours, lambda, metric: params.metric, strict: params.strict }
+        Extrapolate {
+            k: params.neighbours,
+            lambda,
+            metric: params.metric,
+            strict: params.strict,
+        }
     }
 }
 
@@ -32,9 +40,14 @@ impl Augmenter for Extrapolate {
     }
 
     fn fit(&self, train: &Dataset, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
-        let fit = |c: u32, rows: &[usize]| -> Result<ClassFit<ClassNeighbours>> { ClassNeighbours::fit(train, c, rows, self.k, self.metric) };
+        let fit = |c: u32, rows: &[usize]| -> Result<ClassFit<ClassNeighbours>> {
+            ClassNeighbours::fit(train, c, rows, self.k, self.metric)
+        };
         let per_class = PerClass::fit(self.kind(), train, classes, self.strict, fit)?;
-        Ok(Box::new(FittedExtrapolate { per_class, lambda: self.lambda }))
+        Ok(Box::new(FittedExtrapolate {
+            per_class,
+            lambda: self.lambda,
+        }))
     }
 }
 
@@ -56,7 +69,11 @@ impl FittedAugmenter for FittedExtrapolate {
             for ((o, &a), &b) in out.iter_mut().zip(pair.x).zip(pair.n) {
                 *o = a + l * (a - b);
             }
-            provenance.push(Provenance { parent: pair.parent, partner: Some(pair.partner), weight: l });
+            provenance.push(Provenance {
+                parent: pair.parent,
+                partner: Some(pair.partner),
+                weight: l,
+            });
         }
         check_finite(MethodKind::Extrapolate, class, &x)?;
         Ok(Synthetic { x, provenance })

@@ -9,7 +9,10 @@ use rand::Rng as _;
 use rand_distr::StandardNormal;
 
 use super::class_fit::{ClassFit, PerClass};
-use super::{AugmentParams, Augmenter, FitNote, FittedAugmenter, MethodKind, Provenance, Synthetic, check_finite};
+use super::{
+    AugmentParams, Augmenter, FitNote, FittedAugmenter, MethodKind, Provenance, Synthetic,
+    check_finite,
+};
 use crate::data::Dataset;
 use crate::error::Result;
 use crate::seed::Rng;
@@ -22,7 +25,10 @@ pub(super) struct GaussianNoise {
 
 impl GaussianNoise {
     pub(super) fn new(params: &AugmentParams, magnitude: f32) -> Self {
-        GaussianNoise { magnitude, strict: params.strict }
+        GaussianNoise {
+            magnitude,
+            strict: params.strict,
+        }
     }
 }
 
@@ -38,7 +44,10 @@ fn mean_sd(x: &Array2<f32>) -> f64 {
     let n = x.nrows() as f64;
     let sds = x.axis_iter(Axis(1)).map(|col| {
         let mean = col.iter().map(|&v| f64::from(v)).sum::<f64>() / n;
-        let ss = col.iter().map(|&v| (f64::from(v) - mean).powi(2)).sum::<f64>();
+        let ss = col
+            .iter()
+            .map(|&v| (f64::from(v) - mean).powi(2))
+            .sum::<f64>();
         (ss / (n - 1.0)).sqrt()
     });
     sds.sum::<f64>() / x.ncols().max(1) as f64
@@ -52,18 +61,32 @@ impl Augmenter for GaussianNoise {
     fn fit(&self, train: &Dataset, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
         let fit = |_: u32, rows: &[usize]| -> Result<ClassFit<ClassSpread>> {
             if rows.len() < 2 {
-                return Ok(ClassFit::Skip("only one training row, so its spread is undefined".into()));
+                return Ok(ClassFit::Skip(
+                    "only one training row, so its spread is undefined".into(),
+                ));
             }
             let x = train.x.select(Axis(0), rows);
             let sigma = mean_sd(&x);
             if sigma == 0.0 {
-                return Ok(ClassFit::Skip("its rows are identical, so its spread is zero".into()));
+                return Ok(ClassFit::Skip(
+                    "its rows are identical, so its spread is zero".into(),
+                ));
             }
             let scale = f64::from(self.magnitude) * sigma;
-            Ok(ClassFit::Ready { model: ClassSpread { rows: rows.to_vec(), x, scale }, note: None })
+            Ok(ClassFit::Ready {
+                model: ClassSpread {
+                    rows: rows.to_vec(),
+                    x,
+                    scale,
+                },
+                note: None,
+            })
         };
         let per_class = PerClass::fit(self.kind(), train, classes, self.strict, fit)?;
-        Ok(Box::new(FittedGaussianNoise { per_class, magnitude: self.magnitude }))
+        Ok(Box::new(FittedGaussianNoise {
+            per_class,
+            magnitude: self.magnitude,
+        }))
     }
 }
 
@@ -85,7 +108,11 @@ impl FittedAugmenter for FittedGaussianNoise {
                 let z: f64 = rng.sample(StandardNormal);
                 *o = (f64::from(a) + cs.scale * z) as f32;
             }
-            provenance.push(Provenance { parent: cs.rows[base], partner: None, weight: self.magnitude });
+            provenance.push(Provenance {
+                parent: cs.rows[base],
+                partner: None,
+                weight: self.magnitude,
+            });
         }
         check_finite(MethodKind::GaussianNoise, class, &x)?;
         Ok(Synthetic { x, provenance })

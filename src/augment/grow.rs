@@ -28,10 +28,21 @@ pub struct Grown {
 /// The method is fitted once, on the planned classes only. Classes are drawn in parallel but
 /// each from its own stream and collected in class-index order, so the result is the same for
 /// any number of threads. A class the fit skipped contributes no rows (its note says why).
-pub fn grow(train: &Dataset, method: &dyn Augmenter, plan: &Plan, unit_norm: bool, seed: u64, stream: &[u64]) -> Result<Grown> {
+pub fn grow(
+    train: &Dataset,
+    method: &dyn Augmenter,
+    plan: &Plan,
+    unit_norm: bool,
+    seed: u64,
+    stream: &[u64],
+) -> Result<Grown> {
     if plan.add.iter().skip(train.n_classes()).any(|&n| n > 0) {
         return Err(Error::data(
-            format!("the plan grows {} classes but the training set has {}", plan.add.len(), train.n_classes()),
+            format!(
+                "the plan grows {} classes but the training set has {}",
+                plan.add.len(),
+                train.n_classes()
+            ),
             "make the plan from this training set's class counts",
         ));
     }
@@ -43,7 +54,9 @@ pub fn grow(train: &Dataset, method: &dyn Augmenter, plan: &Plan, unit_norm: boo
             let mut path = stream.to_vec();
             path.push(u64::from(c));
             let mut rng = seed::stream(seed, &path);
-            fitted.sample(c, plan.add[c as usize], &mut rng).map(|s| (c, s))
+            fitted
+                .sample(c, plan.add[c as usize], &mut rng)
+                .map(|s| (c, s))
         })
         .collect::<Result<_>>()?;
 
@@ -51,27 +64,55 @@ pub fn grow(train: &Dataset, method: &dyn Augmenter, plan: &Plan, unit_norm: boo
     let mut x = if views.is_empty() {
         Array2::zeros((0, train.dims()))
     } else {
-        concatenate(Axis(0), &views).map_err(|e| Error::data(format!("{}: synthetic rows of different widths ({e})", method.kind()), "this is a bug in the method; please report it"))?
+        concatenate(Axis(0), &views).map_err(|e| {
+            Error::data(
+                format!(
+                    "{}: synthetic rows of different widths ({e})",
+                    method.kind()
+                ),
+                "this is a bug in the method; please report it",
+            )
+        })?
     };
-    let labels = drawn.iter().flat_map(|(c, s)| std::iter::repeat_n(*c, s.x.nrows())).collect();
+    let labels = drawn
+        .iter()
+        .flat_map(|(c, s)| std::iter::repeat_n(*c, s.x.nrows()))
+        .collect();
     let provenance = drawn.into_iter().flat_map(|(_, s)| s.provenance).collect();
     if unit_norm {
         renormalise(&mut x);
     }
-    if let Some(i) = x.rows().into_iter().position(|r| r.iter().any(|v| !v.is_finite())) {
+    if let Some(i) = x
+        .rows()
+        .into_iter()
+        .position(|r| r.iter().any(|v| !v.is_finite()))
+    {
         return Err(Error::data(
-            format!("{} produced a non-finite value in synthetic row {i}", method.kind()),
+            format!(
+                "{} produced a non-finite value in synthetic row {i}",
+                method.kind()
+            ),
             "check the input for extreme values, or lower the magnitude",
         ));
     }
-    Ok(Grown { x, labels, provenance, renormalised: unit_norm, notes: fitted.notes().to_vec() })
+    Ok(Grown {
+        x,
+        labels,
+        provenance,
+        renormalised: unit_norm,
+        notes: fitted.notes().to_vec(),
+    })
 }
 
 /// Rescale each row to unit length (norm taken in f64). A zero row has no direction and is
 /// left as it is.
 fn renormalise(x: &mut Array2<f32>) {
     for mut row in x.rows_mut() {
-        let norm = row.iter().map(|&v| f64::from(v).powi(2)).sum::<f64>().sqrt();
+        let norm = row
+            .iter()
+            .map(|&v| f64::from(v).powi(2))
+            .sum::<f64>()
+            .sqrt();
         if norm > 0.0 {
             row.mapv_inplace(|v| (f64::from(v) / norm) as f32);
         }

@@ -7,7 +7,10 @@ use rand::Rng as _;
 
 use super::class_fit::{ClassFit, PerClass};
 use super::class_neighbours::ClassNeighbours;
-use super::{AugmentParams, Augmenter, FitNote, FittedAugmenter, MethodKind, Provenance, Synthetic, check_finite};
+use super::{
+    AugmentParams, Augmenter, FitNote, FittedAugmenter, MethodKind, Provenance, Synthetic,
+    check_finite,
+};
 use crate::data::Dataset;
 use crate::error::Result;
 use crate::neighbors::Metric;
@@ -22,7 +25,11 @@ pub(super) struct Interpolate {
 
 impl Interpolate {
     pub(super) fn new(params: &AugmentParams) -> Self {
-        Interpolate { k: params.neighbours, metric: params.metric, strict: params.strict }
+        Interpolate {
+            k: params.neighbours,
+            metric: params.metric,
+            strict: params.strict,
+        }
     }
 }
 
@@ -32,7 +39,9 @@ impl Augmenter for Interpolate {
     }
 
     fn fit(&self, train: &Dataset, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
-        let fit = |c: u32, rows: &[usize]| -> Result<ClassFit<ClassNeighbours>> { ClassNeighbours::fit(train, c, rows, self.k, self.metric) };
+        let fit = |c: u32, rows: &[usize]| -> Result<ClassFit<ClassNeighbours>> {
+            ClassNeighbours::fit(train, c, rows, self.k, self.metric)
+        };
         let per_class = PerClass::fit(self.kind(), train, classes, self.strict, fit)?;
         Ok(Box::new(FittedInterpolate { per_class }))
     }
@@ -55,7 +64,11 @@ impl FittedAugmenter for FittedInterpolate {
             for ((o, &a), &b) in out.iter_mut().zip(pair.x).zip(pair.n) {
                 *o = a + u * (b - a);
             }
-            provenance.push(Provenance { parent: pair.parent, partner: Some(pair.partner), weight: u });
+            provenance.push(Provenance {
+                parent: pair.parent,
+                partner: Some(pair.partner),
+                weight: u,
+            });
         }
         check_finite(MethodKind::Interpolate, class, &x)?;
         Ok(Synthetic { x, provenance })

@@ -28,7 +28,10 @@ struct FittedNone {
 impl FittedAugmenter for FittedNone {
     /// Always zero rows, whatever `n` is: the baseline never synthesises.
     fn sample(&self, _class: u32, _n: usize, _rng: &mut Rng) -> Result<Synthetic> {
-        Ok(Synthetic { x: Array2::zeros((0, self.dims)), provenance: Vec::new() })
+        Ok(Synthetic {
+            x: Array2::zeros((0, self.dims)),
+            provenance: Vec::new(),
+        })
     }
 
     fn notes(&self) -> &[FitNote] {

@@ -35,7 +35,11 @@ impl FromStr for Target {
             "median" => Ok(Target::Median),
             _ if s.starts_with('x') => {
                 let f: f64 = s[1..].parse().map_err(|_| bad())?;
-                if (1.0..=1.0e6).contains(&f) { Ok(Target::Factor(f)) } else { Err(bad()) }
+                if (1.0..=1.0e6).contains(&f) {
+                    Ok(Target::Factor(f))
+                } else {
+                    Err(bad())
+                }
             }
             _ => s.parse::<usize>().map(Target::Count).map_err(|_| bad()),
         }
@@ -78,7 +82,11 @@ impl Plan {
             .enumerate()
             .map(|(c, &own)| {
                 let chosen = only.is_none_or(|o| o.contains(&(c as u32)));
-                if chosen && own > 0 { goal(own).saturating_sub(own) } else { 0 }
+                if chosen && own > 0 {
+                    goal(own).saturating_sub(own)
+                } else {
+                    0
+                }
             })
             .collect();
         Plan { add }
@@ -86,7 +94,12 @@ impl Plan {
 
     /// Classes that get at least one row.
     pub fn grown_classes(&self) -> Vec<u32> {
-        self.add.iter().enumerate().filter(|&(_, &n)| n > 0).map(|(c, _)| c as u32).collect()
+        self.add
+            .iter()
+            .enumerate()
+            .filter(|&(_, &n)| n > 0)
+            .map(|(c, _)| c as u32)
+            .collect()
     }
 
     pub fn total(&self) -> usize {
@@ -102,10 +115,22 @@ mod tests {
     fn targets() {
         // common practice, no source: "grow to the median/largest class" as defined in DESIGN.md.
         let counts = [100, 10, 40, 3];
-        assert_eq!(Plan::new(&counts, Target::Median, None).add, vec![0, 30, 0, 37]);
-        assert_eq!(Plan::new(&counts, Target::Largest, None).add, vec![0, 90, 60, 97]);
-        assert_eq!(Plan::new(&counts, Target::Count(20), Some(&[1])).add, vec![0, 10, 0, 0]);
-        assert_eq!(Plan::new(&counts, Target::Factor(2.0), Some(&[3])).add, vec![0, 0, 0, 3]);
+        assert_eq!(
+            Plan::new(&counts, Target::Median, None).add,
+            vec![0, 30, 0, 37]
+        );
+        assert_eq!(
+            Plan::new(&counts, Target::Largest, None).add,
+            vec![0, 90, 60, 97]
+        );
+        assert_eq!(
+            Plan::new(&counts, Target::Count(20), Some(&[1])).add,
+            vec![0, 10, 0, 0]
+        );
+        assert_eq!(
+            Plan::new(&counts, Target::Factor(2.0), Some(&[3])).add,
+            vec![0, 0, 0, 3]
+        );
         assert_eq!("x1.5".parse::<Target>().unwrap(), Target::Factor(1.5));
         assert!("x0.5".parse::<Target>().is_err());
         assert!("many".parse::<Target>().is_err());

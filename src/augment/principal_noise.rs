@@ -10,7 +10,10 @@ use rand::Rng as _;
 use rand_distr::StandardNormal;
 
 use super::class_fit::{ClassFit, PerClass};
-use super::{AugmentParams, Augmenter, FitNote, FittedAugmenter, MethodKind, Provenance, Synthetic, check_finite};
+use super::{
+    AugmentParams, Augmenter, FitNote, FittedAugmenter, MethodKind, Provenance, Synthetic,
+    check_finite,
+};
 use crate::data::Dataset;
 use crate::error::Result;
 use crate::pca::Pca;
@@ -25,25 +28,46 @@ pub(super) struct PrincipalNoise {
 
 impl PrincipalNoise {
     pub(super) fn new(params: &AugmentParams, magnitude: f32) -> Self {
-        PrincipalNoise { magnitude, variance_kept: params.variance_kept, strict: params.strict }
+        PrincipalNoise {
+            magnitude,
+            variance_kept: params.variance_kept,
+            strict: params.strict,
+        }
     }
 
     fn fit_class(&self, train: &Dataset, rows: &[usize]) -> Result<ClassFit<ClassDirections>> {
         if rows.len() < 2 {
-            return Ok(ClassFit::Skip("only one training row, so no principal directions".into()));
+            return Ok(ClassFit::Skip(
+                "only one training row, so no principal directions".into(),
+            ));
         }
         let x = train.x.select(Axis(0), rows);
         let pca = Pca::fit(x.view())?;
-        let k = pca.components_for(self.variance_kept).min(pca.components.nrows());
+        let k = pca
+            .components_for(self.variance_kept)
+            .min(pca.components.nrows());
         if k == 0 {
-            return Ok(ClassFit::Skip("its rows are identical, so there is no variance to follow".into()));
+            return Ok(ClassFit::Skip(
+                "its rows are identical, so there is no variance to follow".into(),
+            ));
         }
         // Row j is magnitude·s_j·v_j, so a draw is just zᵀ·scaled.
         let mut scaled = pca.components.slice(ndarray::s![..k, ..]).to_owned();
-        for (mut v, &var) in scaled.rows_mut().into_iter().zip(pca.explained_variance.iter()) {
+        for (mut v, &var) in scaled
+            .rows_mut()
+            .into_iter()
+            .zip(pca.explained_variance.iter())
+        {
             v *= var.max(0.0).sqrt() * f64::from(self.magnitude);
         }
-        Ok(ClassFit::Ready { model: ClassDirections { rows: rows.to_vec(), x, scaled }, note: None })
+        Ok(ClassFit::Ready {
+            model: ClassDirections {
+                rows: rows.to_vec(),
+                x,
+                scaled,
+            },
+            note: None,
+        })
     }
 }
 
@@ -61,8 +85,13 @@ impl Augmenter for PrincipalNoise {
     }
 
     fn fit(&self, train: &Dataset, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
-        let per_class = PerClass::fit(self.kind(), train, classes, self.strict, |_, rows| self.fit_class(train, rows))?;
-        Ok(Box::new(FittedPrincipalNoise { per_class, magnitude: self.magnitude }))
+        let per_class = PerClass::fit(self.kind(), train, classes, self.strict, |_, rows| {
+            self.fit_class(train, rows)
+        })?;
+        Ok(Box::new(FittedPrincipalNoise {
+            per_class,
+            magnitude: self.magnitude,
+        }))
     }
 }
 
@@ -92,7 +121,11 @@ impl FittedAugmenter for FittedPrincipalNoise {
             for ((o, &a), &e) in out.iter_mut().zip(cd.x.row(base)).zip(&offset) {
                 *o = (f64::from(a) + e) as f32;
             }
-            provenance.push(Provenance { parent: cd.rows[base], partner: None, weight: self.magnitude });
+            provenance.push(Provenance {
+                parent: cd.rows[base],
+                partner: None,
+                weight: self.magnitude,
+            });
         }
         check_finite(MethodKind::PrincipalNoise, class, &x)?;
         Ok(Synthetic { x, provenance })
