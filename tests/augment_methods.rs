@@ -219,10 +219,12 @@ fn principal_noise_offsets_follow_the_kept_class_covariance() {
     // sqrt((Σ_ii Σ_jj + Σ_ij²) / N); allow 5 standard errors (25 entries, so a false alarm
     // is very unlikely, while a wrong scale, e.g. variance instead of sd, is far outside).
     let m2 = f64::from(magnitude).powi(2);
+    let mut worst = 0.0f64;
     for a in 0..d {
         for b in 0..d {
             let (sa, sb, sab) = (m2 * expect[a][a], m2 * expect[b][b], m2 * expect[a][b]);
             let se = ((sa * sb + sab * sab) / n as f64).sqrt();
+            worst = worst.max((got[a][b] - sab).abs() / se);
             assert!(
                 (got[a][b] - sab).abs() < 5.0 * se + 1e-9,
                 "cov[{a}][{b}] = {} vs {sab} (se {se})",
@@ -230,6 +232,7 @@ fn principal_noise_offsets_follow_the_kept_class_covariance() {
             );
         }
     }
+    eprintln!("principal-noise: worst covariance entry {worst:.2} standard errors off");
     // Nothing moves along the discarded directions (only f32 rounding, ~1e-6 per coordinate).
     for v in &dropped {
         let var = offsets
@@ -237,6 +240,7 @@ fn principal_noise_offsets_follow_the_kept_class_covariance() {
             .map(|o| o.iter().zip(v).map(|(a, b)| a * b).sum::<f64>().powi(2))
             .sum::<f64>()
             / n as f64;
+        eprintln!("principal-noise: variance {var:.1e} along a discarded direction");
         assert!(var < 1e-10, "variance {var} along a discarded direction");
     }
 }
@@ -274,6 +278,7 @@ fn gaussian_noise_offsets_have_the_class_spread() {
     let got = covariance(&offsets);
     // Definition (DESIGN.md, gaussian-noise: isotropic, scale magnitude·σ): Var = (mσ)², Cov = 0.
     // Monte-Carlo se of a variance is sqrt(2/N)·Var, of a zero covariance Var/sqrt(N); 5 se.
+    let mut worst = 0.0f64;
     for (a, row) in got.iter().enumerate() {
         for (b, &g) in row.iter().enumerate() {
             let want = if a == b { target } else { 0.0 };
@@ -282,9 +287,11 @@ fn gaussian_noise_offsets_have_the_class_spread() {
             } else {
                 target / (n as f64).sqrt()
             };
+            worst = worst.max((g - want).abs() / se);
             assert!((g - want).abs() < 5.0 * se, "cov[{a}][{b}] = {g} vs {want}");
         }
     }
+    eprintln!("gaussian-noise: worst covariance entry {worst:.2} standard errors off");
 }
 
 #[test]
@@ -375,6 +382,23 @@ fn tiny_classes_are_skipped_clamped_or_refused() {
     )
     .unwrap();
     assert!(g.notes.is_empty());
+    // Only planned classes are fitted: the one-row class 1 is not grown here, so even strict
+    // mode has nothing to refuse.
+    let strict = AugmentParams {
+        strict: true,
+        ..params(2, None)
+    };
+    let g = grow(
+        &ds,
+        build(MethodKind::Extrapolate, &strict).unwrap().as_ref(),
+        &Plan { add: vec![3, 0, 4] },
+        false,
+        1,
+        &[],
+    )
+    .unwrap();
+    assert!(g.notes.is_empty());
+    assert_eq!(g.labels, [0, 0, 0, 2, 2, 2, 2]);
 }
 
 #[test]
