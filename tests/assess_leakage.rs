@@ -4,7 +4,10 @@
 use std::sync::{Arc, Mutex};
 
 use embloom::assess::{AssessConfig, InputInfo, assess_with};
-use embloom::augment::{self, AugmentParams, Augmenter, FitNote, FittedAugmenter, MethodKind, Provenance, Synthetic, Target};
+use embloom::augment::{
+    self, AugmentParams, Augmenter, FitNote, FittedAugmenter, MethodKind, Provenance, Synthetic,
+    Target,
+};
 use embloom::cmd::options::UnitNorm;
 use embloom::eval::protocol::make_folds;
 use embloom::probe::ProbeKind;
@@ -41,7 +44,10 @@ fn config() -> AssessConfig {
         classes: None,
         augment: AugmentParams::default(),
         unit_norm: UnitNorm::Off,
-        knn: KnnParams { k: 3, ..KnnParams::default() },
+        knn: KnnParams {
+            k: 3,
+            ..KnnParams::default()
+        },
         linear: LinearParams::default(),
         seed: 5,
         diagnostics: true,
@@ -50,7 +56,14 @@ fn config() -> AssessConfig {
 }
 
 fn info(ds: &Dataset) -> InputInfo {
-    InputInfo { path: "test".into(), sha256: String::new(), rows: ds.n_rows(), dims: ds.dims(), classes: ds.classes.clone(), class_counts: ds.class_counts() }
+    InputInfo {
+        path: "test".into(),
+        sha256: String::new(),
+        rows: ds.n_rows(),
+        dims: ds.dims(),
+        classes: ds.classes.clone(),
+        class_counts: ds.class_counts(),
+    }
 }
 
 /// Records the ids of every training set it is fitted on, then behaves like interpolate.
@@ -76,7 +89,10 @@ fn augmenters_are_fitted_on_each_folds_training_rows_only() {
     let seen = Arc::new(Mutex::new(Vec::new()));
     let augmenters: Vec<Box<dyn Augmenter>> = vec![
         augment::build(MethodKind::None, &cfg.augment).unwrap(),
-        Box::new(Spy { seen: seen.clone(), inner: augment::build(MethodKind::Interpolate, &cfg.augment).unwrap() }),
+        Box::new(Spy {
+            seen: seen.clone(),
+            inner: augment::build(MethodKind::Interpolate, &cfg.augment).unwrap(),
+        }),
     ];
     let results = assess_with(&ds, &cfg, info(&ds), &augmenters).unwrap();
     let (_, folds) = make_folds(&ds, cfg.folds, cfg.repeats, cfg.seed).unwrap();
@@ -84,14 +100,20 @@ fn augmenters_are_fitted_on_each_folds_training_rows_only() {
     assert_eq!(seen.len(), folds.len());
     for (fit, fold) in seen.iter().zip(&folds) {
         let train: Vec<String> = fold.train.iter().map(|i| i.to_string()).collect();
-        assert_eq!(fit, &train, "the augmenter saw rows outside the training fold");
+        assert_eq!(
+            fit, &train,
+            "the augmenter saw rows outside the training fold"
+        );
         for t in &fold.test {
             assert!(!fit.contains(&t.to_string()));
         }
     }
     // Probes are scored on real test rows only: each record's test count is its fold's size.
     for r in &results.folds {
-        let fold = folds.iter().find(|f| f.repeat == r.repeat && f.index == r.fold).unwrap();
+        let fold = folds
+            .iter()
+            .find(|f| f.repeat == r.repeat && f.index == r.fold)
+            .unwrap();
         assert_eq!(r.test, fold.test.len());
         assert_eq!(r.train_real, fold.train.len());
     }
@@ -123,10 +145,27 @@ impl Augmenter for Leaky {
 
 impl FittedAugmenter for LeakyFit {
     fn sample(&self, class: u32, n: usize, _rng: &mut Rng) -> Result<Synthetic> {
-        let picked: Vec<&Vec<f32>> = self.rows.iter().filter(|(c, _)| *c == class).map(|(_, r)| r).cycle().take(n).collect();
+        let picked: Vec<&Vec<f32>> = self
+            .rows
+            .iter()
+            .filter(|(c, _)| *c == class)
+            .map(|(_, r)| r)
+            .cycle()
+            .take(n)
+            .collect();
         let d = self.rows.first().map_or(0, |r| r.1.len());
         let x = Array2::from_shape_fn((picked.len(), d), |(i, j)| picked[i][j]);
-        Ok(Synthetic { x, provenance: vec![Provenance { parent: 0, partner: None, weight: 0.0 }; picked.len()] })
+        Ok(Synthetic {
+            x,
+            provenance: vec![
+                Provenance {
+                    parent: 0,
+                    partner: None,
+                    weight: 0.0
+                };
+                picked.len()
+            ],
+        })
     }
     fn notes(&self) -> &[FitNote] {
         &[]
@@ -137,7 +176,12 @@ impl FittedAugmenter for LeakyFit {
 fn a_leaky_augmenter_is_caught() {
     let ds = dataset();
     let cfg = config().validated().unwrap();
-    let augmenters: Vec<Box<dyn Augmenter>> = vec![augment::build(MethodKind::None, &cfg.augment).unwrap(), Box::new(Leaky { all: ds.clone() })];
-    let err = assess_with(&ds, &cfg, info(&ds), &augmenters).unwrap_err().to_string();
+    let augmenters: Vec<Box<dyn Augmenter>> = vec![
+        augment::build(MethodKind::None, &cfg.augment).unwrap(),
+        Box::new(Leaky { all: ds.clone() }),
+    ];
+    let err = assess_with(&ds, &cfg, info(&ds), &augmenters)
+        .unwrap_err()
+        .to_string();
     assert!(err.contains("held-out test row"), "{err}");
 }

@@ -7,8 +7,18 @@ use common::*;
 fn read_csv(path: &std::path::Path) -> (Vec<String>, Vec<Vec<String>>) {
     let text = std::fs::read_to_string(path).expect("output reads");
     let mut lines = text.lines();
-    let header = lines.next().expect("header").split(',').map(str::to_string).collect();
-    (header, lines.map(|l| l.split(',').map(str::to_string).collect()).collect())
+    let header = lines
+        .next()
+        .expect("header")
+        .split(',')
+        .map(str::to_string)
+        .collect();
+    (
+        header,
+        lines
+            .map(|l| l.split(',').map(str::to_string).collect())
+            .collect(),
+    )
 }
 
 #[test]
@@ -17,14 +27,34 @@ fn real_rows_first_and_bit_identical_then_synthetic_with_provenance() {
     let input = p(dir.path(), "in.csv");
     write_csv(&input, &[30, 6, 12], 4, 1);
     let out = p(dir.path(), "out.csv");
-    let o = embloom(&["grow", input.to_str().unwrap(), "-o", out.to_str().unwrap(), "--method", "interpolate", "--target", "largest", "--seed", "3"], &[]);
+    let o = embloom(
+        &[
+            "grow",
+            input.to_str().unwrap(),
+            "-o",
+            out.to_str().unwrap(),
+            "--method",
+            "interpolate",
+            "--target",
+            "largest",
+            "--seed",
+            "3",
+        ],
+        &[],
+    );
     assert!(o.status.success(), "{}", stderr(&o));
     let (_, in_rows) = read_csv(&input);
     let (header, rows) = read_csv(&out);
     // Target largest: 30 + 30 + 30 rows (definition of --target largest in DESIGN.md).
     assert_eq!(rows.len(), 90);
-    let col = |name: &str| header.iter().position(|h| h == name).unwrap_or_else(|| panic!("column {name} in {header:?}"));
-    let (origin, parent, partner, weight) = (col("origin"), col("parent"), col("partner"), col("weight"));
+    let col = |name: &str| {
+        header
+            .iter()
+            .position(|h| h == name)
+            .unwrap_or_else(|| panic!("column {name} in {header:?}"))
+    };
+    let (origin, parent, partner, weight) =
+        (col("origin"), col("parent"), col("partner"), col("weight"));
     for (i, r) in in_rows.iter().enumerate() {
         assert_eq!(rows[i][origin], "real");
         assert_eq!(rows[i][parent], i.to_string());
@@ -45,7 +75,11 @@ fn real_rows_first_and_bit_identical_then_synthetic_with_provenance() {
         assert_eq!(rows[par][col("label")], r[col("label")]);
         assert_eq!(rows[pa as usize][col("label")], r[col("label")]);
     }
-    assert!(stderr(&o).contains("added"), "summary on stderr: {}", stderr(&o));
+    assert!(
+        stderr(&o).contains("added"),
+        "summary on stderr: {}",
+        stderr(&o)
+    );
 }
 
 #[test]
@@ -55,10 +89,24 @@ fn same_seed_same_bytes_on_one_and_two_threads() {
     write_csv(&input, &[40, 7, 9, 15], 8, 2);
     let mut outputs = Vec::new();
     for (i, threads) in ["1", "2", "2"].iter().enumerate() {
-        for method in ["interpolate", "extrapolate", "principal-noise", "gaussian-noise"] {
+        for method in [
+            "interpolate",
+            "extrapolate",
+            "principal-noise",
+            "gaussian-noise",
+        ] {
             let out = p(dir.path(), &format!("out-{method}-{i}.npz"));
             let o = embloom(
-                &["grow", input.to_str().unwrap(), "-o", out.to_str().unwrap(), "--method", method, "--seed", "11"],
+                &[
+                    "grow",
+                    input.to_str().unwrap(),
+                    "-o",
+                    out.to_str().unwrap(),
+                    "--method",
+                    method,
+                    "--seed",
+                    "11",
+                ],
                 &[("RAYON_NUM_THREADS", threads)],
             );
             assert!(o.status.success(), "{}", stderr(&o));
@@ -66,8 +114,18 @@ fn same_seed_same_bytes_on_one_and_two_threads() {
         }
     }
     for m in 0..4 {
-        assert_eq!(outputs[m].1, outputs[4 + m].1, "{} differs between 1 and 2 threads", outputs[m].0);
-        assert_eq!(outputs[m].1, outputs[8 + m].1, "{} differs between runs", outputs[m].0);
+        assert_eq!(
+            outputs[m].1,
+            outputs[4 + m].1,
+            "{} differs between 1 and 2 threads",
+            outputs[m].0
+        );
+        assert_eq!(
+            outputs[m].1,
+            outputs[8 + m].1,
+            "{} differs between runs",
+            outputs[m].0
+        );
     }
 }
 
@@ -78,7 +136,14 @@ fn existing_output_is_refused_without_force_and_left_intact() {
     write_csv(&input, &[20, 5], 3, 3);
     let out = p(dir.path(), "out.csv");
     std::fs::write(&out, "precious").unwrap();
-    let args = ["grow", input.to_str().unwrap(), "-o", out.to_str().unwrap(), "--method", "interpolate"];
+    let args = [
+        "grow",
+        input.to_str().unwrap(),
+        "-o",
+        out.to_str().unwrap(),
+        "--method",
+        "interpolate",
+    ];
     let o = embloom(&args, &[]);
     assert!(!o.status.success());
     assert!(stderr(&o).contains("--force"), "{}", stderr(&o));
@@ -95,14 +160,37 @@ fn single_row_class_is_skipped_with_a_warning_or_refused_with_strict() {
     let input = p(dir.path(), "in.csv");
     write_csv(&input, &[20, 1, 3], 3, 4);
     let out = p(dir.path(), "out.csv");
-    let o = embloom(&["grow", input.to_str().unwrap(), "-o", out.to_str().unwrap(), "--method", "interpolate", "--target", "20"], &[]);
+    let o = embloom(
+        &[
+            "grow",
+            input.to_str().unwrap(),
+            "-o",
+            out.to_str().unwrap(),
+            "--method",
+            "interpolate",
+            "--target",
+            "20",
+        ],
+        &[],
+    );
     assert!(o.status.success(), "{}", stderr(&o));
     let err = stderr(&o);
     assert!(err.contains("'c1'") && err.contains("--strict"), "{err}");
     // c2 has 3 rows: K = 5 is clamped to 2.
     assert!(err.contains("K = 2"), "{err}");
     let out2 = p(dir.path(), "strict.csv");
-    let o = embloom(&["grow", input.to_str().unwrap(), "-o", out2.to_str().unwrap(), "--method", "interpolate", "--strict"], &[]);
+    let o = embloom(
+        &[
+            "grow",
+            input.to_str().unwrap(),
+            "-o",
+            out2.to_str().unwrap(),
+            "--method",
+            "interpolate",
+            "--strict",
+        ],
+        &[],
+    );
     assert!(!o.status.success());
     assert!(stderr(&o).contains("c1"), "{}", stderr(&o));
     assert!(!out2.exists());
@@ -115,15 +203,49 @@ fn classes_option_limits_growth_and_unknown_class_is_named() {
     let input = p(dir.path(), "in.csv");
     write_csv(&input, &[20, 5, 6], 3, 5);
     let out = p(dir.path(), "out.csv");
-    let o = embloom(&["grow", input.to_str().unwrap(), "-o", out.to_str().unwrap(), "--method", "extrapolate", "--classes", "c2", "--target", "largest", "--json"], &[]);
+    let o = embloom(
+        &[
+            "grow",
+            input.to_str().unwrap(),
+            "-o",
+            out.to_str().unwrap(),
+            "--method",
+            "extrapolate",
+            "--classes",
+            "c2",
+            "--target",
+            "largest",
+            "--json",
+        ],
+        &[],
+    );
     assert!(o.status.success(), "{}", stderr(&o));
     let summary: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
     let classes = summary["classes"].as_array().unwrap();
-    let added: Vec<u64> = classes.iter().map(|c| c["added"].as_u64().unwrap()).collect();
+    let added: Vec<u64> = classes
+        .iter()
+        .map(|c| c["added"].as_u64().unwrap())
+        .collect();
     assert_eq!(added, vec![0, 0, 14]);
-    let o = embloom(&["grow", input.to_str().unwrap(), "-o", p(dir.path(), "x.csv").to_str().unwrap(), "--method", "extrapolate", "--classes", "nope"], &[]);
+    let o = embloom(
+        &[
+            "grow",
+            input.to_str().unwrap(),
+            "-o",
+            p(dir.path(), "x.csv").to_str().unwrap(),
+            "--method",
+            "extrapolate",
+            "--classes",
+            "nope",
+        ],
+        &[],
+    );
     assert!(!o.status.success());
-    assert!(stderr(&o).contains("nope") && stderr(&o).contains("c0, c1, c2"), "{}", stderr(&o));
+    assert!(
+        stderr(&o).contains("nope") && stderr(&o).contains("c0, c1, c2"),
+        "{}",
+        stderr(&o)
+    );
 }
 
 #[test]
@@ -134,11 +256,28 @@ fn unit_norm_input_gives_unit_norm_synthetic_rows() {
     let mut s = String::from("label,f0,f1\n");
     for i in 0..30 {
         let t = i as f32 * 0.05 + if i < 20 { 0.0 } else { 2.0 };
-        s += &format!("{},{},{}\n", if i < 20 { "a" } else { "b" }, t.cos(), t.sin());
+        s += &format!(
+            "{},{},{}\n",
+            if i < 20 { "a" } else { "b" },
+            t.cos(),
+            t.sin()
+        );
     }
     std::fs::write(&input, s).unwrap();
     let out = p(dir.path(), "out.csv");
-    let o = embloom(&["grow", input.to_str().unwrap(), "-o", out.to_str().unwrap(), "--method", "extrapolate", "--magnitude", "1.5"], &[]);
+    let o = embloom(
+        &[
+            "grow",
+            input.to_str().unwrap(),
+            "-o",
+            out.to_str().unwrap(),
+            "--method",
+            "extrapolate",
+            "--magnitude",
+            "1.5",
+        ],
+        &[],
+    );
     assert!(o.status.success(), "{}", stderr(&o));
     assert!(stderr(&o).contains("renormalised"), "{}", stderr(&o));
     let (header, rows) = read_csv(&out);

@@ -1,11 +1,13 @@
 //! Growing every planned class of a training set with one fitted method, in parallel over
 //! classes, each class on its own random stream.
 
-use ndarray::Array2;
+use ndarray::{Array2, Axis, concatenate};
+use rayon::prelude::*;
 
-use super::{Augmenter, FitNote, Plan, Provenance};
+use super::{Augmenter, FitNote, Plan, Provenance, Synthetic};
 use crate::data::Dataset;
-use crate::error::Result;
+use crate::error::{Error, Result};
+use crate::seed;
 
 /// Synthetic rows for a whole training set.
 #[derive(Debug, Clone)]
@@ -22,6 +24,10 @@ pub struct Grown {
 
 /// Fit `method` on `train` and draw `plan.add[c]` rows for every class `c`. The stream for
 /// class `c` is `seed::stream(seed, [stream.., c])`. With `unit_norm`, rows are rescaled to norm 1.
+///
+/// The method is fitted once, on the planned classes only. Classes are drawn in parallel but
+/// each from its own stream and collected in class-index order, so the result is the same for
+/// any number of threads. A class the fit skipped contributes no rows (its note says why).
 pub fn grow(
     train: &Dataset,
     method: &dyn Augmenter,
@@ -30,6 +36,85 @@ pub fn grow(
     seed: u64,
     stream: &[u64],
 ) -> Result<Grown> {
-    let _ = (train, method, plan, unit_norm, seed, stream);
-    todo!("augment helper")
+    if plan.add.iter().skip(train.n_classes()).any(|&n| n > 0) {
+        return Err(Error::data(
+            format!(
+                "the plan grows {} classes but the training set has {}",
+                plan.add.len(),
+                train.n_classes()
+            ),
+            "make the plan from this training set's class counts",
+        ));
+    }
+    let classes = plan.grown_classes();
+    let fitted = method.fit(train, &classes)?;
+    let drawn: Vec<(u32, Synthetic)> = classes
+        .par_iter()
+        .map(|&c| {
+            let mut path = stream.to_vec();
+            path.push(u64::from(c));
+            let mut rng = seed::stream(seed, &path);
+            fitted
+                .sample(c, plan.add[c as usize], &mut rng)
+                .map(|s| (c, s))
+        })
+        .collect::<Result<_>>()?;
+
+    let views: Vec<_> = drawn.iter().map(|(_, s)| s.x.view()).collect();
+    let mut x = if views.is_empty() {
+        Array2::zeros((0, train.dims()))
+    } else {
+        concatenate(Axis(0), &views).map_err(|e| {
+            Error::data(
+                format!(
+                    "{}: synthetic rows of different widths ({e})",
+                    method.kind()
+                ),
+                "this is a bug in the method; please report it",
+            )
+        })?
+    };
+    let labels = drawn
+        .iter()
+        .flat_map(|(c, s)| std::iter::repeat_n(*c, s.x.nrows()))
+        .collect();
+    let provenance = drawn.into_iter().flat_map(|(_, s)| s.provenance).collect();
+    if unit_norm {
+        renormalise(&mut x);
+    }
+    if let Some(i) = x
+        .rows()
+        .into_iter()
+        .position(|r| r.iter().any(|v| !v.is_finite()))
+    {
+        return Err(Error::data(
+            format!(
+                "{} produced a non-finite value in synthetic row {i}",
+                method.kind()
+            ),
+            "check the input for extreme values, or lower the magnitude",
+        ));
+    }
+    Ok(Grown {
+        x,
+        labels,
+        provenance,
+        renormalised: unit_norm,
+        notes: fitted.notes().to_vec(),
+    })
+}
+
+/// Rescale each row to unit length (norm taken in f64). A zero row has no direction and is
+/// left as it is.
+fn renormalise(x: &mut Array2<f32>) {
+    for mut row in x.rows_mut() {
+        let norm = row
+            .iter()
+            .map(|&v| f64::from(v).powi(2))
+            .sum::<f64>()
+            .sqrt();
+        if norm > 0.0 {
+            row.mapv_inplace(|v| (f64::from(v) / norm) as f32);
+        }
+    }
 }

@@ -2,8 +2,15 @@
 //! real training rows, then asked for `n` rows of a class with a seeded generator. Every
 //! synthetic row carries its provenance.
 
+mod class_fit;
+mod class_neighbours;
+mod extrapolate;
+mod gaussian_noise;
 mod grow;
+mod interpolate;
+mod none;
 mod plan;
+mod principal_noise;
 
 pub use grow::{Grown, grow};
 pub use plan::{Plan, Target};
@@ -162,7 +169,76 @@ pub trait FittedAugmenter: Send + Sync {
 }
 
 /// A validated augmenter for `kind`.
+///
+/// Only the parameters the method reads are checked: K for the neighbour methods, the
+/// magnitude for extrapolate and the noise methods (extrapolate needs λ > 0, since λ = 0 would
+/// only copy rows), and the kept variance for principal-noise.
 pub fn build(kind: MethodKind, params: &AugmentParams) -> Result<Box<dyn Augmenter>> {
-    let _ = (kind, params);
-    todo!("augment helper")
+    if kind.uses_neighbours() && params.neighbours == 0 {
+        return Err(Error::param(
+            "neighbours",
+            "K must be at least 1",
+            "use 1 or more same-class neighbours (SMOTE's usual K is 5)",
+        ));
+    }
+    let magnitude = params.magnitude.unwrap_or(kind.default_magnitude());
+    let uses_magnitude = matches!(
+        kind,
+        MethodKind::Extrapolate | MethodKind::PrincipalNoise | MethodKind::GaussianNoise
+    );
+    if uses_magnitude && !(magnitude.is_finite() && magnitude >= 0.0) {
+        return Err(Error::param(
+            "magnitude",
+            format!("{magnitude} is not a finite number >= 0"),
+            format!(
+                "give a finite magnitude, e.g. the default {}",
+                kind.default_magnitude()
+            ),
+        ));
+    }
+    if kind == MethodKind::Extrapolate && magnitude <= 0.0 {
+        return Err(Error::param(
+            "magnitude",
+            "extrapolate needs λ > 0 (λ = 0 only copies real rows)",
+            "give a positive λ, e.g. the default 0.5",
+        ));
+    }
+    if kind == MethodKind::PrincipalNoise
+        && !(params.variance_kept > 0.0 && params.variance_kept <= 1.0)
+    {
+        return Err(Error::param(
+            "variance-kept",
+            format!("{} is not in (0, 1]", params.variance_kept),
+            "give the share of class variance to keep, e.g. 0.95",
+        ));
+    }
+    Ok(match kind {
+        MethodKind::None => Box::new(none::NoAugment),
+        MethodKind::Interpolate => Box::new(interpolate::Interpolate::new(params)),
+        MethodKind::Extrapolate => Box::new(extrapolate::Extrapolate::new(params, magnitude)),
+        MethodKind::PrincipalNoise => {
+            Box::new(principal_noise::PrincipalNoise::new(params, magnitude))
+        }
+        MethodKind::GaussianNoise => {
+            Box::new(gaussian_noise::GaussianNoise::new(params, magnitude))
+        }
+    })
+}
+
+/// Refuse synthetic rows holding NaN or ±Inf (e.g. an overflow from a huge magnitude on large
+/// values): they would poison every later stage silently.
+fn check_finite(kind: MethodKind, class: u32, x: &Array2<f32>) -> Result<()> {
+    match x
+        .rows()
+        .into_iter()
+        .position(|r| r.iter().any(|v| !v.is_finite()))
+    {
+        None => Ok(()),
+        Some(i) => Err(Error::data(
+            format!(
+                "{kind} produced a non-finite value in synthetic row {i} of class index {class}"
+            ),
+            "check the input for extreme values, or lower the magnitude",
+        )),
+    }
 }

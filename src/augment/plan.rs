@@ -35,7 +35,7 @@ impl FromStr for Target {
             "median" => Ok(Target::Median),
             _ if s.starts_with('x') => {
                 let f: f64 = s[1..].parse().map_err(|_| bad())?;
-                if f.is_finite() && f >= 1.0 && f <= 1.0e6 {
+                if (1.0..=1.0e6).contains(&f) {
                     Ok(Target::Factor(f))
                 } else {
                     Err(bad())

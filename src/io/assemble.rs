@@ -50,7 +50,12 @@ fn keep_labels(raw: RawLabels, mask: &[bool]) -> RawLabels {
 }
 
 /// Applies the shared checks and builds the dataset.
-pub fn finish(path: &Path, parts: Parts, drop_nonfinite: bool, keep_nonfinite: bool) -> Result<Loaded> {
+pub fn finish(
+    path: &Path,
+    parts: Parts,
+    drop_nonfinite: bool,
+    keep_nonfinite: bool,
+) -> Result<Loaded> {
     let Parts {
         x,
         stored_dtype,

@@ -24,7 +24,9 @@ pub fn stderr(o: &Output) -> String {
 
 /// A reproducible pseudo-random value in [-1, 1) (a property-test input, not a figure).
 pub fn value(i: usize, j: usize, seed: u64) -> f32 {
-    let mut z = (i as u64).wrapping_mul(0x9e37_79b9_7f4a_7c15) ^ (j as u64).wrapping_mul(0xbf58_476d_1ce4_e5b9) ^ seed;
+    let mut z = (i as u64).wrapping_mul(0x9e37_79b9_7f4a_7c15)
+        ^ (j as u64).wrapping_mul(0xbf58_476d_1ce4_e5b9)
+        ^ seed;
     z ^= z >> 31;
     z = z.wrapping_mul(0x94d0_49bb_1331_11eb);
     z ^= z >> 29;
