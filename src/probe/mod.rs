@@ -1,1 +1,18 @@
 //! Downstream probes: a k-NN classifier and a multinomial logistic regression.
+//!
+//! Both are deliberately plain: their job is to measure how an augmentation moves a simple,
+//! well-understood classifier, so every rule (vote, tie, loss, stopping) is fixed and documented
+//! rather than tuned.
+
+mod kind;
+mod knn;
+pub mod lbfgs;
+mod linear;
+mod linear_model;
+mod scaling;
+mod softmax_loss;
+
+pub use kind::ProbeKind;
+pub use knn::{KnnParams, KnnProbe, Vote};
+pub use linear::{ClassWeight, LinearParams, LinearProbe, class_weights};
+pub use linear_model::LinearModel;

@@ -1,0 +1,290 @@
+//! The k-nearest-neighbour probe: each test row takes the class its k nearest training rows
+//! vote for.
+
+use ndarray::ArrayView2;
+use serde::{Deserialize, Serialize};
+
+use crate::error::{Error, Result};
+use crate::neighbors::{self, Knn, Metric};
+
+/// How the k neighbours' votes are weighted.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Vote {
+    /// One vote per neighbour.
+    Uniform,
+    /// A neighbour votes `exp(sim / T)`: `sim = 1 − distance` (cosine similarity) for the
+    /// cosine metric and `sim = −distance` for the euclidean one. This is the softmax-style
+    /// weighting common in self-supervised evaluation; a small `T` lets the nearest
+    /// neighbours dominate.
+    Weighted,
+}
+
+/// Settings of the k-NN probe.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct KnnParams {
+    /// Number of neighbours (clamped to the number of training rows at prediction time).
+    pub k: usize,
+    /// Distance used to find neighbours.
+    pub metric: Metric,
+    /// How neighbours' votes are combined.
+    pub vote: Vote,
+    /// Temperature `T` of the weighted vote (ignored by the uniform vote).
+    pub temperature: f32,
+}
+
+impl Default for KnnParams {
+    fn default() -> Self {
+        KnnParams {
+            k: 10,
+            metric: Metric::Cosine,
+            vote: Vote::Uniform,
+            temperature: 0.07,
+        }
+    }
+}
+
+impl KnnParams {
+    /// Checks the ranges; the probe can only be built from parameters that pass.
+    pub fn validate(&self) -> Result<()> {
+        if self.k == 0 {
+            return Err(Error::param(
+                "k",
+                "k-NN needs at least one neighbour (k = 0)",
+                "set k to 1 or more (10 is a common choice)",
+            ));
+        }
+        if !(self.temperature.is_finite() && self.temperature > 0.0) {
+            return Err(Error::param(
+                "temperature",
+                format!(
+                    "the vote temperature must be a positive finite number, got {}",
+                    self.temperature
+                ),
+                "set a temperature above 0 (0.07 is a common choice)",
+            ));
+        }
+        Ok(())
+    }
+}
+
+/// A k-NN classifier with validated settings.
+///
+/// **Decision rule.** Each class collects the votes of the neighbours that carry it (see
+/// [`Vote`]); the class with the largest total wins. **Ties** (exactly equal totals) go to
+/// the lowest class index. This is scikit-learn's `KNeighborsClassifier` rule (an `argmax`
+/// over classes sorted by label), so the two agree whenever class indices follow sorted
+/// label order; it is also independent of neighbour order, which keeps predictions stable
+/// when equidistant neighbours are reordered.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct KnnProbe {
+    params: KnnParams,
+}
+
+impl KnnProbe {
+    /// A probe from parameters that pass [`KnnParams::validate`].
+    pub fn new(params: KnnParams) -> Result<Self> {
+        params.validate()?;
+        Ok(KnnProbe { params })
+    }
+
+    pub fn params(&self) -> &KnnParams {
+        &self.params
+    }
+
+    /// Class index for every row of `test_x`, voted by its nearest rows of `train_x`.
+    ///
+    /// `train_y[i]` is the class index of `train_x` row `i`, below `n_classes`. With no
+    /// training rows there is no evidence, every class has zero votes, and the tie rule gives
+    /// class 0.
+    pub fn predict(
+        &self,
+        train_x: ArrayView2<f32>,
+        train_y: &[u32],
+        n_classes: usize,
+        test_x: ArrayView2<f32>,
+    ) -> Vec<u32> {
+        if train_x.nrows() == 0 || test_x.nrows() == 0 {
+            return vec![0; test_x.nrows()];
+        }
+        let knn = neighbors::knn(test_x, train_x, self.params.k, self.params.metric);
+        self.predict_from_neighbours(&knn, train_y, n_classes)
+    }
+
+    /// Class index for every query of an already computed neighbour table (so callers that
+    /// need the neighbours for other purposes search only once).
+    ///
+    /// Only the first `min(k, knn.k)` neighbours of each query vote. Neighbours whose index
+    /// has no label in `train_y`, or whose label is not below `n_classes`, are ignored.
+    pub fn predict_from_neighbours(
+        &self,
+        knn: &Knn,
+        train_y: &[u32],
+        n_classes: usize,
+    ) -> Vec<u32> {
+        let take = self.params.k.min(knn.k);
+        let mut votes = vec![0.0f64; n_classes];
+        (0..knn.n_queries())
+            .map(|q| {
+                let (idx, dist) = knn.row(q);
+                votes.iter_mut().for_each(|v| *v = 0.0);
+                self.accumulate(&idx[..take], &dist[..take], train_y, &mut votes);
+                lowest_argmax(&votes)
+            })
+            .collect()
+    }
+
+    /// Adds each neighbour's vote to its class.
+    fn accumulate(&self, idx: &[u32], dist: &[f32], train_y: &[u32], votes: &mut [f64]) {
+        let similarity = |d: f32| -> f64 {
+            match self.params.metric {
+                Metric::Cosine => 1.0 - f64::from(d),
+                Metric::Euclidean => -f64::from(d),
+            }
+        };
+        // Weights are exp((sim − sim_max) / T): the shift by the nearest neighbour's similarity
+        // is a common factor (the argmax is unchanged) that keeps exp() from overflowing or
+        // underflowing to all-zero votes for large euclidean distances.
+        let t = f64::from(self.params.temperature);
+        let top = dist
+            .iter()
+            .map(|&d| similarity(d))
+            .filter(|s| s.is_finite())
+            .fold(f64::NEG_INFINITY, f64::max);
+        for (&i, &d) in idx.iter().zip(dist) {
+            let Some(&class) = train_y.get(i as usize) else {
+                continue;
+            };
+            let Some(slot) = votes.get_mut(class as usize) else {
+                continue;
+            };
+            let w = match self.params.vote {
+                Vote::Uniform => 1.0,
+                Vote::Weighted => ((similarity(d) - top) / t).exp(),
+            };
+            if w.is_finite() {
+                *slot += w;
+            }
+        }
+    }
+}
+
+/// Index of the largest value; the lowest index among exact ties (and 0 for an empty slice).
+fn lowest_argmax(values: &[f64]) -> u32 {
+    let mut best = 0usize;
+    for (c, &v) in values.iter().enumerate().skip(1) {
+        if v > values[best] {
+            best = c;
+        }
+    }
+    best as u32
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn table(k: usize, rows: &[(&[u32], &[f32])]) -> Knn {
+        Knn {
+            k,
+            indices: rows.iter().flat_map(|r| r.0.iter().copied()).collect(),
+            distances: rows.iter().flat_map(|r| r.1.iter().copied()).collect(),
+        }
+    }
+
+    fn probe(k: usize, metric: Metric, vote: Vote) -> KnnProbe {
+        KnnProbe::new(KnnParams {
+            k,
+            metric,
+            vote,
+            temperature: 0.07,
+        })
+        .unwrap()
+    }
+
+    #[test]
+    fn uniform_vote_counts_and_ties_go_to_lowest_class() {
+        // Common practice, no source (scikit-learn's argmax tie rule): labels of the train rows.
+        let train_y = [2, 1, 1, 2, 0];
+        let knn = table(
+            4,
+            &[
+                (&[1, 2, 0, 4], &[0.1, 0.2, 0.3, 0.4]), // class 1 ×2, 2 ×1, 0 ×1 → 1
+                (&[0, 1, 3, 2], &[0.1, 0.2, 0.3, 0.4]), // 2 ×2 vs 1 ×2 tie → lowest = 1
+                (&[4, 0, 1, 3], &[0.0, 0.5, 0.6, 0.7]), // 0,2,1,2 → 2
+            ],
+        );
+        let p = probe(4, Metric::Cosine, Vote::Uniform);
+        assert_eq!(p.predict_from_neighbours(&knn, &train_y, 3), vec![1, 1, 2]);
+    }
+
+    #[test]
+    fn weighted_vote_lets_a_close_neighbour_win() {
+        // Common practice, no source: exp(0.95/0.07) ≈ 7.9e5 outweighs 2 × exp(0.5/0.07) ≈ 2.5e3.
+        let train_y = [0, 1, 1];
+        let knn = table(3, &[(&[0, 1, 2], &[0.05, 0.5, 0.5])]);
+        assert_eq!(
+            probe(3, Metric::Cosine, Vote::Uniform).predict_from_neighbours(&knn, &train_y, 2),
+            vec![1]
+        );
+        assert_eq!(
+            probe(3, Metric::Cosine, Vote::Weighted).predict_from_neighbours(&knn, &train_y, 2),
+            vec![0]
+        );
+    }
+
+    #[test]
+    fn weighted_euclidean_uses_negative_distance_without_underflow() {
+        // From the definition sim = −distance: at distances ~1e3 the unshifted weights
+        // exp(−d/0.07) all underflow to 0; the shift keeps the nearer class winning.
+        let train_y = [1, 0, 0];
+        let knn = table(3, &[(&[0, 1, 2], &[1000.0, 1000.1, 1000.2])]);
+        let p = probe(3, Metric::Euclidean, Vote::Weighted);
+        // exp(0) = 1 vs exp(−0.1/0.07) + exp(−0.2/0.07) ≈ 0.24 + 0.06.
+        assert_eq!(p.predict_from_neighbours(&knn, &train_y, 2), vec![1]);
+    }
+
+    #[test]
+    fn only_the_first_k_neighbours_vote_and_bad_labels_are_ignored() {
+        // Common practice, no source.
+        let train_y = [0, 1, 1, 7];
+        let knn = table(4, &[(&[0, 3, 1, 2], &[0.1, 0.2, 0.3, 0.4])]);
+        // k = 2: row 0 (class 0) and row 3 (label 7 ≥ n_classes, ignored) → class 0.
+        assert_eq!(
+            probe(2, Metric::Cosine, Vote::Uniform).predict_from_neighbours(&knn, &train_y, 2),
+            vec![0]
+        );
+        // k = 4: class 1 twice → 1.
+        assert_eq!(
+            probe(4, Metric::Cosine, Vote::Uniform).predict_from_neighbours(&knn, &train_y, 2),
+            vec![1]
+        );
+    }
+
+    #[test]
+    fn no_training_rows_predicts_class_zero() {
+        // Common practice, no source: all votes are zero, the tie rule picks class 0.
+        let p = probe(3, Metric::Cosine, Vote::Uniform);
+        let train = ndarray::Array2::<f32>::zeros((0, 2));
+        let test = ndarray::Array2::<f32>::ones((2, 2));
+        assert_eq!(p.predict(train.view(), &[], 3, test.view()), vec![0, 0]);
+    }
+
+    #[test]
+    fn validate_rejects_bad_settings() {
+        // Common practice, no source.
+        let bad_k = KnnParams {
+            k: 0,
+            ..KnnParams::default()
+        };
+        assert!(bad_k.validate().unwrap_err().to_string().contains("fix:"));
+        for t in [0.0, -1.0, f32::NAN, f32::INFINITY] {
+            let p = KnnParams {
+                temperature: t,
+                ..KnnParams::default()
+            };
+            assert!(KnnProbe::new(p).is_err(), "temperature {t}");
+        }
+        assert!(KnnProbe::new(KnnParams::default()).is_ok());
+    }
+}
