@@ -1,0 +1,222 @@
+//! Where the synthetic rows of a fold sit relative to the real data: do they stay inside their
+//! class or intrude into a neighbour's, are they closer to real rows than real rows are to each
+//! other (copies) or far away (off the manifold), and how do they cover the class's held-out
+//! real rows (precision, recall, density, coverage).
+//!
+//! Everything is computed per fold from that fold's rows only: real training rows R, synthetic
+//! rows S (fitted on R), and the fold's held-out real test rows T.
+
+use ndarray::{ArrayView2, Axis};
+use serde::{Deserialize, Serialize};
+
+use crate::neighbors::{Metric, knn, knn_within};
+
+/// The neighbourhood size of PRDC (Naeem et al. 2020 recommend k = 5).
+pub const PRDC_K: usize = 5;
+
+/// Diagnostics of one class in one fold. NaN marks a figure the fold's rows cannot support.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct ClassDiagnostics {
+    pub class: u32,
+    /// Synthetic rows of the class.
+    pub synthetic: usize,
+    /// Share of the class's synthetic rows whose nearest real training row has another class.
+    pub intrusion_synthetic: f64,
+    /// Share of the class's real training rows whose nearest *other* real training row has
+    /// another class — the baseline the synthetic figure is read against.
+    pub intrusion_real: f64,
+    /// Median over the class's synthetic rows of the distance to the nearest real training row
+    /// (any class), divided by the median over the class's real training rows of the distance
+    /// to the nearest other real training row (any class). Near 0: near-copies of real rows;
+    /// around 1: as spread as real data; well above 1: off the data. NaN if either side is
+    /// empty or the denominator is 0.
+    pub distance_ratio: f64,
+    /// PRDC of the class's synthetic rows ("fake") against its held-out real test rows ("real")
+    /// (Naeem et al. 2020, "Reliable Fidelity and Diversity Metrics for Generative Models",
+    /// eqs. 3–6), with k = [`ClassDiagnostics::prdc_k`].
+    pub precision: f64,
+    pub recall: f64,
+    pub density: f64,
+    pub coverage: f64,
+    /// The k used for PRDC: min(5, real − 1, fake − 1); 0 when either set has under two rows,
+    /// and then the four PRDC figures are NaN.
+    pub prdc_k: usize,
+}
+
+/// Diagnostics for each class in `classes` (in that order). Rows of `*_x` pair with `*_y`.
+#[allow(clippy::too_many_arguments)] // the three row sets, each as rows + labels
+pub fn class_diagnostics(
+    train_x: ArrayView2<f32>,
+    train_y: &[u32],
+    synth_x: ArrayView2<f32>,
+    synth_y: &[u32],
+    test_x: ArrayView2<f32>,
+    test_y: &[u32],
+    classes: &[u32],
+    metric: Metric,
+) -> Vec<ClassDiagnostics> {
+    let n_train = train_x.nrows().min(train_y.len());
+    let n_synth = synth_x.nrows().min(synth_y.len());
+    let n_test = test_x.nrows().min(test_y.len());
+    let train_x = train_x.slice(ndarray::s![..n_train, ..]);
+    let synth_x = synth_x.slice(ndarray::s![..n_synth, ..]);
+    let test_x = test_x.slice(ndarray::s![..n_test, ..]);
+
+    // Nearest real training row of every synthetic row, and nearest other real training row of
+    // every real training row: one search each, shared by all classes.
+    let synth_nn = (n_train > 0).then(|| knn(synth_x, train_x, 1, metric));
+    let real_nn = (n_train > 1).then(|| knn_within(train_x, 1, metric));
+    let nearest = |nn: &Option<crate::neighbors::Knn>, i: usize| -> Option<(usize, f64)> {
+        let nn = nn.as_ref()?;
+        let (idx, dist) = nn.row(i);
+        Some((*idx.first()? as usize, f64::from(*dist.first()?)))
+    };
+
+    classes
+        .iter()
+        .map(|&c| {
+            let synth_rows = rows_of(&synth_y[..n_synth], c);
+            let train_rows = rows_of(&train_y[..n_train], c);
+            let test_rows = rows_of(&test_y[..n_test], c);
+
+            let synth_near: Vec<(usize, f64)> = synth_rows
+                .iter()
+                .filter_map(|&i| nearest(&synth_nn, i))
+                .collect();
+            let real_near: Vec<(usize, f64)> = train_rows
+                .iter()
+                .filter_map(|&i| nearest(&real_nn, i))
+                .collect();
+            let intrusion = |near: &[(usize, f64)]| {
+                share(
+                    near.iter().filter(|&&(j, _)| train_y[j] != c).count(),
+                    near.len(),
+                )
+            };
+            let den = median(real_near.iter().map(|&(_, d)| d).collect());
+            let num = median(synth_near.iter().map(|&(_, d)| d).collect());
+
+            let prdc = prdc(
+                test_x.select(Axis(0), &test_rows).view(),
+                synth_x.select(Axis(0), &synth_rows).view(),
+                metric,
+            );
+            ClassDiagnostics {
+                class: c,
+                synthetic: synth_rows.len(),
+                intrusion_synthetic: intrusion(&synth_near),
+                intrusion_real: intrusion(&real_near),
+                distance_ratio: if den > 0.0 { num / den } else { f64::NAN },
+                precision: prdc.precision,
+                recall: prdc.recall,
+                density: prdc.density,
+                coverage: prdc.coverage,
+                prdc_k: prdc.k,
+            }
+        })
+        .collect()
+}
+
+/// Precision, recall, density and coverage of `fake` against `real` (Naeem et al. 2020).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Prdc {
+    pub precision: f64,
+    pub recall: f64,
+    pub density: f64,
+    pub coverage: f64,
+    pub k: usize,
+}
+
+/// PRDC with k = min(5, N − 1, M − 1), N real and M fake rows. Radii r(x) are the distance to
+/// the k-th nearest other row of the same set; a ball is B(x, r(x)) = {y : d(x, y) ≤ r(x)}.
+/// - precision = (1/M) Σ_fake 1[fake lies in some real ball]
+/// - recall    = (1/N) Σ_real 1[real lies in some fake ball]
+/// - density   = (1/(kM)) Σ_fake Σ_real 1[fake lies in real's ball]
+/// - coverage  = (1/N) Σ_real 1[real's nearest fake lies in real's ball]
+pub fn prdc(real: ArrayView2<f32>, fake: ArrayView2<f32>, metric: Metric) -> Prdc {
+    let (n, m) = (real.nrows(), fake.nrows());
+    let k = PRDC_K.min(n.saturating_sub(1)).min(m.saturating_sub(1));
+    if k == 0 {
+        return Prdc {
+            precision: f64::NAN,
+            recall: f64::NAN,
+            density: f64::NAN,
+            coverage: f64::NAN,
+            k: 0,
+        };
+    }
+    let kth = |x: ArrayView2<f32>| -> Vec<f64> {
+        let nn = knn_within(x, k, metric);
+        (0..x.nrows())
+            .map(|i| nn.row(i).1.get(k - 1).map_or(f64::NAN, |&d| f64::from(d)))
+            .collect()
+    };
+    let r_real = kth(real);
+    let r_fake = kth(fake);
+
+    // Full fake × real distance matrix, from a search that returns every real row.
+    let all = knn(fake, real, n, metric);
+    let mut dist = vec![f64::INFINITY; m * n];
+    for i in 0..m {
+        let (idx, d) = all.row(i);
+        for (&j, &dj) in idx.iter().zip(d) {
+            dist[i * n + j as usize] = f64::from(dj);
+        }
+    }
+    let d = |i: usize, j: usize| dist[i * n + j];
+
+    let mut precise = 0usize;
+    let mut inside = 0usize;
+    for i in 0..m {
+        let c = (0..n).filter(|&j| d(i, j) <= r_real[j]).count();
+        inside += c;
+        precise += usize::from(c > 0);
+    }
+    let recalled = (0..n)
+        .filter(|&j| (0..m).any(|i| d(i, j) <= r_fake[i]))
+        .count();
+    let covered = (0..n)
+        .filter(|&j| {
+            let nearest = (0..m).map(|i| d(i, j)).fold(f64::INFINITY, f64::min);
+            nearest <= r_real[j]
+        })
+        .count();
+    Prdc {
+        precision: share(precise, m),
+        recall: share(recalled, n),
+        density: inside as f64 / (k * m) as f64,
+        coverage: share(covered, n),
+        k,
+    }
+}
+
+fn rows_of(labels: &[u32], c: u32) -> Vec<usize> {
+    labels
+        .iter()
+        .enumerate()
+        .filter(|&(_, &l)| l == c)
+        .map(|(i, _)| i)
+        .collect()
+}
+
+fn share(count: usize, of: usize) -> f64 {
+    if of == 0 {
+        f64::NAN
+    } else {
+        count as f64 / of as f64
+    }
+}
+
+/// Median (mean of the two middle values for an even count, as numpy); NaN when empty.
+fn median(mut v: Vec<f64>) -> f64 {
+    if v.is_empty() {
+        return f64::NAN;
+    }
+    v.sort_by(f64::total_cmp);
+    let h = v.len() / 2;
+    if v.len() % 2 == 1 {
+        v[h]
+    } else {
+        0.5 * (v[h - 1] + v[h])
+    }
+}

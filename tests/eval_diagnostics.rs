@@ -1,0 +1,134 @@
+//! Class diagnostics and PRDC against a numpy transcription of the definitions
+//! (tests/reference/eval_prdc.py; PRDC per Naeem et al. 2020, eqs. 3–6).
+
+use embloom::eval::{class_diagnostics, prdc};
+use embloom::neighbors::Metric;
+use ndarray::Array2;
+use serde_json::Value;
+
+fn fixture() -> Value {
+    let path = concat!(env!("CARGO_MANIFEST_DIR"), "/tests/fixtures/eval/prdc.json");
+    serde_json::from_str(&std::fs::read_to_string(path).expect("fixture")).expect("json")
+}
+
+fn matrix(v: &Value) -> Array2<f32> {
+    let rows: Vec<Vec<f32>> = v
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|r| {
+            r.as_array()
+                .unwrap()
+                .iter()
+                .map(|x| x.as_f64().unwrap() as f32)
+                .collect()
+        })
+        .collect();
+    let d = rows.first().map_or(0, Vec::len);
+    Array2::from_shape_fn((rows.len(), d), |(i, j)| rows[i][j])
+}
+
+fn labels(v: &Value) -> Vec<u32> {
+    v.as_array()
+        .unwrap()
+        .iter()
+        .map(|x| x.as_u64().unwrap() as u32)
+        .collect()
+}
+
+/// `expected` null means NaN.
+fn same(got: f64, expected: &Value, tol: f64) -> bool {
+    match expected.as_f64() {
+        None => got.is_nan(),
+        Some(e) => (got - e).abs() <= tol,
+    }
+}
+
+#[test]
+fn prdc_matches_numpy_transcription() {
+    let f = &fixture()["prdc"];
+    let p = prdc(
+        matrix(&f["real"]).view(),
+        matrix(&f["fake"]).view(),
+        Metric::Euclidean,
+    );
+    // Naeem et al. 2020 eqs. 3–6, numpy transcription in tests/reference/eval_prdc.py.
+    assert_eq!(p.k, 5);
+    assert!(
+        same(p.precision, &f["precision"], 1e-9),
+        "precision {}",
+        p.precision
+    );
+    assert!(same(p.recall, &f["recall"], 1e-9), "recall {}", p.recall);
+    assert!(
+        same(p.density, &f["density"], 1e-9),
+        "density {}",
+        p.density
+    );
+    assert!(
+        same(p.coverage, &f["coverage"], 1e-9),
+        "coverage {}",
+        p.coverage
+    );
+}
+
+#[test]
+fn class_diagnostics_match_numpy_transcription() {
+    let f = &fixture()["diagnostics"];
+    let got = class_diagnostics(
+        matrix(&f["train_x"]).view(),
+        &labels(&f["train_y"]),
+        matrix(&f["synth_x"]).view(),
+        &labels(&f["synth_y"]),
+        matrix(&f["test_x"]).view(),
+        &labels(&f["test_y"]),
+        &labels(&f["classes"]),
+        Metric::Euclidean,
+    );
+    let expected = f["expected"].as_array().unwrap();
+    assert_eq!(got.len(), expected.len());
+    for (g, e) in got.iter().zip(expected) {
+        // numpy transcription of the ClassDiagnostics definitions and of Naeem et al. 2020,
+        // tests/reference/eval_prdc.py. Shares are ratios of counts, so they match to 1e-9;
+        // the distance ratio is a ratio of f32 distances, hence 1e-5 relative.
+        assert_eq!(u64::from(g.class), e["class"].as_u64().unwrap());
+        assert_eq!(g.synthetic as u64, e["synthetic"].as_u64().unwrap());
+        assert_eq!(
+            g.prdc_k as u64,
+            e["k"].as_u64().unwrap(),
+            "k of class {}",
+            g.class
+        );
+        assert!(
+            same(g.intrusion_synthetic, &e["intrusion_synthetic"], 1e-9),
+            "{g:?}"
+        );
+        assert!(same(g.intrusion_real, &e["intrusion_real"], 1e-9), "{g:?}");
+        let ratio_tol = e["distance_ratio"].as_f64().map_or(0.0, |r| 1e-5 * r);
+        assert!(
+            same(g.distance_ratio, &e["distance_ratio"], ratio_tol),
+            "{g:?}"
+        );
+        assert!(same(g.precision, &e["precision"], 1e-9), "{g:?}");
+        assert!(same(g.recall, &e["recall"], 1e-9), "{g:?}");
+        assert!(same(g.density, &e["density"], 1e-9), "{g:?}");
+        assert!(same(g.coverage, &e["coverage"], 1e-9), "{g:?}");
+    }
+}
+
+#[test]
+fn identical_sets_score_perfectly() {
+    // From the definitions (Naeem et al. 2020): when fake = real, every row lies in its own
+    // ball, so precision = recall = coverage = 1; each real ball holds its centre and its k
+    // nearest others, so density ≥ (1/kM)·M·(k + 1) = (k + 1)/k.
+    let x = Array2::from_shape_fn((12, 3), |(i, j)| {
+        ((i * 7 + j * 3) % 11) as f32 + 0.1 * i as f32
+    });
+    let p = prdc(x.view(), x.view(), Metric::Euclidean);
+    assert_eq!((p.precision, p.recall, p.coverage), (1.0, 1.0, 1.0));
+    assert!(p.density >= 6.0 / 5.0 - 1e-12);
+    // Too few rows for any k: NaN figures and k = 0 (embloom's documented convention).
+    let one = prdc(x.slice(ndarray::s![..1, ..]), x.view(), Metric::Euclidean);
+    assert_eq!(one.k, 0);
+    assert!(one.precision.is_nan() && one.density.is_nan());
+}
