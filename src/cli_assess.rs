@@ -10,8 +10,8 @@ use embloom::augment::MethodKind;
 use embloom::cmd;
 use embloom::neighbors::Metric;
 use embloom::probe::ProbeKind;
-use embloom::probe::knn::{KnnParams, Vote};
-use embloom::probe::linear::{ClassWeight, LinearParams};
+use embloom::probe::{KnnParams, Vote};
+use embloom::probe::{ClassWeight, LinearParams};
 
 /// Compare methods on k-NN and linear probes under stratified (or grouped, or given) k-fold
 /// cross-validation: each augmenter is fitted on a fold's real training rows only, and

@@ -11,8 +11,8 @@ use embloom::augment::{
 use embloom::cmd::options::UnitNorm;
 use embloom::eval::protocol::make_folds;
 use embloom::probe::ProbeKind;
-use embloom::probe::knn::KnnParams;
-use embloom::probe::linear::LinearParams;
+use embloom::probe::KnnParams;
+use embloom::probe::LinearParams;
 use embloom::seed::Rng;
 use embloom::{Dataset, Result};
 use ndarray::Array2;

@@ -6,8 +6,8 @@ use crate::augment::{AugmentParams, MethodKind, Target};
 use crate::cmd::options::UnitNorm;
 use crate::error::{Error, Result};
 use crate::probe::ProbeKind;
-use crate::probe::knn::KnnParams;
-use crate::probe::linear::LinearParams;
+use crate::probe::KnnParams;
+use crate::probe::LinearParams;
 
 /// Everything an assessment needs besides the data.
 #[derive(Debug, Clone, Serialize)]

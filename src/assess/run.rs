@@ -9,7 +9,7 @@ use indicatif::{ProgressBar, ProgressStyle};
 use ndarray::{Array2, Axis, concatenate};
 
 use super::config::AssessConfig;
-use super::results::{AssessResults, DiagnosticRow, FoldRecord, InputInfo, Scatter};
+use super::results::{AssessResults, DiagnosticRow, FoldRecord, InputInfo};
 use super::{scatter, shared_knn, summary};
 use crate::augment::{self, Augmenter, Grown, MethodKind, Plan};
 use crate::cmd::grow::describe_notes;
@@ -21,8 +21,8 @@ use crate::eval::metrics::{ece, grown_class_recall, log_loss, score};
 use crate::eval::protocol::{Fold, make_folds};
 use crate::neighbors;
 use crate::probe::ProbeKind;
-use crate::probe::knn::KnnProbe;
-use crate::probe::linear::{LinearModel, LinearProbe};
+use crate::probe::KnnProbe;
+use crate::probe::{LinearModel, LinearProbe};
 use crate::seed;
 
 /// Bins of the expected calibration error (Guo et al. 2017 use 15).
@@ -167,7 +167,10 @@ pub fn assess_with(
 
     let methods: Vec<String> = cfg.methods.iter().map(|m| m.name().to_string()).collect();
     let probes: Vec<String> = cfg.probes.iter().map(|p| p.name().to_string()).collect();
-    let agg = summary::Aggregate::new(&records, &methods, &probes, &ds.classes, &grown_anywhere);
+    let (summary_rows, per_class, sentences) = {
+        let agg = summary::Aggregate::new(&records, &methods, &probes, &ds.classes, &grown_anywhere);
+        (agg.summary(), agg.per_class(), agg.sentences())
+    };
     Ok(AssessResults {
         embloom_version: env!("CARGO_PKG_VERSION").to_string(),
         input,
@@ -183,9 +186,9 @@ pub fn assess_with(
             .iter()
             .map(|&c| ds.classes[c as usize].clone())
             .collect(),
-        summary: agg.summary(),
-        per_class: agg.per_class(),
-        sentences: agg.sentences(),
+        summary: summary_rows,
+        per_class,
+        sentences,
         diagnostics: summary::average_diagnostics(&diagnostics),
         scatter: scatters,
         folds: records,

@@ -12,8 +12,8 @@ use crate::demo::street_signs;
 use crate::error::{Error, Result};
 use crate::io::{self, AugmentedSet, ReadOptions};
 use crate::probe::ProbeKind;
-use crate::probe::knn::KnnParams;
-use crate::probe::linear::LinearParams;
+use crate::probe::KnnParams;
+use crate::probe::LinearParams;
 
 /// Seed of the shipped demo file `data/street-signs.npz`.
 pub const DEMO_SEED: u64 = 7;
