@@ -10,8 +10,8 @@ use embloom::augment::MethodKind;
 use embloom::cmd;
 use embloom::neighbors::Metric;
 use embloom::probe::ProbeKind;
-use embloom::probe::{KnnParams, Vote};
 use embloom::probe::{ClassWeight, LinearParams};
+use embloom::probe::{KnnParams, Vote};
 
 /// Compare methods on k-NN and linear probes under stratified (or grouped, or given) k-fold
 /// cross-validation: each augmenter is fitted on a fold's real training rows only, and
@@ -137,10 +137,10 @@ pub fn run(a: AssessArgs, quiet: bool) -> Result<()> {
         println!("{}", serde_json::to_string_pretty(&results)?);
     } else {
         print!("{}", embloom::report::terminal_table(&results));
-        if let Some(dir) = &a.report {
-            if !quiet {
-                eprintln!("report written to {}", dir.display());
-            }
+        if let Some(dir) = &a.report
+            && !quiet
+        {
+            eprintln!("report written to {}", dir.display());
         }
     }
     Ok(())

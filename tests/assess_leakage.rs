@@ -10,9 +10,9 @@ use embloom::augment::{
 };
 use embloom::cmd::options::UnitNorm;
 use embloom::eval::protocol::make_folds;
-use embloom::probe::ProbeKind;
 use embloom::probe::KnnParams;
 use embloom::probe::LinearParams;
+use embloom::probe::ProbeKind;
 use embloom::seed::Rng;
 use embloom::{Dataset, Result};
 use ndarray::Array2;

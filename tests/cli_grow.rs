@@ -65,12 +65,14 @@ fn real_rows_first_and_bit_identical_then_synthetic_with_provenance() {
             assert_eq!(a.to_bits(), b.to_bits(), "real row {i} changed");
         }
     }
-    for r in &rows[30..] {
+    let n_real = in_rows.len();
+    assert_eq!(n_real, 48);
+    for r in &rows[n_real..] {
         assert_eq!(r[origin], "interpolate");
         let par: usize = r[parent].parse().unwrap();
         let pa: i64 = r[partner].parse().unwrap();
         let u: f32 = r[weight].parse().unwrap();
-        assert!(par < 30 && pa >= 0 && (0.0..=1.0).contains(&u));
+        assert!(par < n_real && pa >= 0 && (0.0..=1.0).contains(&u));
         // The parent and partner are real rows of the synthetic row's class.
         assert_eq!(rows[par][col("label")], r[col("label")]);
         assert_eq!(rows[pa as usize][col("label")], r[col("label")]);

@@ -5,9 +5,9 @@ use serde::Serialize;
 use crate::augment::{AugmentParams, MethodKind, Target};
 use crate::cmd::options::UnitNorm;
 use crate::error::{Error, Result};
-use crate::probe::ProbeKind;
 use crate::probe::KnnParams;
 use crate::probe::LinearParams;
+use crate::probe::ProbeKind;
 
 /// Everything an assessment needs besides the data.
 #[derive(Debug, Clone, Serialize)]

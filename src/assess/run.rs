@@ -20,8 +20,8 @@ use crate::eval::diagnostics::class_diagnostics;
 use crate::eval::metrics::{ece, grown_class_recall, log_loss, score};
 use crate::eval::protocol::{Fold, make_folds};
 use crate::neighbors;
-use crate::probe::ProbeKind;
 use crate::probe::KnnProbe;
+use crate::probe::ProbeKind;
 use crate::probe::{LinearModel, LinearProbe};
 use crate::seed;
 
@@ -70,8 +70,8 @@ pub fn assess_with(
         .map(|n| class_indices(n, &ds.classes))
         .transpose()?;
     let unit_norm = cfg.unit_norm.resolve(ds.view());
-    let knn_probe = KnnProbe::new(cfg.knn.clone())?;
-    let linear_probe = LinearProbe::new(cfg.linear.clone())?;
+    let knn_probe = KnnProbe::new(cfg.knn)?;
+    let linear_probe = LinearProbe::new(cfg.linear)?;
 
     let bar = progress_bar(cfg.progress, folds.len() * augmenters.len());
     let mut records = Vec::new();
@@ -168,7 +168,8 @@ pub fn assess_with(
     let methods: Vec<String> = cfg.methods.iter().map(|m| m.name().to_string()).collect();
     let probes: Vec<String> = cfg.probes.iter().map(|p| p.name().to_string()).collect();
     let (summary_rows, per_class, sentences) = {
-        let agg = summary::Aggregate::new(&records, &methods, &probes, &ds.classes, &grown_anywhere);
+        let agg =
+            summary::Aggregate::new(&records, &methods, &probes, &ds.classes, &grown_anywhere);
         (agg.summary(), agg.per_class(), agg.sentences())
     };
     Ok(AssessResults {

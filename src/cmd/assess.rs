@@ -20,14 +20,15 @@ pub struct AssessOptions {
 
 /// Run an assessment and write its report folder when asked.
 pub fn run(opts: &AssessOptions) -> Result<AssessResults> {
-    if let Some(dir) = &opts.report {
-        if dir.exists() && !opts.force {
-            return Err(Error::output(
-                dir,
-                "already exists",
-                "pass --force to replace it, or choose another folder",
-            ));
-        }
+    if let Some(dir) = &opts.report
+        && dir.exists()
+        && !opts.force
+    {
+        return Err(Error::output(
+            dir,
+            "already exists",
+            "pass --force to replace it, or choose another folder",
+        ));
     }
     let config = opts.config.clone().validated()?;
     let loaded = io::read(&opts.input, &opts.read)?;

@@ -11,9 +11,9 @@ use crate::augment::{AugmentParams, MethodKind, Target};
 use crate::demo::street_signs;
 use crate::error::{Error, Result};
 use crate::io::{self, AugmentedSet, ReadOptions};
-use crate::probe::ProbeKind;
 use crate::probe::KnnParams;
 use crate::probe::LinearParams;
+use crate::probe::ProbeKind;
 
 /// Seed of the shipped demo file `data/street-signs.npz`.
 pub const DEMO_SEED: u64 = 7;

@@ -50,7 +50,7 @@ impl Inspection {
                 count: c,
             })
             .collect();
-        classes.sort_by(|a, b| b.count.cmp(&a.count));
+        classes.sort_by_key(|c| std::cmp::Reverse(c.count));
         let max = classes.first().map_or(0, |c| c.count);
         let min = classes.last().map_or(0, |c| c.count);
         Inspection {
