@@ -1,8 +1,23 @@
 //! Exact k-nearest neighbours (blocked matrix products, multi-threaded) and an approximate
 //! k-d tree mode. Used by the neighbour augmenters, the k-NN probe and the diagnostics.
+//!
+//! The exact search ([`knn`], [`knn_within`]) returns what an f64 brute force returns —
+//! same neighbours, same order, ties broken by lower base index — at the speed of an f32
+//! matrix product: see `exact.rs` for how the f32 pass is made safe. The k-d tree mode
+//! ([`IndexKind::KdTree`]) is approximate; [`recall_at_k`] measures how close it comes.
+
+mod distance;
+mod exact;
+mod kdtree;
+mod recall;
+mod topk;
 
 use ndarray::ArrayView2;
 use serde::{Deserialize, Serialize};
+
+use crate::error::{Error, Result};
+
+pub use recall::recall_at_k;
 
 /// Distance used for neighbour search.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
@@ -33,17 +48,116 @@ impl Knn {
         let r = i * self.k..(i + 1) * self.k;
         (&self.indices[r.clone()], &self.distances[r])
     }
+
+    /// The result with no neighbours (k = 0, nothing stored).
+    pub fn empty() -> Knn {
+        Knn {
+            k: 0,
+            indices: Vec::new(),
+            distances: Vec::new(),
+        }
+    }
+}
+
+/// How neighbours are found.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum IndexKind {
+    /// Blocked brute force; equals an f64 brute force exactly.
+    Exact,
+    /// A k-d tree over the leading principal components, candidates re-ranked by the exact
+    /// distance in the full space. **Approximate**: a true neighbour that is far in the
+    /// projection can be missed. Worth it only for large bases of low intrinsic dimension.
+    KdTree,
 }
 
 /// k nearest rows of `base` for every row of `queries`; `k` is clamped to `base.nrows()`.
+///
+/// Distances: cosine 1 − cos (a zero row has similarity 0 with everything), euclidean
+/// ‖a − b‖. Rows with non-finite values rank last. `k = 0` or an empty base gives
+/// [`Knn::empty`].
+///
+/// # Panics
+/// If `queries` and `base` have different column counts (a caller bug: both come from one
+/// dataset). Use [`try_knn`] where the widths are not already known to agree.
 pub fn knn(queries: ArrayView2<f32>, base: ArrayView2<f32>, k: usize, metric: Metric) -> Knn {
-    let _ = (queries, base, k, metric);
-    todo!("neighbors helper")
+    knn_with(IndexKind::Exact, queries, base, k, metric)
+}
+
+/// [`knn`], with a column-count mismatch reported as an error instead of a panic.
+pub fn try_knn(
+    queries: ArrayView2<f32>,
+    base: ArrayView2<f32>,
+    k: usize,
+    metric: Metric,
+) -> Result<Knn> {
+    check_widths(queries, base)?;
+    Ok(knn(queries, base, k, metric))
 }
 
 /// k nearest *other* rows of `x` for every row of `x` (a row is never its own neighbour);
 /// `k` is clamped to `x.nrows() - 1`.
+///
+/// "Other" is by position: an exact duplicate of a row is a neighbour at distance 0.
 pub fn knn_within(x: ArrayView2<f32>, k: usize, metric: Metric) -> Knn {
-    let _ = (x, k, metric);
-    todo!("neighbors helper")
+    knn_within_with(IndexKind::Exact, x, k, metric)
+}
+
+/// [`knn`] by the chosen index.
+///
+/// # Panics
+/// As [`knn`], if the column counts differ.
+pub fn knn_with(
+    kind: IndexKind,
+    queries: ArrayView2<f32>,
+    base: ArrayView2<f32>,
+    k: usize,
+    metric: Metric,
+) -> Knn {
+    if let Err(e) = check_widths(queries, base) {
+        panic!("{e}");
+    }
+    let k = k.min(base.nrows());
+    if k == 0 {
+        return Knn::empty();
+    }
+    match kind {
+        IndexKind::Exact => {
+            let shift = exact::centre(base);
+            let q = exact::Prepared::new(queries, metric, &shift);
+            let b = exact::Prepared::new(base, metric, &shift);
+            exact::search(&q, &b, k, false)
+        }
+        IndexKind::KdTree => kdtree::search(queries.reborrow(), Some(base.reborrow()), k, metric),
+    }
+}
+
+/// [`knn_within`] by the chosen index.
+pub fn knn_within_with(kind: IndexKind, x: ArrayView2<f32>, k: usize, metric: Metric) -> Knn {
+    let k = k.min(x.nrows().saturating_sub(1));
+    if k == 0 {
+        return Knn::empty();
+    }
+    match kind {
+        IndexKind::Exact => {
+            let p = exact::Prepared::new(x, metric, &exact::centre(x));
+            exact::search(&p, &p, k, true)
+        }
+        IndexKind::KdTree => kdtree::search(x, None, k, metric),
+    }
+}
+
+fn check_widths(queries: ArrayView2<f32>, base: ArrayView2<f32>) -> Result<()> {
+    if queries.ncols() == base.ncols() {
+        return Ok(());
+    }
+    Err(Error::param(
+        "queries",
+        format!(
+            "queries have {} columns but the base rows have {}",
+            queries.ncols(),
+            base.ncols()
+        ),
+        "search with rows of the same embedding width as the base",
+    ))
 }

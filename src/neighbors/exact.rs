@@ -1,0 +1,369 @@
+//! The exact k-NN kernel: a blocked f32 matrix product nominates candidates, an f64 re-score
+//! ranks them, and a rounding-error bound proves that nothing outside the candidates could
+//! belong to the top k (a query whose proof fails is rescanned, so the result always equals
+//! an f64 brute force).
+//!
+//! Fast score of base row b for query a (lower is nearer; terms constant per query dropped):
+//! euclidean ‖b‖² − 2 a·b, cosine −â·b̂ on rows normalised to unit length.
+//!
+//! Work is split into fixed blocks of query rows processed in parallel with rayon; every
+//! query's result depends only on its own row, so output does not depend on the thread count.
+
+use ndarray::linalg::general_mat_mul;
+use ndarray::{Array2, ArrayView2, ArrayViewMut2, CowArray, Ix2, s};
+use rayon::prelude::*;
+
+use super::topk::TopK;
+use super::{Knn, Metric, distance};
+
+/// Query rows per parallel work item (and per matrix product).
+const QUERY_BLOCK: usize = 256;
+/// Base rows per matrix product; the 256 × 2048 f32 score block is 2 MiB.
+const BASE_BLOCK: usize = 2048;
+/// Unit roundoff of f32.
+const U32: f64 = f32::EPSILON as f64 / 2.0;
+
+/// Extra fast-pass candidates kept beyond k, so that f32 rounding rarely pushes a true
+/// neighbour out of the candidate set (when it might have, the proof below catches it).
+fn margin(k: usize) -> usize {
+    8 + k / 4
+}
+
+/// Rows made ready for the kernel: standard layout originals (for the exact re-score), the
+/// rows the matrix product uses, and their norms.
+pub(crate) struct Prepared<'a> {
+    metric: Metric,
+    /// The rows as given, in standard (row-major contiguous) layout.
+    orig: CowArray<'a, f32, Ix2>,
+    /// The rows the matrix product sees. Euclidean: shifted by a common centre (distances
+    /// are translation invariant, and centring shrinks the norms whose cancellation costs
+    /// f32 accuracy). Cosine: scaled to unit length (zero rows stay zero).
+    product: Array2<f32>,
+    /// ‖original row‖ in f64 (cosine re-score).
+    norms: Vec<f64>,
+    /// ‖product row‖ in f64 (error bound, score conversion).
+    product_norms: Vec<f64>,
+    /// Euclidean: ‖product row‖² rounded to f32, the fast-score offset. Cosine: empty.
+    sq_norms_f32: Vec<f32>,
+    /// Largest finite ‖product row‖, for the rounding-error bound.
+    max_norm: f64,
+}
+
+/// Column means of `x` in f64: the common shift for a euclidean search over `x`.
+pub(crate) fn centre(x: ArrayView2<'_, f32>) -> Vec<f64> {
+    let mut acc = vec![0f64; x.ncols()];
+    for r in x.outer_iter() {
+        for (a, &v) in acc.iter_mut().zip(r.iter()) {
+            *a += f64::from(v);
+        }
+    }
+    let n = x.nrows().max(1) as f64;
+    acc.iter_mut().for_each(|a| *a /= n);
+    acc
+}
+
+impl<'a> Prepared<'a> {
+    /// `shift` (euclidean only, ignored for cosine) must be the same for the queries and the
+    /// base of one search.
+    pub(crate) fn new(x: ArrayView2<'a, f32>, metric: Metric, shift: &[f64]) -> Prepared<'a> {
+        let orig = if x.is_standard_layout() {
+            CowArray::from(x)
+        } else {
+            CowArray::from(x.as_standard_layout().into_owned())
+        };
+        let norms: Vec<f64> = orig
+            .outer_iter()
+            .map(|r| distance::norm(r.as_slice().unwrap_or(&[])))
+            .collect();
+        let mut product = Array2::<f32>::zeros(orig.dim());
+        for ((mut dst, src), &n) in product.outer_iter_mut().zip(orig.outer_iter()).zip(&norms) {
+            match metric {
+                Metric::Euclidean => {
+                    for ((d, &v), &c) in dst.iter_mut().zip(src.iter()).zip(shift) {
+                        *d = (f64::from(v) - c) as f32;
+                    }
+                }
+                Metric::Cosine => {
+                    if n > 0.0 {
+                        dst.zip_mut_with(&src, |d, &v| *d = (f64::from(v) / n) as f32);
+                    }
+                }
+            }
+        }
+        let product_norms: Vec<f64> = match metric {
+            Metric::Euclidean => product
+                .outer_iter()
+                .map(|r| distance::norm(r.as_slice().unwrap_or(&[])))
+                .collect(),
+            Metric::Cosine => norms
+                .iter()
+                .map(|&n| if n > 0.0 { 1.0 } else { 0.0 })
+                .collect(),
+        };
+        let max_norm = product_norms
+            .iter()
+            .copied()
+            .filter(|v| v.is_finite())
+            .fold(0.0f64, f64::max);
+        let sq_norms_f32 = match metric {
+            Metric::Euclidean => product_norms.iter().map(|&n| (n * n) as f32).collect(),
+            Metric::Cosine => Vec::new(),
+        };
+        Prepared {
+            metric,
+            orig,
+            product,
+            norms,
+            product_norms,
+            sq_norms_f32,
+            max_norm,
+        }
+    }
+
+    pub(crate) fn nrows(&self) -> usize {
+        self.orig.nrows()
+    }
+
+    pub(crate) fn ncols(&self) -> usize {
+        self.orig.ncols()
+    }
+
+    pub(crate) fn metric(&self) -> Metric {
+        self.metric
+    }
+
+    /// Rows used by the matrix product.
+    fn product_rows(&self) -> ArrayView2<'_, f32> {
+        self.product.view()
+    }
+
+    /// Original row `i` as a slice.
+    pub(crate) fn row(&self, i: usize) -> &[f32] {
+        let d = self.ncols();
+        // Standard layout: row i occupies [i·d, (i+1)·d) of the contiguous buffer.
+        self.orig
+            .as_slice()
+            .map(|s| &s[i * d..(i + 1) * d])
+            .unwrap_or(&[])
+    }
+
+    /// Exact ranking key between query row `qi` of `self` and base row `bi` of `base`.
+    pub(crate) fn key(&self, qi: usize, base: &Prepared<'_>, bi: usize) -> f64 {
+        distance::rank_key(
+            self.metric,
+            self.row(qi),
+            base.row(bi),
+            self.norms[qi],
+            base.norms[bi],
+        )
+    }
+
+    /// Bound on |fast score − exact score| for query row `qi` against any row of `base`,
+    /// with a factor-2 safety margin. Fast scores are f32 dot products (error ≤ γ_d Σ|aᵢbᵢ|,
+    /// Higham's bound) plus f32 roundings of the norms; the exact keys carry f64 summation
+    /// error, also covered.
+    fn error_bound(&self, qi: usize, base: &Prepared<'_>) -> f64 {
+        let d = self.ncols() as f64;
+        let gamma = (d * U32 / (1.0 - d * U32).max(0.5)).min(1.0);
+        let eps64 = d * f64::EPSILON;
+        match self.metric {
+            Metric::Euclidean => {
+                // The last term covers rounding the shifted rows to f32.
+                let na = self.product_norms[qi];
+                let m = base.max_norm;
+                2.0 * ((2.0 * gamma + 2.0 * U32) * na * m + 2.0 * U32 * m * m)
+                    + (4.0 * eps64 + 4.0 * U32) * (na + m) * (na + m)
+            }
+            Metric::Cosine => 4.0 * (gamma + 3.0 * U32) + 8.0 * eps64,
+        }
+    }
+
+    /// Converts an exact ranking key for query `qi` to the fast-score scale.
+    fn key_to_score(&self, qi: usize, key: f64) -> f64 {
+        match self.metric {
+            Metric::Euclidean => key - self.product_norms[qi] * self.product_norms[qi],
+            Metric::Cosine => key - 1.0,
+        }
+    }
+}
+
+/// k nearest rows of `base` for each row of `queries` (both prepared with the same metric).
+/// With `exclude_self`, `queries` and `base` are the same rows and query i never returns
+/// base row i. `k` must already be clamped to the available rows and be ≥ 1.
+pub(crate) fn search(
+    queries: &Prepared<'_>,
+    base: &Prepared<'_>,
+    k: usize,
+    exclude_self: bool,
+) -> Knn {
+    let nq = queries.nrows();
+    let nb = base.nrows();
+    let available = if exclude_self {
+        nb.saturating_sub(1)
+    } else {
+        nb
+    };
+    debug_assert!(k >= 1 && k <= available);
+    let cap = (k + margin(k)).min(available);
+    let mut indices = vec![0u32; nq * k];
+    let mut distances = vec![0f32; nq * k];
+    indices
+        .par_chunks_mut(QUERY_BLOCK * k)
+        .zip(distances.par_chunks_mut(QUERY_BLOCK * k))
+        .enumerate()
+        .for_each(|(block, (idx_out, dist_out))| {
+            let q0 = block * QUERY_BLOCK;
+            let q1 = (q0 + QUERY_BLOCK).min(nq);
+            let mut tops = fast_pass(queries, base, q0, q1, cap, exclude_self);
+            let mut scratch = Vec::with_capacity(cap);
+            for (i, top) in tops.iter_mut().enumerate() {
+                let qi = q0 + i;
+                finish_query(
+                    queries,
+                    base,
+                    qi,
+                    top,
+                    k,
+                    cap == available,
+                    exclude_self,
+                    &mut scratch,
+                );
+                for (j, &(key, bi)) in scratch.iter().take(k).enumerate() {
+                    idx_out[i * k + j] = bi;
+                    dist_out[i * k + j] = distance::reported(queries.metric, key);
+                }
+            }
+        });
+    Knn {
+        k,
+        indices,
+        distances,
+    }
+}
+
+/// The blocked f32 pass for query rows `q0..q1`: one bounded candidate list per query.
+fn fast_pass(
+    queries: &Prepared<'_>,
+    base: &Prepared<'_>,
+    q0: usize,
+    q1: usize,
+    cap: usize,
+    exclude_self: bool,
+) -> Vec<TopK> {
+    let qn = q1 - q0;
+    let nb = base.nrows();
+    let qrows = queries.product_rows();
+    let qrows = qrows.slice(s![q0..q1, ..]);
+    let brows = base.product_rows();
+    let mut tops: Vec<TopK> = (0..qn).map(|_| TopK::new(cap)).collect();
+    let mut buf = vec![0f32; qn * BASE_BLOCK.min(nb)];
+    let mut b0 = 0;
+    while b0 < nb {
+        let b1 = (b0 + BASE_BLOCK).min(nb);
+        let bn = b1 - b0;
+        let mut g = ArrayViewMut2::from_shape((qn, bn), &mut buf[..qn * bn])
+            .expect("buffer is sized for the largest block");
+        general_mat_mul(1.0, &qrows, &brows.slice(s![b0..b1, ..]).t(), 0.0, &mut g);
+        for (i, top) in tops.iter_mut().enumerate() {
+            let row = &mut buf[i * bn..(i + 1) * bn];
+            let qi = q0 + i;
+            if exclude_self && (b0..b1).contains(&qi) {
+                // −∞ similarity turns into a +∞ score, which never enters the list.
+                row[qi - b0] = f32::NEG_INFINITY;
+            }
+            scan_row(top, row, b0, base, queries.metric);
+        }
+        b0 = b1;
+    }
+    tops
+}
+
+/// Offers one row of the product block to a query's candidate list.
+#[inline]
+fn scan_row(top: &mut TopK, products: &[f32], b0: usize, base: &Prepared<'_>, metric: Metric) {
+    let mut thr = top.threshold();
+    match metric {
+        Metric::Euclidean => {
+            let sq = &base.sq_norms_f32[b0..b0 + products.len()];
+            for (j, (&g, &n2)) in products.iter().zip(sq).enumerate() {
+                let s = n2 - 2.0 * g;
+                // NaN is admitted too (TopK ranks it last), so the list always fills.
+                if s < thr || s.is_nan() {
+                    top.push(s, (b0 + j) as u32);
+                    thr = top.threshold();
+                }
+            }
+        }
+        Metric::Cosine => {
+            for (j, &g) in products.iter().enumerate() {
+                let s = -g;
+                if s < thr || s.is_nan() {
+                    top.push(s, (b0 + j) as u32);
+                    thr = top.threshold();
+                }
+            }
+        }
+    }
+}
+
+/// Re-scores one query's candidates exactly and, unless the error bound proves them
+/// complete, rescans the base for every row that could still rank in the top k. Leaves the
+/// ordered (key, index) list in `scratch`.
+#[allow(clippy::too_many_arguments)]
+fn finish_query(
+    queries: &Prepared<'_>,
+    base: &Prepared<'_>,
+    qi: usize,
+    top: &TopK,
+    k: usize,
+    all_rows_are_candidates: bool,
+    exclude_self: bool,
+    scratch: &mut Vec<(f64, u32)>,
+) {
+    scratch.clear();
+    scratch.extend(
+        top.as_slice()
+            .iter()
+            .map(|&(_, bi)| (queries.key(qi, base, bi as usize), bi)),
+    );
+    sort_pairs(scratch);
+    if all_rows_are_candidates {
+        return;
+    }
+    let limit = if top.is_full() && scratch.len() >= k {
+        let worst_fast = f64::from(top.threshold());
+        let kth = queries.key_to_score(qi, scratch[k - 1].0);
+        let bound = queries.error_bound(qi, base);
+        if worst_fast - bound > kth {
+            return;
+        }
+        // Any row with exact score ≤ kth has fast score ≤ kth + bound: collect them all.
+        kth + bound
+    } else {
+        // Only rows whose fast score overflowed were left out; take every row.
+        f64::INFINITY
+    };
+    scratch.clear();
+    let q = queries.product_rows();
+    let q = q.row(qi);
+    let b = base.product_rows();
+    for (bi, brow) in b.outer_iter().enumerate() {
+        if exclude_self && bi == qi {
+            continue;
+        }
+        let g = f64::from(brow.dot(&q));
+        let s = match queries.metric {
+            Metric::Euclidean => f64::from(base.sq_norms_f32[bi]) - 2.0 * g,
+            Metric::Cosine => -g,
+        };
+        if s <= limit || s.is_nan() || limit.is_nan() {
+            scratch.push((queries.key(qi, base, bi), bi as u32));
+        }
+    }
+    sort_pairs(scratch);
+}
+
+/// Orders (key, index) pairs by key, then index. Keys are never NaN (see `rank_key`).
+pub(crate) fn sort_pairs(v: &mut [(f64, u32)]) {
+    v.sort_unstable_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
+}
