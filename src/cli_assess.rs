@@ -51,7 +51,7 @@ pub struct AssessArgs {
     #[arg(long, default_value_t = 1e-4)]
     pub linear_l2: f64,
     /// Standardise features for the linear probe (fitted on each fold's training rows).
-    #[arg(long, default_value = "on", value_parser = parse_on_off)]
+    #[arg(long, default_value = "on", value_parser = parse_on_off, action = clap::ArgAction::Set)]
     pub linear_standardize: bool,
     /// Class weights of the linear probe: none, balanced.
     #[arg(long, default_value = "none", value_parser = parse_class_weight)]

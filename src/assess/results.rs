@@ -1,7 +1,8 @@
 //! What an assessment produces. This is the single source for the terminal table, the JSON,
 //! the CSV tables and the HTML report, so every output tells the same story.
 
-use serde::Serialize;
+use serde::ser::SerializeMap;
+use serde::{Serialize, Serializer};
 
 /// The input file an assessment ran on.
 #[derive(Debug, Clone, Serialize)]
@@ -25,7 +26,8 @@ pub struct FoldRecord {
     pub train_synthetic: usize,
     pub test: usize,
     /// Metric name → value: accuracy, balanced_accuracy, macro_f1, grown_class_recall, and for
-    /// the linear probe log_loss and ece.
+    /// the linear probe log_loss and ece. Serialised as a JSON object, in this order.
+    #[serde(serialize_with = "ordered_map")]
     pub metrics: Vec<(String, f64)>,
     /// Recall per class index (NaN where the class has no test rows in this fold).
     pub class_recall: Vec<f64>,
@@ -115,4 +117,13 @@ pub struct AssessResults {
     pub warnings: Vec<String>,
     /// Wall-clock seconds (excluded when outputs are compared for determinism).
     pub elapsed_seconds: f64,
+}
+
+/// Name → value pairs as a JSON object that keeps their order.
+fn ordered_map<S: Serializer>(pairs: &[(String, f64)], s: S) -> Result<S::Ok, S::Error> {
+    let mut map = s.serialize_map(Some(pairs.len()))?;
+    for (k, v) in pairs {
+        map.serialize_entry(k, v)?;
+    }
+    map.end()
 }

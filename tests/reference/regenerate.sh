@@ -1,0 +1,10 @@
+#!/usr/bin/env bash
+# Rebuild every reference fixture under tests/fixtures/ from its committed script.
+# (io_check_written.py is not a generator: the round-trip test runs it on files embloom wrote.)
+set -euo pipefail
+cd "$(dirname "$0")"
+for script in io_make_fixtures.py pca_iris.py principal_noise_cov.py probe_digits.py \
+              eval_metrics.py eval_stats.py eval_prdc.py; do
+    echo "reference: $script"
+    python3 "$script"
+done
