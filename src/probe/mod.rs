@@ -9,6 +9,7 @@ mod knn;
 pub mod lbfgs;
 mod linear;
 mod linear_model;
+mod linfa_estimators;
 mod scaling;
 mod softmax_loss;
 
@@ -16,3 +17,4 @@ pub use kind::ProbeKind;
 pub use knn::{KnnParams, KnnProbe, Vote};
 pub use linear::{ClassWeight, LinearParams, LinearProbe, class_weights};
 pub use linear_model::LinearModel;
+pub use linfa_estimators::FittedKnn;
