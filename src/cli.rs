@@ -40,6 +40,8 @@ pub enum Command {
     Grow(GrowArgs),
     /// Compare methods under a leakage-free cross-validation protocol (see `assess --help`).
     Assess(Box<crate::cli_assess::AssessArgs>),
+    /// Assess one method at several values of one knob, each against `none`.
+    Sweep(Box<crate::cli_assess::SweepArgs>),
     /// Make the invented street-sign demo data and run inspect, grow and assess on it.
     Demo {
         /// Folder for the demo's outputs.
@@ -210,6 +212,7 @@ pub fn run(cli: Cli) -> Result<()> {
             }
         }
         Command::Assess(a) => crate::cli_assess::run(*a, quiet)?,
+        Command::Sweep(a) => crate::cli_assess::run_sweep(*a, quiet)?,
         Command::Demo { out, force } => cmd::demo::demo(&out, force, quiet)?,
     }
     Ok(())

@@ -6,6 +6,7 @@ use anyhow::Result;
 use clap::Args;
 
 use crate::cli::{InputArgs, MethodArgs, parse_method, parse_metric};
+use embloom::assess::{AssessConfig, Knob};
 use embloom::augment::MethodKind;
 use embloom::cmd;
 use embloom::neighbors::Metric;
@@ -13,17 +14,9 @@ use embloom::probe::ProbeKind;
 use embloom::probe::{ClassWeight, LinearParams};
 use embloom::probe::{KnnParams, Vote};
 
-/// Compare methods on k-NN and linear probes under stratified (or grouped, or given) k-fold
-/// cross-validation: each augmenter is fitted on a fold's real training rows only, and
-/// probes are scored on real held-out rows only. Differences against `none` are paired per
-/// fold, with 95% intervals from the corrected resampled t-test (Nadeau & Bengio 2003).
+/// The cross-validation protocol (shared by assess and sweep).
 #[derive(Args, Debug)]
-pub struct AssessArgs {
-    #[command(flatten)]
-    pub input: InputArgs,
-    /// Methods to compare (none, the baseline, is always included).
-    #[arg(long, value_delimiter = ',', default_value = "none,interpolate,extrapolate,principal-noise", value_parser = parse_method)]
-    pub methods: Vec<MethodKind>,
+pub struct ProtocolArgs {
     /// Probes: knn, linear.
     #[arg(long, value_delimiter = ',', default_value = "knn,linear", value_parser = parse_probe)]
     pub probes: Vec<ProbeKind>,
@@ -33,8 +26,6 @@ pub struct AssessArgs {
     /// Repeat the k-fold split with fresh shuffles (not for given folds).
     #[arg(long, default_value_t = 1)]
     pub repeats: usize,
-    #[command(flatten)]
-    pub how: MethodArgs,
     /// k of the k-NN probe.
     #[arg(long, default_value_t = 10)]
     pub knn_k: usize,
@@ -59,6 +50,61 @@ pub struct AssessArgs {
     /// Iteration cap of the linear probe's L-BFGS solver.
     #[arg(long, default_value_t = 500)]
     pub linear_max_iter: usize,
+}
+
+impl ProtocolArgs {
+    /// The assessment configuration for these options and `how` rows are made.
+    pub fn config(
+        &self,
+        methods: Vec<MethodKind>,
+        how: &MethodArgs,
+        diagnostics: bool,
+        quiet: bool,
+    ) -> AssessConfig {
+        AssessConfig {
+            methods,
+            probes: self.probes.clone(),
+            folds: self.folds,
+            repeats: self.repeats,
+            target: how.target,
+            classes: how.classes.clone(),
+            augment: how.params(),
+            unit_norm: how.unit_norm,
+            knn: KnnParams {
+                k: self.knn_k,
+                metric: self.knn_metric,
+                vote: self.knn_vote,
+                temperature: self.knn_temperature,
+            },
+            linear: LinearParams {
+                l2: self.linear_l2,
+                standardize: self.linear_standardize,
+                class_weight: self.linear_class_weight,
+                max_iter: self.linear_max_iter,
+                ..LinearParams::default()
+            },
+            seed: how.seed,
+            diagnostics,
+            progress: cmd::options::show_progress(quiet),
+        }
+    }
+}
+
+/// Compare methods on k-NN and linear probes under stratified (or grouped, or given) k-fold
+/// cross-validation: each augmenter is fitted on a fold's real training rows only, and
+/// probes are scored on real held-out rows only. Differences against `none` are paired per
+/// fold, with 95% intervals from the corrected resampled t-test (Nadeau & Bengio 2003).
+#[derive(Args, Debug)]
+pub struct AssessArgs {
+    #[command(flatten)]
+    pub input: InputArgs,
+    /// Methods to compare (none, the baseline, is always included).
+    #[arg(long, value_delimiter = ',', default_value = "none,interpolate,extrapolate,principal-noise", value_parser = parse_method)]
+    pub methods: Vec<MethodKind>,
+    #[command(flatten)]
+    pub protocol: ProtocolArgs,
+    #[command(flatten)]
+    pub how: MethodArgs,
     /// Skip the intrusion, distance and precision/recall/density/coverage diagnostics.
     #[arg(long)]
     pub no_diagnostics: bool,
@@ -71,6 +117,40 @@ pub struct AssessArgs {
     /// Print results.json on stdout instead of the table.
     #[arg(long)]
     pub json: bool,
+}
+
+/// Assess one method at several values of one knob (same folds and seed at every value),
+/// each against `none`.
+#[derive(Args, Debug)]
+pub struct SweepArgs {
+    #[command(flatten)]
+    pub input: InputArgs,
+    /// The method whose knob is turned.
+    #[arg(long, value_parser = parse_method)]
+    pub method: MethodKind,
+    /// magnitude, neighbours, target or variance-kept.
+    #[arg(long, value_parser = parse_knob)]
+    pub knob: Knob,
+    /// The values to try, comma-separated (e.g. 0.25,0.5,1 or median,largest).
+    #[arg(long, value_delimiter = ',', required = true)]
+    pub values: Vec<String>,
+    #[command(flatten)]
+    pub protocol: ProtocolArgs,
+    #[command(flatten)]
+    pub how: MethodArgs,
+    /// Also write the points as CSV to this file.
+    #[arg(long, value_name = "FILE")]
+    pub csv: Option<PathBuf>,
+    /// Replace an existing CSV file.
+    #[arg(long)]
+    pub force: bool,
+    /// Print the results as JSON on stdout instead of the table.
+    #[arg(long)]
+    pub json: bool,
+}
+
+fn parse_knob(s: &str) -> Result<Knob, String> {
+    s.parse().map_err(|e: embloom::Error| e.to_string())
 }
 
 fn parse_probe(s: &str) -> Result<ProbeKind, String> {
@@ -99,32 +179,9 @@ fn parse_class_weight(s: &str) -> Result<ClassWeight, String> {
 }
 
 pub fn run(a: AssessArgs, quiet: bool) -> Result<()> {
-    let config = embloom::assess::AssessConfig {
-        methods: a.methods.clone(),
-        probes: a.probes.clone(),
-        folds: a.folds,
-        repeats: a.repeats,
-        target: a.how.target,
-        classes: a.how.classes.clone(),
-        augment: a.how.params(),
-        unit_norm: a.how.unit_norm,
-        knn: KnnParams {
-            k: a.knn_k,
-            metric: a.knn_metric,
-            vote: a.knn_vote,
-            temperature: a.knn_temperature,
-        },
-        linear: LinearParams {
-            l2: a.linear_l2,
-            standardize: a.linear_standardize,
-            class_weight: a.linear_class_weight,
-            max_iter: a.linear_max_iter,
-            ..LinearParams::default()
-        },
-        seed: a.how.seed,
-        diagnostics: !a.no_diagnostics,
-        progress: cmd::options::show_progress(quiet),
-    };
+    let config = a
+        .protocol
+        .config(a.methods.clone(), &a.how, !a.no_diagnostics, quiet);
     let opts = cmd::assess::AssessOptions {
         input: a.input.file.clone(),
         read: a.input.read_options(),
@@ -142,6 +199,29 @@ pub fn run(a: AssessArgs, quiet: bool) -> Result<()> {
         {
             eprintln!("report written to {}", dir.display());
         }
+    }
+    Ok(())
+}
+
+pub fn run_sweep(a: SweepArgs, quiet: bool) -> Result<()> {
+    let config = a
+        .protocol
+        .config(vec![MethodKind::None, a.method], &a.how, false, quiet);
+    let opts = cmd::sweep::SweepOptions {
+        input: a.input.file.clone(),
+        read: a.input.read_options(),
+        config,
+        method: a.method,
+        knob: a.knob,
+        values: a.values.clone(),
+        csv: a.csv.clone(),
+        force: a.force,
+    };
+    let results = cmd::sweep::run(&opts)?;
+    if a.json {
+        println!("{}", serde_json::to_string_pretty(&results)?);
+    } else {
+        print!("{}", results.render());
     }
     Ok(())
 }

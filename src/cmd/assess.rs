@@ -7,7 +7,7 @@ use sha2::{Digest, Sha256};
 
 use crate::assess::{AssessConfig, AssessResults, InputInfo, assess};
 use crate::error::{Error, Result};
-use crate::io::{self, ReadOptions};
+use crate::io::{self, Loaded, ReadOptions};
 
 #[derive(Debug, Clone)]
 pub struct AssessOptions {
@@ -31,16 +31,8 @@ pub fn run(opts: &AssessOptions) -> Result<AssessResults> {
         ));
     }
     let config = opts.config.clone().validated()?;
-    let loaded = io::read(&opts.input, &opts.read)?;
+    let (loaded, input) = load(&opts.input, &opts.read)?;
     let ds = &loaded.dataset;
-    let input = InputInfo {
-        path: opts.input.display().to_string(),
-        sha256: sha256_of(&opts.input)?,
-        rows: ds.n_rows(),
-        dims: ds.dims(),
-        classes: ds.classes.clone(),
-        class_counts: ds.class_counts(),
-    };
     let mut results = assess(ds, &config, input)?;
     if loaded.dropped_nonfinite > 0 {
         results.warnings.push(format!(
@@ -52,6 +44,21 @@ pub fn run(opts: &AssessOptions) -> Result<AssessResults> {
         crate::report::write_report_dir(dir, &results, opts.force)?;
     }
     Ok(results)
+}
+
+/// Read the input and describe it for the results (path, SHA-256, shape, classes).
+pub fn load(path: &Path, read: &ReadOptions) -> Result<(Loaded, InputInfo)> {
+    let loaded = io::read(path, read)?;
+    let ds = &loaded.dataset;
+    let input = InputInfo {
+        path: path.display().to_string(),
+        sha256: sha256_of(path)?,
+        rows: ds.n_rows(),
+        dims: ds.dims(),
+        classes: ds.classes.clone(),
+        class_counts: ds.class_counts(),
+    };
+    Ok((loaded, input))
 }
 
 /// Hex SHA-256 of a file, so a report names exactly the data it was computed on.

@@ -5,3 +5,4 @@ pub mod demo;
 pub mod grow;
 pub mod inspect;
 pub mod options;
+pub mod sweep;

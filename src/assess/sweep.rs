@@ -1,0 +1,251 @@
+//! A grid over one knob of one method: the same folds and seed at every value, each point
+//! compared with `none`, so the curve shows how the effect depends on the knob alone.
+
+use std::fmt;
+use std::str::FromStr;
+
+use serde::Serialize;
+
+use super::config::AssessConfig;
+use super::results::InputInfo;
+use super::run::assess;
+use crate::augment::{MethodKind, Target};
+use crate::data::Dataset;
+use crate::error::{Error, Result};
+
+/// The knobs a sweep can turn.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Knob {
+    Magnitude,
+    Neighbours,
+    Target,
+    VarianceKept,
+}
+
+impl Knob {
+    pub const ALL: [Knob; 4] = [
+        Knob::Magnitude,
+        Knob::Neighbours,
+        Knob::Target,
+        Knob::VarianceKept,
+    ];
+
+    pub fn name(self) -> &'static str {
+        match self {
+            Knob::Magnitude => "magnitude",
+            Knob::Neighbours => "neighbours",
+            Knob::Target => "target",
+            Knob::VarianceKept => "variance-kept",
+        }
+    }
+
+    /// A copy of `cfg` with this knob set to `value`, validated.
+    pub fn apply(self, cfg: &AssessConfig, value: &str) -> Result<AssessConfig> {
+        let bad = |what: &str| {
+            Error::param(
+                "--values",
+                format!("'{value}' is not {what} for --knob {}", self.name()),
+                format!("give comma-separated values, each {what}"),
+            )
+        };
+        let mut c = cfg.clone();
+        match self {
+            Knob::Magnitude => {
+                c.augment.magnitude = Some(value.parse().map_err(|_| bad("a number"))?)
+            }
+            Knob::Neighbours => {
+                c.augment.neighbours = value.parse().map_err(|_| bad("a whole number"))?
+            }
+            Knob::Target => c.target = value.parse::<Target>()?,
+            Knob::VarianceKept => {
+                c.augment.variance_kept = value.parse().map_err(|_| bad("a number"))?
+            }
+        }
+        Ok(c)
+    }
+}
+
+impl fmt::Display for Knob {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(self.name())
+    }
+}
+
+impl FromStr for Knob {
+    type Err = Error;
+    fn from_str(s: &str) -> Result<Self> {
+        Knob::ALL
+            .into_iter()
+            .find(|k| k.name() == s)
+            .ok_or_else(|| {
+                let names: Vec<_> = Knob::ALL.iter().map(|k| k.name()).collect();
+                Error::param(
+                    "--knob",
+                    format!("unknown knob '{s}'"),
+                    format!("use one of: {}", names.join(", ")),
+                )
+            })
+    }
+}
+
+/// One value of the knob, one probe, one metric.
+#[derive(Debug, Clone, Serialize)]
+pub struct SweepPoint {
+    pub value: String,
+    pub probe: String,
+    pub metric: String,
+    pub mean: f64,
+    pub delta_mean: f64,
+    pub delta_ci_low: f64,
+    pub delta_ci_high: f64,
+    pub p_value: f64,
+}
+
+/// Everything a sweep found.
+#[derive(Debug, Clone, Serialize)]
+pub struct SweepResults {
+    pub embloom_version: String,
+    pub input: InputInfo,
+    pub method: String,
+    pub knob: String,
+    pub seed: u64,
+    pub points: Vec<SweepPoint>,
+    pub warnings: Vec<String>,
+}
+
+/// The metrics a sweep reports.
+const METRICS: [&str; 3] = ["balanced_accuracy", "macro_f1", "grown_class_recall"];
+
+/// Assess `method` against `none` at every value of `knob`. `progress` is called after each value.
+pub fn sweep(
+    ds: &Dataset,
+    base: &AssessConfig,
+    method: MethodKind,
+    knob: Knob,
+    values: &[String],
+    input: InputInfo,
+    mut progress: impl FnMut(usize, &str),
+) -> Result<SweepResults> {
+    if method == MethodKind::None {
+        return Err(Error::param(
+            "--method",
+            "none has no knobs",
+            "sweep a method that makes rows, such as interpolate",
+        ));
+    }
+    if values.is_empty() {
+        return Err(Error::param(
+            "--values",
+            "no values given",
+            "give at least one value, e.g. --values 0.25,0.5,1",
+        ));
+    }
+    // Validate every value before the first (long) assessment starts.
+    let configs = values
+        .iter()
+        .map(|v| {
+            let mut c = knob.apply(base, v)?;
+            c.methods = vec![MethodKind::None, method];
+            c.diagnostics = false;
+            c.progress = false;
+            c.validated()
+        })
+        .collect::<Result<Vec<_>>>()?;
+    let mut points = Vec::new();
+    let mut warnings = Vec::new();
+    for (i, (value, cfg)) in values.iter().zip(&configs).enumerate() {
+        let r = assess(ds, cfg, input.clone())?;
+        for row in r
+            .summary
+            .iter()
+            .filter(|s| s.method == method.name() && METRICS.contains(&s.metric.as_str()))
+        {
+            points.push(SweepPoint {
+                value: value.clone(),
+                probe: row.probe.clone(),
+                metric: row.metric.clone(),
+                mean: row.mean,
+                delta_mean: row.delta_mean,
+                delta_ci_low: row.delta_ci_low,
+                delta_ci_high: row.delta_ci_high,
+                p_value: row.p_value,
+            });
+        }
+        warnings.extend(
+            r.warnings
+                .into_iter()
+                .map(|w| format!("{knob} = {value}: {w}")),
+        );
+        progress(i + 1, value);
+    }
+    Ok(SweepResults {
+        embloom_version: env!("CARGO_PKG_VERSION").to_string(),
+        input,
+        method: method.name().to_string(),
+        knob: knob.name().to_string(),
+        seed: base.seed,
+        points,
+        warnings,
+    })
+}
+
+impl SweepResults {
+    /// A plain-text table: one row per value and probe.
+    pub fn render(&self) -> String {
+        let mut s = format!(
+            "sweep of {} over {} (seed {}), Δ against none with 95% intervals\n\n",
+            self.method, self.knob, self.seed
+        );
+        let cell = |p: Option<&SweepPoint>| match p {
+            Some(p) if p.delta_mean.is_finite() => format!(
+                "{:.3} (Δ {:+.3} [{:+.3}, {:+.3}])",
+                p.mean, p.delta_mean, p.delta_ci_low, p.delta_ci_high
+            ),
+            Some(p) => format!("{:.3} (Δ n/a)", p.mean),
+            None => "n/a".to_string(),
+        };
+        let mut rows = vec![vec![
+            "value".to_string(),
+            "probe".to_string(),
+            "balanced accuracy".to_string(),
+            "grown-class recall".to_string(),
+        ]];
+        let mut keys: Vec<(&str, &str)> = Vec::new();
+        for p in &self.points {
+            if !keys.contains(&(p.value.as_str(), p.probe.as_str())) {
+                keys.push((p.value.as_str(), p.probe.as_str()));
+            }
+        }
+        for (value, probe) in keys {
+            let find = |m: &str| {
+                self.points
+                    .iter()
+                    .find(|p| p.value == value && p.probe == probe && p.metric == m)
+            };
+            rows.push(vec![
+                value.to_string(),
+                probe.to_string(),
+                cell(find("balanced_accuracy")),
+                cell(find("grown_class_recall")),
+            ]);
+        }
+        let widths: Vec<usize> = (0..4)
+            .map(|c| rows.iter().map(|r| r[c].chars().count()).max().unwrap_or(0))
+            .collect();
+        for r in rows {
+            let line: Vec<String> = r
+                .iter()
+                .zip(&widths)
+                .map(|(v, w)| format!("{v:<w$}"))
+                .collect();
+            s += line.join("  ").trim_end();
+            s += "\n";
+        }
+        for w in &self.warnings {
+            s += &format!("warning: {w}\n");
+        }
+        s += &format!("\n{}\n", crate::report::CAUTION);
+        s
+    }
+}

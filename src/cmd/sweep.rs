@@ -1,0 +1,97 @@
+//! `embloom sweep`: one method, one knob, several values, each assessed against `none`.
+
+use std::path::PathBuf;
+
+use indicatif::ProgressBar;
+
+use super::assess::load;
+use crate::assess::{AssessConfig, Knob, SweepResults, sweep};
+use crate::augment::MethodKind;
+use crate::error::{Error, Result};
+use crate::io::{ReadOptions, write_atomically};
+
+#[derive(Debug, Clone)]
+pub struct SweepOptions {
+    pub input: PathBuf,
+    pub read: ReadOptions,
+    pub config: AssessConfig,
+    pub method: MethodKind,
+    pub knob: Knob,
+    pub values: Vec<String>,
+    pub csv: Option<PathBuf>,
+    pub force: bool,
+}
+
+/// Run a sweep and write its CSV when asked.
+pub fn run(opts: &SweepOptions) -> Result<SweepResults> {
+    if let Some(csv) = &opts.csv
+        && csv.exists()
+        && !opts.force
+    {
+        return Err(Error::output(
+            csv,
+            "already exists",
+            "pass --force to replace it, or choose another name",
+        ));
+    }
+    let (loaded, input) = load(&opts.input, &opts.read)?;
+    let bar = if opts.config.progress {
+        ProgressBar::new(opts.values.len() as u64)
+    } else {
+        ProgressBar::hidden()
+    };
+    let results = sweep(
+        &loaded.dataset,
+        &opts.config,
+        opts.method,
+        opts.knob,
+        &opts.values,
+        input,
+        |done, value| {
+            bar.set_position(done as u64);
+            bar.set_message(format!("{} = {value}", opts.knob));
+        },
+    )?;
+    bar.finish_and_clear();
+    if let Some(csv) = &opts.csv {
+        let text = points_csv(&results);
+        write_atomically(csv, opts.force, |tmp| {
+            std::fs::write(tmp, text.as_bytes()).map_err(|e| Error::io(tmp, e))
+        })?;
+    }
+    Ok(results)
+}
+
+/// One line per value, probe and metric; NaN as an empty field (as the report's CSV tables).
+fn points_csv(r: &SweepResults) -> String {
+    let num = |v: f64| {
+        if v.is_finite() {
+            v.to_string()
+        } else {
+            String::new()
+        }
+    };
+    let mut s = String::from(
+        "knob,value,probe,metric,mean,delta_mean,delta_ci_low,delta_ci_high,p_value\n",
+    );
+    for p in &r.points {
+        let value = if p.value.contains([',', '"']) {
+            format!("\"{}\"", p.value.replace('"', "\"\""))
+        } else {
+            p.value.clone()
+        };
+        s += &format!(
+            "{},{},{},{},{},{},{},{},{}\n",
+            r.knob,
+            value,
+            p.probe,
+            p.metric,
+            num(p.mean),
+            num(p.delta_mean),
+            num(p.delta_ci_low),
+            num(p.delta_ci_high),
+            num(p.p_value)
+        );
+    }
+    s
+}

@@ -1,0 +1,91 @@
+//! `embloom sweep`: each point is exactly the assessment of that setting against `none`.
+
+mod common;
+
+use common::*;
+use serde_json::Value;
+
+#[test]
+fn each_point_equals_assess_at_that_value() {
+    let dir = tempdir();
+    let input = p(dir.path(), "in.csv");
+    write_csv(&input, &[40, 8, 10], 6, 9);
+    let f = input.to_str().unwrap();
+    let common = [
+        "--probes", "knn", "--folds", "4", "--seed", "3", "--json", "--quiet",
+    ];
+    let mut args = vec![
+        "sweep",
+        f,
+        "--method",
+        "extrapolate",
+        "--knob",
+        "magnitude",
+        "--values",
+        "0.25,1.5",
+    ];
+    args.extend(common);
+    let o = embloom(&args, &[]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let sweep: Value = serde_json::from_str(&stdout(&o)).unwrap();
+    for value in ["0.25", "1.5"] {
+        let mut args = vec![
+            "assess",
+            f,
+            "--methods",
+            "extrapolate",
+            "--magnitude",
+            value,
+            "--no-diagnostics",
+        ];
+        args.extend(common);
+        let o = embloom(&args, &[]);
+        assert!(o.status.success(), "{}", stderr(&o));
+        let assess: Value = serde_json::from_str(&stdout(&o)).unwrap();
+        let row = assess["summary"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|r| r["method"] == "extrapolate" && r["metric"] == "balanced_accuracy")
+            .unwrap();
+        let point = sweep["points"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|p| p["value"] == value && p["metric"] == "balanced_accuracy")
+            .unwrap();
+        for key in ["mean", "delta_mean", "delta_ci_low", "delta_ci_high"] {
+            assert_eq!(point[key], row[key], "{key} at magnitude {value}");
+        }
+    }
+}
+
+#[test]
+fn bad_values_are_refused_before_any_work() {
+    let dir = tempdir();
+    let input = p(dir.path(), "in.csv");
+    write_csv(&input, &[20, 5], 3, 1);
+    let csv = p(dir.path(), "points.csv");
+    let o = embloom(
+        &[
+            "sweep",
+            input.to_str().unwrap(),
+            "--method",
+            "interpolate",
+            "--knob",
+            "neighbours",
+            "--values",
+            "3,x",
+            "--csv",
+            csv.to_str().unwrap(),
+        ],
+        &[],
+    );
+    assert!(!o.status.success());
+    assert!(
+        stderr(&o).contains("'x'") && stderr(&o).contains("--knob neighbours"),
+        "{}",
+        stderr(&o)
+    );
+    assert!(!csv.exists());
+}
