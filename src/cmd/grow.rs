@@ -218,6 +218,7 @@ pub fn grow(opts: &GrowOptions) -> Result<GrowSummary> {
             "pass --force to replace it, or choose another name",
         ));
     }
+    io::output_format(&opts.output)?;
     let loaded = io::read(&opts.input, &opts.read)?;
     let ds = &loaded.dataset;
     let (plan, grown) = grow_dataset(ds, opts)?;

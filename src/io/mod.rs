@@ -217,9 +217,9 @@ fn stream(
     f(&mut w).map_err(|e| Error::io(tmp, e))
 }
 
-/// Write an augmented set in the format of `path`'s extension. Refuses an existing file
-/// unless `force`. The file appears complete or not at all (see [`atomic`]).
-pub fn write(path: &Path, set: &AugmentedSet, force: bool) -> Result<()> {
+/// The format `path` would be written in, or why it cannot be: checked before any work so a
+/// long job never ends on a refused output name.
+pub fn output_format(path: &Path) -> Result<Format> {
     let format = Format::of(path).map_err(|_| {
         Error::output(
             path,
@@ -242,6 +242,13 @@ pub fn write(path: &Path, set: &AugmentedSet, force: bool) -> Result<()> {
             "rebuild with `--features hdf5`, or write .npz",
         ));
     }
+    Ok(format)
+}
+
+/// Write an augmented set in the format of `path`'s extension. Refuses an existing file
+/// unless `force`. The file appears complete or not at all (see [`atomic`]).
+pub fn write(path: &Path, set: &AugmentedSet, force: bool) -> Result<()> {
+    let format = output_format(path)?;
     let export = export::prepare(path, set)?;
     atomic::write_with(path, force, |tmp| match format {
         Format::Npz => {
