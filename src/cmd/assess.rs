@@ -16,6 +16,9 @@ pub struct AssessOptions {
     pub config: AssessConfig,
     pub report: Option<PathBuf>,
     pub force: bool,
+    /// Refuse when the estimated peak memory exceeds this many bytes (and always when it
+    /// exceeds what the system has available).
+    pub max_memory: Option<u64>,
 }
 
 /// Run an assessment and write its report folder when asked.
@@ -33,6 +36,7 @@ pub fn run(opts: &AssessOptions) -> Result<AssessResults> {
     let config = opts.config.clone().validated()?;
     let loaded = io::read(&opts.input, &opts.read)?;
     let ds = &loaded.dataset;
+    check_memory(ds, &config, opts)?;
     let input = InputInfo {
         path: opts.input.display().to_string(),
         sha256: sha256_of(&opts.input)?,
@@ -52,6 +56,39 @@ pub fn run(opts: &AssessOptions) -> Result<AssessResults> {
         crate::report::write_report_dir(dir, &results, opts.force)?;
     }
     Ok(results)
+}
+
+/// Refuses before the fold loop when one fold's work would not fit in memory.
+fn check_memory(ds: &crate::Dataset, config: &AssessConfig, opts: &AssessOptions) -> Result<()> {
+    let only = config
+        .classes
+        .as_ref()
+        .map(|names| crate::cmd::options::class_indices(names, &ds.classes))
+        .transpose()?;
+    let plan = crate::augment::Plan::new(&ds.class_counts(), config.target, only.as_deref());
+    let synthetic = if config
+        .methods
+        .iter()
+        .any(|m| *m != crate::augment::MethodKind::None)
+    {
+        plan.total()
+    } else {
+        0
+    };
+    let est = crate::memory::for_assess(
+        &opts.input,
+        ds.n_rows(),
+        ds.dims(),
+        synthetic,
+        config.folds,
+        config.probes.contains(&crate::probe::ProbeKind::Linear),
+    );
+    crate::memory::check(
+        &est,
+        opts.max_memory,
+        &format!("assessing {}", opts.input.display()),
+        "assess fewer classes (--classes A,B), a smaller --target (e.g. median), fewer folds (--folds 3), the knn probe alone (--probes knn), or raise --max-memory",
+    )
 }
 
 /// Hex SHA-256 of a file, so a report names exactly the data it was computed on.
