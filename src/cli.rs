@@ -154,6 +154,14 @@ pub struct GrowArgs {
     /// Print the summary as JSON on stdout.
     #[arg(long)]
     pub json: bool,
+    /// Refuse the job when its estimated peak memory exceeds SIZE (e.g. 4G, 512M); it is
+    /// always refused when it exceeds the memory the system has available.
+    #[arg(long, value_name = "SIZE", value_parser = parse_size)]
+    pub max_memory: Option<u64>,
+}
+
+pub fn parse_size(s: &str) -> Result<u64, String> {
+    embloom::memory::parse_size(s).map_err(|e| e.to_string())
 }
 
 pub fn parse_target(s: &str) -> Result<Target, String> {
@@ -203,6 +211,7 @@ pub fn run(cli: Cli) -> Result<()> {
                 seed: g.how.seed,
                 force: g.force,
                 json: g.json,
+                max_memory: g.max_memory,
             };
             let summary = cmd::grow::grow(&opts)?;
             if g.json {
@@ -214,6 +223,12 @@ pub fn run(cli: Cli) -> Result<()> {
         Command::Assess(a) => crate::cli_assess::run(*a, quiet)?,
         Command::Sweep(a) => crate::cli_assess::run_sweep(*a, quiet)?,
         Command::Demo { out, force } => cmd::demo::demo(&out, force, quiet)?,
+    }
+    // For tests/hardening_memory.rs: the measured peak, to hold the estimate against.
+    if std::env::var_os("EMBLOOM_REPORT_PEAK").is_some()
+        && let Some(peak) = embloom::memory::peak_resident()
+    {
+        eprintln!("embloom-peak-bytes: {peak}");
     }
     Ok(())
 }

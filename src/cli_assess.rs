@@ -117,6 +117,10 @@ pub struct AssessArgs {
     /// Print results.json on stdout instead of the table.
     #[arg(long)]
     pub json: bool,
+    /// Refuse the job when its estimated peak memory exceeds SIZE (e.g. 4G, 512M); it is
+    /// always refused when it exceeds the memory the system has available.
+    #[arg(long, value_name = "SIZE", value_parser = crate::cli::parse_size)]
+    pub max_memory: Option<u64>,
 }
 
 /// Assess one method at several values of one knob (same folds and seed at every value),
@@ -188,6 +192,7 @@ pub fn run(a: AssessArgs, quiet: bool) -> Result<()> {
         config,
         report: a.report.clone(),
         force: a.force,
+        max_memory: a.max_memory,
     };
     let results = cmd::assess::run(&opts)?;
     if a.json {

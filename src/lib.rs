@@ -14,6 +14,7 @@ pub mod demo;
 pub mod error;
 pub mod eval;
 pub mod io;
+pub mod memory;
 pub mod neighbors;
 pub mod pca;
 pub mod probe;

@@ -16,6 +16,9 @@ pub struct AssessOptions {
     pub config: AssessConfig,
     pub report: Option<PathBuf>,
     pub force: bool,
+    /// Refuse when the estimated peak memory exceeds this many bytes (and always when it
+    /// exceeds what the system has available).
+    pub max_memory: Option<u64>,
 }
 
 /// Run an assessment and write its report folder when asked.
@@ -33,6 +36,7 @@ pub fn run(opts: &AssessOptions) -> Result<AssessResults> {
     let config = opts.config.clone().validated()?;
     let (loaded, input) = load(&opts.input, &opts.read)?;
     let ds = &loaded.dataset;
+    check_memory(ds, &config, opts)?;
     let mut results = assess(ds, &config, input)?;
     if loaded.dropped_nonfinite > 0 {
         results.warnings.push(format!(
@@ -59,6 +63,39 @@ pub fn load(path: &Path, read: &ReadOptions) -> Result<(Loaded, InputInfo)> {
         class_counts: ds.class_counts(),
     };
     Ok((loaded, input))
+}
+
+/// Refuses before the fold loop when one fold's work would not fit in memory.
+fn check_memory(ds: &crate::Dataset, config: &AssessConfig, opts: &AssessOptions) -> Result<()> {
+    let only = config
+        .classes
+        .as_ref()
+        .map(|names| crate::cmd::options::class_indices(names, &ds.classes))
+        .transpose()?;
+    let plan = crate::augment::Plan::new(&ds.class_counts(), config.target, only.as_deref());
+    let synthetic = if config
+        .methods
+        .iter()
+        .any(|m| *m != crate::augment::MethodKind::None)
+    {
+        plan.total()
+    } else {
+        0
+    };
+    let est = crate::memory::for_assess(
+        &opts.input,
+        ds.n_rows(),
+        ds.dims(),
+        synthetic,
+        config.folds,
+        config.probes.contains(&crate::probe::ProbeKind::Linear),
+    );
+    crate::memory::check(
+        &est,
+        opts.max_memory,
+        &format!("assessing {}", opts.input.display()),
+        "assess fewer classes (--classes A,B), a smaller --target (e.g. median), fewer folds (--folds 3), the knn probe alone (--probes knn), or raise --max-memory",
+    )
 }
 
 /// Hex SHA-256 of a file, so a report names exactly the data it was computed on.

@@ -71,6 +71,7 @@ pub fn demo(out: &Path, force: bool, quiet: bool) -> Result<()> {
         seed: DEMO_SEED,
         force: false,
         json: false,
+        max_memory: None,
     })?;
     print!("{}", summary.render());
 
@@ -107,6 +108,7 @@ pub fn demo(out: &Path, force: bool, quiet: bool) -> Result<()> {
         config,
         report: Some(report.clone()),
         force: false,
+        max_memory: None,
     })?;
     print!("{}", crate::report::terminal_table(&results));
     println!("\nreport: {}", report.join("report.html").display());

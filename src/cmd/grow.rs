@@ -25,6 +25,9 @@ pub struct GrowOptions {
     pub seed: u64,
     pub force: bool,
     pub json: bool,
+    /// Refuse when the estimated peak memory exceeds this many bytes (and always when it
+    /// exceeds what the system has available).
+    pub max_memory: Option<u64>,
 }
 
 #[derive(Debug, Serialize)]
@@ -209,6 +212,33 @@ pub fn assemble(ds: &Dataset, grown: &Grown, method: MethodKind) -> Result<Augme
     })
 }
 
+/// Refuses before growing when the job would not fit in memory.
+fn check_memory(ds: &Dataset, opts: &GrowOptions) -> Result<()> {
+    let only = opts
+        .classes
+        .as_ref()
+        .map(|names| class_indices(names, &ds.classes))
+        .transpose()?;
+    let plan = Plan::new(&ds.class_counts(), opts.target, only.as_deref());
+    let est = crate::memory::for_grow(
+        &opts.input,
+        ds.n_rows(),
+        ds.dims(),
+        plan.total(),
+        &opts.output,
+    );
+    crate::memory::check(
+        &est,
+        opts.max_memory,
+        &format!(
+            "growing {} to {} more rows",
+            opts.input.display(),
+            plan.total()
+        ),
+        "grow fewer classes (--classes A,B), choose a smaller --target (e.g. median or xF), write .csv (streamed), or raise --max-memory",
+    )
+}
+
 /// Run `grow`.
 pub fn grow(opts: &GrowOptions) -> Result<GrowSummary> {
     if opts.output.exists() && !opts.force {
@@ -221,6 +251,7 @@ pub fn grow(opts: &GrowOptions) -> Result<GrowSummary> {
     io::output_format(&opts.output)?;
     let loaded = io::read(&opts.input, &opts.read)?;
     let ds = &loaded.dataset;
+    check_memory(ds, opts)?;
     let (plan, grown) = grow_dataset(ds, opts)?;
     let set = assemble(ds, &grown, opts.method)?;
     io::write(&opts.output, &set, opts.force)?;

@@ -206,6 +206,20 @@ pub fn decode(bytes: &[u8], path: &Path, key: &str) -> Result<Tensor> {
             ),
         ));
     }
+    // A zero-width string dtype ('U0', 'S0') has no bytes per element, so the size check
+    // above cannot bound its element count; a header could claim 10^11 empty strings in a
+    // file of 100 bytes. Such an array holds nothing usable (every label the same ""), so it
+    // is refused rather than materialised.
+    if h.dtype.size == 0 && count > 0 {
+        return Err(bad(
+            path,
+            key,
+            format!(
+                "dtype '{}' is a zero-width string: its {count} elements are all empty",
+                h.descr
+            ),
+        ));
+    }
     let values = decode_values(data, count, h.dtype, path, key)?;
     let values = if h.fortran && h.shape.len() > 1 {
         to_c_order(values, &h.shape)
@@ -237,9 +251,10 @@ fn word<const N: usize>(chunk: &[u8], big: bool) -> [u8; N] {
 
 fn decode_values(data: &[u8], count: usize, dt: Dtype, path: &Path, key: &str) -> Result<Values> {
     let big = dt.big_endian;
-    // Zero-width string dtypes have no bytes to chunk; every element is "".
+    // Zero-width string dtypes have no bytes to chunk; decode() lets them through only
+    // when the array is empty.
     if dt.size == 0 {
-        return Ok(Values::Text(vec![String::new(); count]));
+        return Ok(Values::Text(Vec::new()));
     }
     let chunks = data.chunks_exact(dt.size);
     Ok(match (dt.kind, dt.size) {

@@ -1,0 +1,244 @@
+//! Memory estimates, so that a command too big for the machine is refused with a suggestion
+//! instead of being killed by the kernel halfway through.
+//!
+//! The model counts the large buffers each stage holds at once (matrices of f32, parsed CSV
+//! fields, the export image) and takes the largest stage; small per-row bookkeeping is folded
+//! into a per-row allowance and a fixed runtime allowance. It is checked against the measured
+//! peak (VmHWM) in tests/hardening_memory.rs.
+
+use std::path::Path;
+
+use crate::error::{Error, Result};
+use crate::io::Format;
+
+/// Fixed allowance: the binary, thread stacks, allocator arenas, small tables.
+const RUNTIME: u64 = 24 << 20;
+/// Bytes per parsed CSV field while the table is in memory (a `String` header plus its heap
+/// block, which the allocator rounds up to at least 32 bytes).
+const CSV_FIELD: u64 = 56;
+/// Per-row bookkeeping (labels, provenance, origin strings, ids) of an output set.
+const ROW_EXTRA: u64 = 96;
+
+/// An estimate of peak memory and the stage/parts that make it up.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Estimate {
+    pub bytes: u64,
+    pub parts: Vec<(String, u64)>,
+}
+
+impl Estimate {
+    fn of(parts: Vec<(String, u64)>) -> Estimate {
+        Estimate {
+            bytes: parts.iter().map(|(_, b)| *b).sum(),
+            parts,
+        }
+    }
+
+    /// The larger of two stage estimates (stages do not overlap in time).
+    fn max(self, other: Estimate) -> Estimate {
+        if other.bytes > self.bytes {
+            other
+        } else {
+            self
+        }
+    }
+
+    /// "120 MiB (matrix 80 MiB, synthetic rows 40 MiB)".
+    pub fn describe(&self) -> String {
+        let parts: Vec<String> = self
+            .parts
+            .iter()
+            .filter(|(_, b)| *b > 0)
+            .map(|(n, b)| format!("{n} {}", human(*b)))
+            .collect();
+        format!("{} ({})", human(self.bytes), parts.join(", "))
+    }
+}
+
+/// Bytes as MiB/GiB for messages.
+pub fn human(b: u64) -> String {
+    let mib = b as f64 / (1u64 << 20) as f64;
+    if mib >= 1024.0 {
+        format!("{:.1} GiB", mib / 1024.0)
+    } else {
+        format!("{mib:.0} MiB")
+    }
+}
+
+fn matrix(rows: usize, dims: usize) -> u64 {
+    (rows as u64).saturating_mul(dims as u64).saturating_mul(4)
+}
+
+/// Peak while reading `path` into a `rows × dims` matrix: the file image or parsed text, plus
+/// the decoded matrix.
+pub fn for_read(path: &Path, rows: usize, dims: usize) -> Estimate {
+    let file = std::fs::metadata(path).map(|m| m.len()).unwrap_or(0);
+    let x = matrix(rows, dims);
+    let staging = match Format::of(path) {
+        Ok(Format::Csv) | Ok(Format::Tsv) => {
+            file + (rows as u64 * (dims as u64 + 1)).saturating_mul(CSV_FIELD)
+        }
+        // npz members are decompressed into memory; the others are read whole. Either way
+        // about one decoded-size image sits beside the matrix.
+        Ok(Format::Hdf5) => x,
+        _ => file.max(x),
+    };
+    Estimate::of(vec![
+        ("runtime".into(), RUNTIME),
+        ("file image".into(), staging),
+        ("matrix".into(), x),
+    ])
+}
+
+/// Peak of `grow`: reading, then the matrix, the synthetic rows, the stacked output and the
+/// export image (npz and safetensors build each member in memory; CSV and HDF5 stream).
+pub fn for_grow(
+    input: &Path,
+    rows: usize,
+    dims: usize,
+    synthetic: usize,
+    output: &Path,
+) -> Estimate {
+    let out_rows = rows + synthetic;
+    let image = match Format::of(output) {
+        Ok(Format::Npz) => 2 * matrix(out_rows, dims),
+        Ok(Format::Safetensors) => matrix(out_rows, dims),
+        _ => 0,
+    };
+    let grow = Estimate::of(vec![
+        ("runtime".into(), RUNTIME),
+        ("matrix".into(), matrix(rows, dims)),
+        ("synthetic rows".into(), matrix(synthetic, dims)),
+        (
+            "output set".into(),
+            matrix(out_rows, dims) + out_rows as u64 * ROW_EXTRA,
+        ),
+        ("export image".into(), image),
+    ]);
+    for_read(input, rows, dims).max(grow)
+}
+
+/// Peak of `assess`: the matrix, one fold's train/test copies, the synthetic rows of the
+/// biggest method in that fold, and the linear probe's stacked and standardised copies.
+pub fn for_assess(
+    input: &Path,
+    rows: usize,
+    dims: usize,
+    synthetic: usize,
+    folds: usize,
+    linear: bool,
+) -> Estimate {
+    let folds = folds.max(2);
+    let train = rows - rows / folds;
+    let syn = synthetic - synthetic / folds;
+    let probe = if linear {
+        2 * matrix(train + syn, dims)
+    } else {
+        0
+    };
+    let assess = Estimate::of(vec![
+        ("runtime".into(), RUNTIME),
+        ("matrix".into(), matrix(rows, dims)),
+        ("fold copies".into(), matrix(rows, dims)),
+        ("synthetic rows".into(), matrix(syn, dims)),
+        ("linear probe".into(), probe),
+    ]);
+    for_read(input, rows, dims).max(assess)
+}
+
+/// MemAvailable from /proc/meminfo, where there is one.
+pub fn available() -> Option<u64> {
+    let text = std::fs::read_to_string("/proc/meminfo").ok()?;
+    let line = text.lines().find(|l| l.starts_with("MemAvailable:"))?;
+    let kib: u64 = line.split_whitespace().nth(1)?.parse().ok()?;
+    Some(kib * 1024)
+}
+
+/// Parses `--max-memory`: bytes, or a number with K, M, G or T (powers of 1024).
+pub fn parse_size(s: &str) -> Result<u64> {
+    let t = s.trim();
+    let (num, mult) = match t.char_indices().find(|(_, c)| c.is_ascii_alphabetic()) {
+        Some((i, _)) => {
+            let unit = t[i..].to_ascii_uppercase();
+            let m = match unit.trim_end_matches("IB").trim_end_matches('B') {
+                "" => 1u64,
+                "K" => 1 << 10,
+                "M" => 1 << 20,
+                "G" => 1 << 30,
+                "T" => 1 << 40,
+                _ => 0,
+            };
+            (&t[..i], m)
+        }
+        None => (t, 1),
+    };
+    let v: f64 = num.trim().parse().unwrap_or(f64::NAN);
+    if mult == 0 || !v.is_finite() || v <= 0.0 {
+        return Err(Error::param(
+            "--max-memory",
+            format!("'{s}' is not a size"),
+            "give a size such as 512M, 8G or 2.5G",
+        ));
+    }
+    Ok((v * mult as f64) as u64)
+}
+
+/// Refuses when the estimate exceeds `--max-memory` or the memory the system has available.
+/// `suggest` says what to change for this command.
+pub fn check(est: &Estimate, max_memory: Option<u64>, what: &str, suggest: &str) -> Result<()> {
+    let avail = available();
+    let (limit, source) = match (max_memory, avail) {
+        (Some(m), Some(a)) if a < m => (a, "the memory available on this machine"),
+        (Some(m), _) => (m, "--max-memory"),
+        (None, Some(a)) => (a, "the memory available on this machine"),
+        (None, None) => return Ok(()),
+    };
+    if est.bytes > limit {
+        return Err(Error::data(
+            format!(
+                "{what} would need about {} of memory, more than {source} ({})",
+                est.describe(),
+                human(limit)
+            ),
+            suggest.to_string(),
+        ));
+    }
+    Ok(())
+}
+
+/// Peak resident memory of this process so far (VmHWM), where the system reports it.
+pub fn peak_resident() -> Option<u64> {
+    let text = std::fs::read_to_string("/proc/self/status").ok()?;
+    let line = text.lines().find(|l| l.starts_with("VmHWM:"))?;
+    let kib: u64 = line.split_whitespace().nth(1)?.parse().ok()?;
+    Some(kib * 1024)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn sizes_and_refusal() {
+        // common practice, no source: K/M/G are powers of 1024 as in `ulimit`/`free -h`.
+        assert_eq!(parse_size("512M").unwrap(), 512 << 20);
+        assert_eq!(
+            parse_size("2.5G").unwrap(),
+            (2.5 * (1u64 << 30) as f64) as u64
+        );
+        assert_eq!(parse_size("1024").unwrap(), 1024);
+        assert_eq!(parse_size("8GiB").unwrap(), 8 << 30);
+        assert!(parse_size("lots").is_err());
+        assert!(parse_size("-1G").is_err());
+        let est = for_grow(Path::new("a.npz"), 1000, 100, 1000, Path::new("b.npz"));
+        // 4 bytes per value: matrix 1000×100 → 400 000 bytes appears among the parts.
+        assert!(est.parts.contains(&("matrix".to_string(), 400_000)));
+        let err = check(&est, Some(1 << 20), "grow", "use --classes").unwrap_err();
+        let msg = err.to_string();
+        assert!(
+            msg.contains("--max-memory") && msg.contains("use --classes"),
+            "{msg}"
+        );
+        assert!(check(&est, Some(1 << 40), "grow", "x").is_ok() || available().is_some());
+    }
+}
