@@ -67,12 +67,7 @@ pub fn load(path: &Path, read: &ReadOptions) -> Result<(Loaded, InputInfo)> {
 
 /// Refuses before the fold loop when one fold's work would not fit in memory.
 fn check_memory(ds: &crate::Dataset, config: &AssessConfig, opts: &AssessOptions) -> Result<()> {
-    let only = config
-        .classes
-        .as_ref()
-        .map(|names| crate::cmd::options::class_indices(names, &ds.classes))
-        .transpose()?;
-    let plan = crate::augment::Plan::new(&ds.class_counts(), config.target, only.as_deref());
+    let plan = super::options::plan_for(ds, config.target, config.classes.as_deref())?;
     let synthetic = if config
         .methods
         .iter()

@@ -5,7 +5,7 @@ use std::path::PathBuf;
 use ndarray::{Axis, concatenate};
 use serde::Serialize;
 
-use super::options::{UnitNorm, class_indices};
+use super::options::{UnitNorm, plan_for};
 use crate::augment::{self, AugmentParams, FitNote, Grown, MethodKind, Plan, Target};
 use crate::data::Dataset;
 use crate::error::{Error, Result};
@@ -133,12 +133,7 @@ pub fn describe_notes(notes: &[FitNote], classes: &[String], method: MethodKind)
 
 /// Grow `ds` with one method; returns the synthetic rows.
 pub fn grow_dataset(ds: &Dataset, opts: &GrowOptions) -> Result<(Plan, Grown)> {
-    let only = opts
-        .classes
-        .as_ref()
-        .map(|names| class_indices(names, &ds.classes))
-        .transpose()?;
-    let plan = Plan::new(&ds.class_counts(), opts.target, only.as_deref());
+    let plan = plan_for(ds, opts.target, opts.classes.as_deref())?;
     let method = augment::build(opts.method, &opts.params)?;
     let unit_norm = opts.unit_norm.resolve(ds.view());
     let grown = augment::grow(
@@ -214,12 +209,7 @@ pub fn assemble(ds: &Dataset, grown: &Grown, method: MethodKind) -> Result<Augme
 
 /// Refuses before growing when the job would not fit in memory.
 fn check_memory(ds: &Dataset, opts: &GrowOptions) -> Result<()> {
-    let only = opts
-        .classes
-        .as_ref()
-        .map(|names| class_indices(names, &ds.classes))
-        .transpose()?;
-    let plan = Plan::new(&ds.class_counts(), opts.target, only.as_deref());
+    let plan = plan_for(ds, opts.target, opts.classes.as_deref())?;
     let est = crate::memory::for_grow(
         &opts.input,
         ds.n_rows(),

@@ -70,3 +70,20 @@ pub fn show_progress(quiet: bool) -> bool {
     use std::io::IsTerminal;
     !quiet && std::io::stderr().is_terminal()
 }
+
+/// The growth plan for a whole dataset: `target` for the classes named in `--classes` (all
+/// classes when none are named).
+pub fn plan_for(
+    ds: &crate::Dataset,
+    target: crate::augment::Target,
+    classes: Option<&[String]>,
+) -> Result<crate::augment::Plan> {
+    let only = classes
+        .map(|names| class_indices(names, &ds.classes))
+        .transpose()?;
+    Ok(crate::augment::Plan::new(
+        &ds.class_counts(),
+        target,
+        only.as_deref(),
+    ))
+}
