@@ -54,44 +54,10 @@ pub fn run(opts: &SweepOptions) -> Result<SweepResults> {
     )?;
     bar.finish_and_clear();
     if let Some(csv) = &opts.csv {
-        let text = points_csv(&results);
+        let text = crate::report::sweep_csv(&results);
         write_atomically(csv, opts.force, |tmp| {
             std::fs::write(tmp, text.as_bytes()).map_err(|e| Error::io(tmp, e))
         })?;
     }
     Ok(results)
-}
-
-/// One line per value, probe and metric; NaN as an empty field (as the report's CSV tables).
-fn points_csv(r: &SweepResults) -> String {
-    let num = |v: f64| {
-        if v.is_finite() {
-            v.to_string()
-        } else {
-            String::new()
-        }
-    };
-    let mut s = String::from(
-        "knob,value,probe,metric,mean,delta_mean,delta_ci_low,delta_ci_high,p_value\n",
-    );
-    for p in &r.points {
-        let value = if p.value.contains([',', '"']) {
-            format!("\"{}\"", p.value.replace('"', "\"\""))
-        } else {
-            p.value.clone()
-        };
-        s += &format!(
-            "{},{},{},{},{},{},{},{},{}\n",
-            r.knob,
-            value,
-            p.probe,
-            p.metric,
-            num(p.mean),
-            num(p.delta_mean),
-            num(p.delta_ci_low),
-            num(p.delta_ci_high),
-            num(p.p_value)
-        );
-    }
-    s
 }

@@ -12,6 +12,7 @@
 
 use std::borrow::Cow;
 
+use crate::assess::SweepResults;
 use crate::assess::results::AssessResults;
 
 /// `summary.csv`: one row per method × probe × metric.
@@ -203,6 +204,43 @@ pub fn folds_csv(r: &AssessResults) -> String {
 }
 
 /// Append one CSV line.
+/// One line per sweep value, probe and metric.
+pub fn sweep_csv(r: &SweepResults) -> String {
+    let mut out = String::new();
+    row(
+        &mut out,
+        [
+            "knob",
+            "value",
+            "probe",
+            "metric",
+            "mean",
+            "delta_mean",
+            "delta_ci_low",
+            "delta_ci_high",
+            "p_value",
+        ]
+        .map(Cow::from),
+    );
+    for p in &r.points {
+        row(
+            &mut out,
+            [
+                text(&r.knob),
+                text(&p.value),
+                text(&p.probe),
+                text(&p.metric),
+                num(p.mean),
+                num(p.delta_mean),
+                num(p.delta_ci_low),
+                num(p.delta_ci_high),
+                num(p.p_value),
+            ],
+        );
+    }
+    out
+}
+
 fn row<'a>(out: &mut String, fields: impl IntoIterator<Item = Cow<'a, str>>) {
     for (i, f) in fields.into_iter().enumerate() {
         if i > 0 {

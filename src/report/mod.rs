@@ -13,7 +13,7 @@ mod svg;
 mod table;
 mod write;
 
-pub use csv::{diagnostics_csv, folds_csv, per_class_csv, summary_csv};
+pub use csv::{diagnostics_csv, folds_csv, per_class_csv, summary_csv, sweep_csv};
 pub use html::html_report;
 pub use table::terminal_table;
 pub use write::write_report_dir;
