@@ -6,10 +6,10 @@ use std::collections::{BTreeSet, HashSet};
 use std::time::Instant;
 
 use indicatif::{ProgressBar, ProgressStyle};
-use ndarray::{Array2, Axis, concatenate};
+use ndarray::Array2;
 
 use super::config::AssessConfig;
-use super::results::{AssessResults, DiagnosticRow, FoldRecord, InputInfo};
+use super::results::{AssessResults, DiagnosticRow, FoldRecord, InputInfo, WorkCounters};
 use super::{scatter, shared_knn, summary};
 use crate::augment::{self, Augmenter, Grown, MethodKind, Plan};
 use crate::cmd::grow::describe_notes;
@@ -79,13 +79,14 @@ pub fn assess_with(
     let mut scatters = Vec::new();
     let mut warnings = BTreeSet::new();
     let mut grown_anywhere = BTreeSet::new();
+    let mut work = WorkCounters::default();
     for (fi, fold) in folds.iter().enumerate() {
         let ctx = FoldContext::new(ds, fold, cfg, only.as_deref());
         grown_anywhere.extend(ctx.grown.iter().copied());
-        let real_knn = cfg
-            .probes
-            .contains(&ProbeKind::Knn)
-            .then(|| neighbors::knn(ctx.test.view(), ctx.train.view(), cfg.knn.k, cfg.knn.metric));
+        let real_knn = cfg.probes.contains(&ProbeKind::Knn).then(|| {
+            work.test_real_knn_passes += 1;
+            neighbors::knn(ctx.test.view(), ctx.train.view(), cfg.knn.k, cfg.knn.metric)
+        });
         let mut baseline_linear: Option<LinearModel> = None;
         for augmenter in augmenters {
             let kind = augmenter.kind();
@@ -103,6 +104,7 @@ pub fn assess_with(
             for &probe in &cfg.probes {
                 let (pred, proba, converged) = match probe {
                     ProbeKind::Knn => {
+                        work.test_synthetic_knn_passes += usize::from(grown.x.nrows() > 0);
                         let synthetic = neighbors::knn(
                             ctx.test.view(),
                             grown.x.view(),
@@ -125,9 +127,10 @@ pub fn assess_with(
                         )
                     }
                     ProbeKind::Linear => {
-                        let x = stack(&ctx.train.x, &grown.x)?;
-                        let model = linear_probe.fit(
-                            x.view(),
+                        work.linear_fits += 1;
+                        work.linear_warm_starts += usize::from(baseline_linear.is_some());
+                        let model = linear_probe.fit_parts(
+                            &[ctx.train.x.view(), grown.x.view()],
                             &labels,
                             ds.n_classes(),
                             baseline_linear.as_ref(),
@@ -144,6 +147,7 @@ pub fn assess_with(
                         let proba = model.predict_proba(ctx.test.view());
                         let pred = model.predict(ctx.test.view());
                         let converged = model.converged;
+                        work.linear_iterations_total += model.iterations;
                         if kind == MethodKind::None {
                             baseline_linear = Some(model);
                         }
@@ -194,6 +198,7 @@ pub fn assess_with(
         scatter: scatters,
         folds: records,
         warnings: warnings.into_iter().collect(),
+        work,
         elapsed_seconds: started.elapsed().as_secs_f64(),
     })
 }
@@ -313,16 +318,6 @@ impl<'a> FoldContext<'a> {
             })
             .collect())
     }
-}
-
-/// Real training rows on top of synthetic rows, for the linear probe.
-fn stack(real: &Array2<f32>, synthetic: &Array2<f32>) -> Result<Array2<f32>> {
-    concatenate(Axis(0), &[real.view(), synthetic.view()]).map_err(|e| {
-        Error::data(
-            format!("cannot stack synthetic rows: {e}"),
-            "report this as a bug",
-        )
-    })
 }
 
 /// Refuse synthetic rows that copy a test row of the fold (and no training row): the mark of
