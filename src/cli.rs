@@ -8,7 +8,7 @@ use clap::{Args, Parser, Subcommand};
 use embloom::augment::{AugmentParams, MethodKind, Target};
 use embloom::cmd::{self, options::UnitNorm};
 use embloom::io::ReadOptions;
-use embloom::neighbors::Metric;
+use embloom::neighbors::{IndexKind, Metric};
 
 /// Feature-space augmentation for embedding matrices: grow rare classes by interpolating,
 /// extrapolating or adding principal-direction noise among same-class rows, and measure
@@ -116,6 +116,10 @@ pub struct MethodArgs {
     /// Renormalise synthetic rows to unit norm: auto (when the input rows are), on, off.
     #[arg(long, default_value = "auto", value_parser = parse_unit_norm)]
     pub unit_norm: UnitNorm,
+    /// Same-class neighbour search: exact, or kdtree (approximate: a k-d tree over the leading
+    /// principal components, for very large classes).
+    #[arg(long, default_value = "exact", value_parser = parse_index)]
+    pub neighbour_index: IndexKind,
     /// Make classes a method cannot grow (e.g. a single row) an error instead of a warning.
     #[arg(long)]
     pub strict: bool,
@@ -132,6 +136,7 @@ impl MethodArgs {
             variance_kept: self.variance_kept,
             metric: self.neighbour_metric,
             strict: self.strict,
+            index: self.neighbour_index,
         }
     }
 }
@@ -178,6 +183,16 @@ pub fn parse_metric(s: &str) -> Result<Metric, String> {
         "cosine" => Ok(Metric::Cosine),
         "euclidean" => Ok(Metric::Euclidean),
         _ => Err(format!("'{s}' is not a metric; use cosine or euclidean")),
+    }
+}
+
+pub fn parse_index(s: &str) -> Result<IndexKind, String> {
+    match s {
+        "exact" => Ok(IndexKind::Exact),
+        "kdtree" => Ok(IndexKind::KdTree),
+        _ => Err(format!(
+            "'{s}' is not a neighbour index; use exact or kdtree"
+        )),
     }
 }
 

@@ -200,6 +200,7 @@ fn results() -> AssessResults {
             "interpolate with the knn probe raised macro-F1 by 0.034 (test data sentence).".into(),
         ],
         warnings: vec!["class \"<b>&\" has only 30 rows (test data warning).".into()],
+        work: Default::default(),
         elapsed_seconds: 1.5,
     }
 }

@@ -93,6 +93,23 @@ pub struct Scatter {
     pub others: Vec<[f32; 2]>,
 }
 
+/// How much shared work an assessment did, counted as it ran (so a benchmark can show that
+/// the sharing happens). Counts only; they do not depend on the thread count.
+#[derive(Debug, Clone, Default, Serialize)]
+pub struct WorkCounters {
+    /// k-NN searches of test rows against a fold's real training rows (one per fold).
+    pub test_real_knn_passes: usize,
+    /// k-NN searches of test rows against one method's synthetic rows (merged with the
+    /// shared real list).
+    pub test_synthetic_knn_passes: usize,
+    /// Linear-probe fits that started from the fold's `none` solution.
+    pub linear_warm_starts: usize,
+    /// Linear-probe fits in all.
+    pub linear_fits: usize,
+    /// L-BFGS iterations summed over all linear-probe fits.
+    pub linear_iterations_total: usize,
+}
+
 /// Everything `assess` found.
 #[derive(Debug, Clone, Serialize)]
 pub struct AssessResults {
@@ -115,6 +132,8 @@ pub struct AssessResults {
     /// One plain sentence per method and probe.
     pub sentences: Vec<String>,
     pub warnings: Vec<String>,
+    /// Shared-work counters.
+    pub work: WorkCounters,
     /// Wall-clock seconds (excluded when outputs are compared for determinism).
     pub elapsed_seconds: f64,
 }

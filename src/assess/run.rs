@@ -2,14 +2,15 @@
 //! are trained on real + synthetic training rows and scored on the real test rows only; all
 //! methods see the same folds, so differences against `none` are paired.
 
-use std::collections::{BTreeSet, HashSet};
+use std::collections::{BTreeSet, HashMap};
+use std::hash::Hasher;
 use std::time::Instant;
 
 use indicatif::{ProgressBar, ProgressStyle};
-use ndarray::{Array2, Axis, concatenate};
+use ndarray::Array2;
 
 use super::config::AssessConfig;
-use super::results::{AssessResults, DiagnosticRow, FoldRecord, InputInfo};
+use super::results::{AssessResults, DiagnosticRow, FoldRecord, InputInfo, WorkCounters};
 use super::{scatter, shared_knn, summary};
 use crate::augment::{self, Augmenter, Grown, MethodKind, Plan};
 use crate::cmd::grow::describe_notes;
@@ -79,13 +80,14 @@ pub fn assess_with(
     let mut scatters = Vec::new();
     let mut warnings = BTreeSet::new();
     let mut grown_anywhere = BTreeSet::new();
+    let mut work = WorkCounters::default();
     for (fi, fold) in folds.iter().enumerate() {
         let ctx = FoldContext::new(ds, fold, cfg, only.as_deref());
         grown_anywhere.extend(ctx.grown.iter().copied());
-        let real_knn = cfg
-            .probes
-            .contains(&ProbeKind::Knn)
-            .then(|| neighbors::knn(ctx.test.view(), ctx.train.view(), cfg.knn.k, cfg.knn.metric));
+        let real_knn = cfg.probes.contains(&ProbeKind::Knn).then(|| {
+            work.test_real_knn_passes += 1;
+            neighbors::knn(ctx.test.view(), ctx.train.view(), cfg.knn.k, cfg.knn.metric)
+        });
         let mut baseline_linear: Option<LinearModel> = None;
         for augmenter in augmenters {
             let kind = augmenter.kind();
@@ -103,6 +105,7 @@ pub fn assess_with(
             for &probe in &cfg.probes {
                 let (pred, proba, converged) = match probe {
                     ProbeKind::Knn => {
+                        work.test_synthetic_knn_passes += usize::from(grown.x.nrows() > 0);
                         let synthetic = neighbors::knn(
                             ctx.test.view(),
                             grown.x.view(),
@@ -125,9 +128,10 @@ pub fn assess_with(
                         )
                     }
                     ProbeKind::Linear => {
-                        let x = stack(&ctx.train.x, &grown.x)?;
-                        let model = linear_probe.fit(
-                            x.view(),
+                        work.linear_fits += 1;
+                        work.linear_warm_starts += usize::from(baseline_linear.is_some());
+                        let model = linear_probe.fit_parts(
+                            &[ctx.train.x.view(), grown.x.view()],
                             &labels,
                             ds.n_classes(),
                             baseline_linear.as_ref(),
@@ -144,6 +148,7 @@ pub fn assess_with(
                         let proba = model.predict_proba(ctx.test.view());
                         let pred = model.predict(ctx.test.view());
                         let converged = model.converged;
+                        work.linear_iterations_total += model.iterations;
                         if kind == MethodKind::None {
                             baseline_linear = Some(model);
                         }
@@ -194,6 +199,7 @@ pub fn assess_with(
         scatter: scatters,
         folds: records,
         warnings: warnings.into_iter().collect(),
+        work,
         elapsed_seconds: started.elapsed().as_secs_f64(),
     })
 }
@@ -315,18 +321,12 @@ impl<'a> FoldContext<'a> {
     }
 }
 
-/// Real training rows on top of synthetic rows, for the linear probe.
-fn stack(real: &Array2<f32>, synthetic: &Array2<f32>) -> Result<Array2<f32>> {
-    concatenate(Axis(0), &[real.view(), synthetic.view()]).map_err(|e| {
-        Error::data(
-            format!("cannot stack synthetic rows: {e}"),
-            "report this as a bug",
-        )
-    })
-}
-
 /// Refuse synthetic rows that copy a test row of the fold (and no training row): the mark of
 /// an augmenter that saw held-out data.
+///
+/// Rows are compared bit for bit. To stay small in memory, rows are indexed by a 64-bit
+/// fingerprint of their bits (not by copies of the rows); a fingerprint hit is confirmed by
+/// comparing the rows themselves.
 fn guard_no_test_rows(
     synthetic: &Array2<f32>,
     train: &Dataset,
@@ -336,12 +336,34 @@ fn guard_no_test_rows(
     if synthetic.nrows() == 0 {
         return Ok(());
     }
-    let bits = |r: ndarray::ArrayView1<f32>| r.iter().map(|v| v.to_bits()).collect::<Vec<u32>>();
-    let test_rows: HashSet<Vec<u32>> = test.x.rows().into_iter().map(bits).collect();
-    let train_rows: HashSet<Vec<u32>> = train.x.rows().into_iter().map(bits).collect();
+    let print = |r: ndarray::ArrayView1<f32>| {
+        let mut h = std::collections::hash_map::DefaultHasher::new();
+        for v in r.iter() {
+            h.write_u32(v.to_bits());
+        }
+        h.finish()
+    };
+    let same = |a: ndarray::ArrayView1<f32>, b: ndarray::ArrayView1<f32>| {
+        a.iter()
+            .zip(b.iter())
+            .all(|(x, y)| x.to_bits() == y.to_bits())
+    };
+    let index = |x: &Array2<f32>| {
+        let mut m: HashMap<u64, Vec<usize>> = HashMap::new();
+        for (i, r) in x.rows().into_iter().enumerate() {
+            m.entry(print(r)).or_default().push(i);
+        }
+        m
+    };
+    let test_rows = index(&test.x);
+    let train_rows = index(&train.x);
+    let holds = |m: &HashMap<u64, Vec<usize>>, x: &Array2<f32>, f: u64, row| {
+        m.get(&f)
+            .is_some_and(|c| c.iter().any(|&i| same(x.row(i), row)))
+    };
     for (i, row) in synthetic.rows().into_iter().enumerate() {
-        let b = bits(row);
-        if test_rows.contains(&b) && !train_rows.contains(&b) {
+        let f = print(row);
+        if holds(&test_rows, &test.x, f, row) && !holds(&train_rows, &train.x, f, row) {
             return Err(Error::data(
                 format!(
                     "{kind} produced synthetic row {i} identical to a held-out test row: the augmenter saw test data"

@@ -1,5 +1,6 @@
 //! The same-class neighbour lists that interpolate and extrapolate share: for every real row of
-//! a class, its K nearest other rows of that class (exact search), and the draw of a
+//! a class, its K nearest other rows of that class (exact search, or the approximate k-d tree
+//! when asked for), and the draw of a
 //! (base row, partner) pair that both methods start from.
 
 use ndarray::{Array2, ArrayView1, Axis};
@@ -9,7 +10,7 @@ use super::FitNote;
 use super::class_fit::ClassFit;
 use crate::data::Dataset;
 use crate::error::Result;
-use crate::neighbors::{Knn, Metric, knn_within};
+use crate::neighbors::{IndexKind, Knn, Metric, knn_within_with};
 use crate::seed::Rng;
 
 /// One class's rows and their neighbour lists.
@@ -39,6 +40,7 @@ impl ClassNeighbours {
         rows: &[usize],
         k: usize,
         metric: Metric,
+        index: IndexKind,
     ) -> Result<ClassFit<Self>> {
         let m = rows.len();
         if m < 2 {
@@ -49,7 +51,7 @@ impl ClassNeighbours {
         let used = k.min(m - 1);
         let note = (used < k).then_some(FitNote::Clamped { class, k: used });
         let x = train.x.select(Axis(0), rows);
-        let knn = knn_within(x.view(), used, metric);
+        let knn = knn_within_with(index, x.view(), used, metric);
         if knn.k == 0 || knn.n_queries() != m {
             return Ok(ClassFit::Skip(
                 "the neighbour search returned no neighbours".into(),

@@ -10,7 +10,7 @@ use super::{
 };
 use crate::data::Dataset;
 use crate::error::Result;
-use crate::neighbors::Metric;
+use crate::neighbors::{IndexKind, Metric};
 use crate::seed::Rng;
 use ndarray::Array2;
 
@@ -20,6 +20,7 @@ pub(super) struct Extrapolate {
     /// λ, validated finite and > 0.
     lambda: f32,
     metric: Metric,
+    index: IndexKind,
     strict: bool,
 }
 
@@ -29,6 +30,7 @@ impl Extrapolate {
             k: params.neighbours,
             lambda,
             metric: params.metric,
+            index: params.index,
             strict: params.strict,
         }
     }
@@ -41,7 +43,7 @@ impl Augmenter for Extrapolate {
 
     fn fit(&self, train: &Dataset, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
         let fit = |c: u32, rows: &[usize]| -> Result<ClassFit<ClassNeighbours>> {
-            ClassNeighbours::fit(train, c, rows, self.k, self.metric)
+            ClassNeighbours::fit(train, c, rows, self.k, self.metric, self.index)
         };
         let per_class = PerClass::fit(self.kind(), train, classes, self.strict, fit)?;
         Ok(Box::new(FittedExtrapolate {

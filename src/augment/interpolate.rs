@@ -13,13 +13,14 @@ use super::{
 };
 use crate::data::Dataset;
 use crate::error::Result;
-use crate::neighbors::Metric;
+use crate::neighbors::{IndexKind, Metric};
 use crate::seed::Rng;
 
 /// Configured interpolation.
 pub(super) struct Interpolate {
     k: usize,
     metric: Metric,
+    index: IndexKind,
     strict: bool,
 }
 
@@ -28,6 +29,7 @@ impl Interpolate {
         Interpolate {
             k: params.neighbours,
             metric: params.metric,
+            index: params.index,
             strict: params.strict,
         }
     }
@@ -40,7 +42,7 @@ impl Augmenter for Interpolate {
 
     fn fit(&self, train: &Dataset, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
         let fit = |c: u32, rows: &[usize]| -> Result<ClassFit<ClassNeighbours>> {
-            ClassNeighbours::fit(train, c, rows, self.k, self.metric)
+            ClassNeighbours::fit(train, c, rows, self.k, self.metric, self.index)
         };
         let per_class = PerClass::fit(self.kind(), train, classes, self.strict, fit)?;
         Ok(Box::new(FittedInterpolate { per_class }))

@@ -23,7 +23,7 @@ use serde::Serialize;
 
 use crate::data::Dataset;
 use crate::error::{Error, Result};
-use crate::neighbors::Metric;
+use crate::neighbors::{IndexKind, Metric};
 use crate::seed::Rng;
 
 /// The methods embloom knows.
@@ -112,6 +112,9 @@ pub struct AugmentParams {
     pub metric: Metric,
     /// Refuse (instead of skipping with a warning) classes a method cannot grow.
     pub strict: bool,
+    /// How same-class neighbours are found: exact (default) or the approximate k-d tree,
+    /// worth it only for very large classes.
+    pub index: IndexKind,
 }
 
 impl Default for AugmentParams {
@@ -122,6 +125,7 @@ impl Default for AugmentParams {
             variance_kept: 0.95,
             metric: Metric::Euclidean,
             strict: false,
+            index: IndexKind::Exact,
         }
     }
 }

@@ -2,6 +2,7 @@
 //! raw element bytes. Parsed by hand so that object arrays are refused (never unpickled) and
 //! every size is checked against the bytes actually present *before* anything is allocated.
 
+use std::io::Read;
 use std::path::Path;
 
 use ndarray::{ArrayD, IxDyn, ShapeBuilder};
@@ -417,10 +418,112 @@ pub fn encode(shape: &[usize], payload: Payload<'_>) -> Vec<u8> {
     out
 }
 
-/// Reads a `.npy` file from disk.
+/// Reads a `.npy` file from disk, float data straight into its final buffer (see
+/// [`decode_stream`]).
 pub fn read_file(path: &Path, key: &str) -> Result<Tensor> {
-    let bytes = std::fs::read(path).map_err(|e| Error::io(path, e))?;
-    decode(&bytes, path, key)
+    let file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
+    let len = file.metadata().map_err(|e| Error::io(path, e))?.len();
+    let mut reader = std::io::BufReader::with_capacity(STREAM_CHUNK, file);
+    decode_stream(&mut reader, len, path, key, &|e| Error::io(path, e))
+}
+
+/// Bytes decoded at a time by [`decode_stream`].
+const STREAM_CHUNK: usize = 1 << 20;
+
+/// Decodes a `.npy` image of `len` bytes read from `r`. Float arrays (the embeddings) are
+/// decoded a chunk at a time into their final buffer, so the raw bytes and the decoded matrix
+/// are never both in memory; other arrays (labels, folds: small) and anything whose header
+/// does not check out are read whole and go through [`decode`], so every error is the same
+/// as for an in-memory image. `io_err` maps read failures (an early end included).
+pub fn decode_stream<R: std::io::Read>(
+    r: &mut R,
+    len: u64,
+    path: &Path,
+    key: &str,
+    io_err: &dyn Fn(std::io::Error) -> Error,
+) -> Result<Tensor> {
+    let len = usize::try_from(len).map_err(|_| bad(path, key, "file is too large"))?;
+    // Fixed prefix (magic, version, header length), then the header text.
+    let mut head = vec![0u8; len.min(12)];
+    r.read_exact(&mut head).map_err(io_err)?;
+    let header_end = if head.len() >= 10 && &head[..6] == MAGIC {
+        match head[6] {
+            1 => Some(10 + u16::from_le_bytes([head[8], head[9]]) as usize),
+            2 | 3 if head.len() >= 12 => {
+                Some(12 + u32::from_le_bytes([head[8], head[9], head[10], head[11]]) as usize)
+            }
+            _ => None,
+        }
+    } else {
+        None
+    };
+    let read_rest = |r: &mut R, mut bytes: Vec<u8>| -> Result<Tensor> {
+        bytes.reserve(len - bytes.len());
+        r.take((len - bytes.len()) as u64)
+            .read_to_end(&mut bytes)
+            .map_err(io_err)?;
+        if bytes.len() < len {
+            return Err(io_err(std::io::ErrorKind::UnexpectedEof.into()));
+        }
+        decode(&bytes, path, key)
+    };
+    let Some(header_end) = header_end.filter(|&e| e <= len) else {
+        return read_rest(r, head);
+    };
+    if header_end > head.len() {
+        let have = head.len();
+        head.resize(header_end, 0);
+        r.read_exact(&mut head[have..]).map_err(io_err)?;
+    } else {
+        // A header shorter than the fixed prefix: give back the extra bytes to the slow path.
+        return read_rest(r, head);
+    }
+    let Ok(h) = parse_header(&head, path, key) else {
+        return read_rest(r, head);
+    };
+    let count = h
+        .shape
+        .iter()
+        .try_fold(1usize, |acc, &d| acc.checked_mul(d));
+    let need = count.and_then(|c| c.checked_mul(h.dtype.size));
+    let streamable = h.dtype.kind == Kind::Float && h.dtype.size > 0 && !h.fortran;
+    let (Some(count), Some(need), true) = (count, need, streamable) else {
+        return read_rest(r, head);
+    };
+    if need != len - h.data_start {
+        return read_rest(r, head);
+    }
+    let dtype = format!("f{}", h.dtype.size * 8);
+    let step = (STREAM_CHUNK / h.dtype.size).max(1) * h.dtype.size;
+    let mut buf = vec![0u8; step.min(need)];
+    let mut data = Vec::with_capacity(count);
+    let mut wide: Vec<f64> = Vec::new();
+    let mut done = 0;
+    while done < need {
+        let m = step.min(need - done);
+        r.read_exact(&mut buf[..m]).map_err(io_err)?;
+        match decode_values(&buf[..m], m / h.dtype.size, h.dtype, path, key)? {
+            Values::F32(v) => data.extend_from_slice(&v),
+            Values::F64(v) => {
+                if wide.capacity() == 0 {
+                    wide.reserve_exact(count);
+                }
+                wide.extend_from_slice(&v);
+            }
+            Values::Int(_) | Values::Text(_) => unreachable!("float dtype decodes to floats"),
+        }
+        done += m;
+    }
+    let values = if h.dtype.size == 8 {
+        Values::F64(wide)
+    } else {
+        Values::F32(data)
+    };
+    Ok(Tensor {
+        shape: h.shape,
+        values,
+        dtype,
+    })
 }
 
 #[cfg(test)]
@@ -453,5 +556,30 @@ mod tests {
         // NEP 1: the data offset is a multiple of 64 (from memory of the numpy format docs).
         let img = encode(&[1], Payload::I64(&[7]));
         assert_eq!((img.len() - 8) % 64, 0);
+    }
+
+    #[test]
+    fn streamed_decode_equals_in_memory_decode() {
+        // Common practice, no source: reading a chunk at a time must give the in-memory result
+        // (here across several 1 MiB chunks), and a truncated stream must fail, not pad.
+        let p = Path::new("mem.npy");
+        let n = 700_000;
+        let v: Vec<f32> = (0..n).map(|i| i as f32 * 0.5 - 7.0).collect();
+        let img = encode(&[n / 7, 7], Payload::F32(&v));
+        let io = |e: std::io::Error| Error::io(p, e);
+        let t = decode_stream(&mut &img[..], img.len() as u64, p, "a", &io).unwrap();
+        assert_eq!(t.shape, vec![n / 7, 7]);
+        assert_eq!(t.dtype, "f32");
+        match t.values {
+            Values::F32(got) => assert_eq!(got, v),
+            other => panic!("{other:?}"),
+        }
+        let short = &img[..img.len() - 3];
+        assert!(decode_stream(&mut &short[..], img.len() as u64, p, "a", &io).is_err());
+        assert!(decode_stream(&mut &short[..], short.len() as u64, p, "a", &io).is_err());
+        // Non-float arrays take the whole-image path.
+        let labels = encode(&[3], Payload::I64(&[4, 5, 6]));
+        let t = decode_stream(&mut &labels[..], labels.len() as u64, p, "a", &io).unwrap();
+        assert!(matches!(t.values, Values::Int(ref x) if x == &[4, 5, 6]));
     }
 }

@@ -51,28 +51,36 @@ impl Archive<'_> {
         let path = self.path;
         let mut entry = self.zip.by_name(&name).map_err(|e| zip_error(path, e))?;
         let declared = entry.size();
-        let mut bytes = Vec::new();
+        let disagree = || {
+            Error::input_at(
+                path,
+                format!("key '{key}'"),
+                "member size disagrees with the archive directory",
+                "rewrite the archive",
+            )
+        };
         // Never read past the declared size: a lying archive cannot make us allocate more.
-        (&mut entry)
-            .take(declared.saturating_add(1))
-            .read_to_end(&mut bytes)
-            .map_err(|e| {
+        let mut limited = (&mut entry).take(declared.saturating_add(1));
+        let io_err = |e: std::io::Error| {
+            if e.kind() == std::io::ErrorKind::UnexpectedEof {
+                disagree()
+            } else {
                 Error::input_at(
                     path,
                     format!("key '{key}'"),
                     format!("cannot decompress member: {e}"),
                     "rewrite the archive",
                 )
-            })?;
-        if bytes.len() as u64 != declared {
-            return Err(Error::input_at(
-                path,
-                format!("key '{key}'"),
-                "member size disagrees with the archive directory",
-                "rewrite the archive",
-            ));
+            }
+        };
+        let tensor = npy::decode_stream(&mut limited, declared, path, key, &io_err);
+        // A member that holds more than it declares (or fewer bytes, caught as an early end).
+        let mut extra = [0u8; 1];
+        match limited.read(&mut extra) {
+            Ok(0) => tensor,
+            Ok(_) => Err(disagree()),
+            Err(e) => Err(io_err(e)),
         }
-        npy::decode(&bytes, path, key)
     }
 
     fn optional(&mut self, key: &str) -> Result<Option<Tensor>> {

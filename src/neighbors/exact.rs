@@ -8,9 +8,14 @@
 //!
 //! Work is split into fixed blocks of query rows processed in parallel with rayon; every
 //! query's result depends only on its own row, so output does not depend on the thread count.
+//!
+//! Memory: the rows the matrix product sees (centred for euclidean, unit length for cosine)
+//! are made a block at a time into per-thread buffers, never as a full copy of the base; the
+//! extra work is one pass over the base rows per block of queries, about 1/(2·256) of the
+//! product's.
 
 use ndarray::linalg::general_mat_mul;
-use ndarray::{Array2, ArrayView2, ArrayViewMut2, CowArray, Ix2, s};
+use ndarray::{ArrayView2, ArrayViewMut2, CowArray, Ix2};
 use rayon::prelude::*;
 
 use super::topk::TopK;
@@ -35,10 +40,12 @@ pub(crate) struct Prepared<'a> {
     metric: Metric,
     /// The rows as given, in standard (row-major contiguous) layout.
     orig: CowArray<'a, f32, Ix2>,
-    /// The rows the matrix product sees. Euclidean: shifted by a common centre (distances
+    /// How the matrix product sees a row. Euclidean: shifted by a common centre (distances
     /// are translation invariant, and centring shrinks the norms whose cancellation costs
     /// f32 accuracy). Cosine: scaled to unit length (zero rows stay zero).
-    product: Array2<f32>,
+    shift: Vec<f64>,
+    /// Cosine: 1 / ‖original row‖ (0 for a zero row). Euclidean: empty.
+    inv_norms: Vec<f64>,
     /// ‖original row‖ in f64 (cosine re-score).
     norms: Vec<f64>,
     /// ‖product row‖ in f64 (error bound, score conversion).
@@ -75,27 +82,38 @@ impl<'a> Prepared<'a> {
             .outer_iter()
             .map(|r| distance::norm(r.as_slice().unwrap_or(&[])))
             .collect();
-        let mut product = Array2::<f32>::zeros(orig.dim());
-        for ((mut dst, src), &n) in product.outer_iter_mut().zip(orig.outer_iter()).zip(&norms) {
-            match metric {
-                Metric::Euclidean => {
-                    for ((d, &v), &c) in dst.iter_mut().zip(src.iter()).zip(shift) {
-                        *d = (f64::from(v) - c) as f32;
-                    }
-                }
-                Metric::Cosine => {
-                    if n > 0.0 {
-                        dst.zip_mut_with(&src, |d, &v| *d = (f64::from(v) / n) as f32);
-                    }
-                }
-            }
-        }
-        let product_norms: Vec<f64> = match metric {
-            Metric::Euclidean => product
-                .outer_iter()
-                .map(|r| distance::norm(r.as_slice().unwrap_or(&[])))
-                .collect(),
+        let inv_norms: Vec<f64> = match metric {
+            Metric::Euclidean => Vec::new(),
             Metric::Cosine => norms
+                .iter()
+                .map(|&n| if n > 0.0 { 1.0 / n } else { 0.0 })
+                .collect(),
+        };
+        let mut p = Prepared {
+            metric,
+            orig,
+            shift: match metric {
+                Metric::Euclidean => shift.to_vec(),
+                Metric::Cosine => Vec::new(),
+            },
+            inv_norms,
+            norms,
+            product_norms: Vec::new(),
+            sq_norms_f32: Vec::new(),
+            max_norm: 0.0,
+        };
+        let product_norms: Vec<f64> = match metric {
+            Metric::Euclidean => {
+                let mut tmp = vec![0f32; p.ncols()];
+                (0..p.nrows())
+                    .map(|i| {
+                        p.product_row(i, &mut tmp);
+                        distance::norm(&tmp)
+                    })
+                    .collect()
+            }
+            Metric::Cosine => p
+                .norms
                 .iter()
                 .map(|&n| if n > 0.0 { 1.0 } else { 0.0 })
                 .collect(),
@@ -109,15 +127,10 @@ impl<'a> Prepared<'a> {
             Metric::Euclidean => product_norms.iter().map(|&n| (n * n) as f32).collect(),
             Metric::Cosine => Vec::new(),
         };
-        Prepared {
-            metric,
-            orig,
-            product,
-            norms,
-            product_norms,
-            sq_norms_f32,
-            max_norm,
-        }
+        p.product_norms = product_norms;
+        p.max_norm = max_norm;
+        p.sq_norms_f32 = sq_norms_f32;
+        p
     }
 
     pub(crate) fn nrows(&self) -> usize {
@@ -132,9 +145,32 @@ impl<'a> Prepared<'a> {
         self.metric
     }
 
-    /// Rows used by the matrix product.
-    fn product_rows(&self) -> ArrayView2<'_, f32> {
-        self.product.view()
+    /// Writes product row `i` (centred or unit length, rounded to f32) into `out`.
+    #[inline]
+    fn product_row(&self, i: usize, out: &mut [f32]) {
+        let src = self.row(i);
+        match self.metric {
+            Metric::Euclidean => {
+                for ((o, &v), &c) in out.iter_mut().zip(src).zip(&self.shift) {
+                    *o = (f64::from(v) - c) as f32;
+                }
+            }
+            Metric::Cosine => {
+                let inv = self.inv_norms[i];
+                for (o, &v) in out.iter_mut().zip(src) {
+                    *o = (f64::from(v) * inv) as f32;
+                }
+            }
+        }
+    }
+
+    /// Product rows `r0..r1`, row-major, into `out` (resized to fit).
+    fn product_rows(&self, r0: usize, r1: usize, out: &mut Vec<f32>) {
+        let d = self.ncols();
+        out.resize((r1 - r0) * d, 0.0);
+        for (i, chunk) in (r0..r1).zip(out.chunks_exact_mut(d.max(1))) {
+            self.product_row(i, chunk);
+        }
     }
 
     /// Original row `i` as a slice.
@@ -252,18 +288,22 @@ fn fast_pass(
 ) -> Vec<TopK> {
     let qn = q1 - q0;
     let nb = base.nrows();
-    let qrows = queries.product_rows();
-    let qrows = qrows.slice(s![q0..q1, ..]);
-    let brows = base.product_rows();
+    let d = queries.ncols();
+    let mut qbuf = Vec::new();
+    queries.product_rows(q0, q1, &mut qbuf);
+    let qrows = ArrayView2::from_shape((qn, d), &qbuf[..]).expect("sized for the query block");
+    let mut bbuf = Vec::new();
     let mut tops: Vec<TopK> = (0..qn).map(|_| TopK::new(cap)).collect();
     let mut buf = vec![0f32; qn * BASE_BLOCK.min(nb)];
     let mut b0 = 0;
     while b0 < nb {
         let b1 = (b0 + BASE_BLOCK).min(nb);
         let bn = b1 - b0;
+        base.product_rows(b0, b1, &mut bbuf);
+        let brows = ArrayView2::from_shape((bn, d), &bbuf[..]).expect("sized for the base block");
         let mut g = ArrayViewMut2::from_shape((qn, bn), &mut buf[..qn * bn])
             .expect("buffer is sized for the largest block");
-        general_mat_mul(1.0, &qrows, &brows.slice(s![b0..b1, ..]).t(), 0.0, &mut g);
+        general_mat_mul(1.0, &qrows, &brows.t(), 0.0, &mut g);
         for (i, top) in tops.iter_mut().enumerate() {
             let row = &mut buf[i * bn..(i + 1) * bn];
             let qi = q0 + i;
@@ -344,14 +384,17 @@ fn finish_query(
         f64::INFINITY
     };
     scratch.clear();
-    let q = queries.product_rows();
-    let q = q.row(qi);
-    let b = base.product_rows();
-    for (bi, brow) in b.outer_iter().enumerate() {
+    let d = queries.ncols();
+    let mut q = vec![0f32; d];
+    queries.product_row(qi, &mut q);
+    let q = ndarray::ArrayView1::from(&q[..]);
+    let mut brow = vec![0f32; d];
+    for bi in 0..base.nrows() {
         if exclude_self && bi == qi {
             continue;
         }
-        let g = f64::from(brow.dot(&q));
+        base.product_row(bi, &mut brow);
+        let g = f64::from(ndarray::ArrayView1::from(&brow[..]).dot(&q));
         let s = match queries.metric {
             Metric::Euclidean => f64::from(base.sq_norms_f32[bi]) - 2.0 * g,
             Metric::Cosine => -g,

@@ -143,12 +143,48 @@ impl LinearProbe {
         n_classes: usize,
         init: Option<&LinearModel>,
     ) -> Result<LinearModel> {
-        check_inputs(x, y, n_classes)?;
-        let (c, d) = (n_classes, x.ncols());
-        let (mean, scale) = scaling::fit(x, self.params.standardize);
-        let xs = scaling::apply(x, mean.view(), scale.view());
+        self.fit_parts(&[x], y, n_classes, init)
+    }
+
+    /// [`LinearProbe::fit`] on the rows of `parts` taken in order (e.g. real training rows,
+    /// then synthetic rows), with `y` labelling them in that order. Gives the same model as
+    /// fitting the stacked rows, without making the stacked copy.
+    pub fn fit_parts(
+        &self,
+        parts: &[ArrayView2<f32>],
+        y: &[u32],
+        n_classes: usize,
+        init: Option<&LinearModel>,
+    ) -> Result<LinearModel> {
+        let Some(first) = parts.first() else {
+            return Err(Error::data(
+                "the linear probe got no training rows",
+                "check that every fold keeps training rows (use fewer folds or more data)",
+            ));
+        };
+        let d = first.ncols();
+        if let Some(p) = parts.iter().find(|p| p.ncols() != d) {
+            return Err(Error::data(
+                format!(
+                    "the linear probe got row blocks of {d} and {} columns",
+                    p.ncols()
+                ),
+                "pass row blocks of one embedding width",
+            ));
+        }
+        check_inputs(parts, y, n_classes)?;
+        let c = n_classes;
+        let (mean, scale) = scaling::fit_parts(parts, self.params.standardize);
         let weights = class_weights(y, n_classes, self.params.class_weight);
-        let loss = SoftmaxLoss::new(xs.view(), y, &weights, n_classes, self.params.l2);
+        let loss = SoftmaxLoss::new(
+            parts,
+            mean.view(),
+            scale.view(),
+            y,
+            &weights,
+            n_classes,
+            self.params.l2,
+        );
         let theta0 = match init {
             Some(m) => warm_start(m, &mean, &scale, c, d)?,
             None => vec![0.0; loss.n_params()],
@@ -159,6 +195,7 @@ impl LinearProbe {
             max_iter: self.params.max_iter,
         };
         let out = lbfgs::minimize(|t, g| loss.value_and_gradient(t, g), theta0, &opts);
+        drop(loss);
         let (w, b) = out.x.split_at(c * d);
         Ok(LinearModel {
             weights: Array2::from_shape_vec((c, d), w.to_vec()).expect("C × d parameters"),
@@ -173,18 +210,15 @@ impl LinearProbe {
 }
 
 /// Rejects inputs the loss cannot be evaluated on.
-fn check_inputs(x: ArrayView2<f32>, y: &[u32], n_classes: usize) -> Result<()> {
-    if x.nrows() != y.len() {
+fn check_inputs(parts: &[ArrayView2<f32>], y: &[u32], n_classes: usize) -> Result<()> {
+    let rows: usize = parts.iter().map(|p| p.nrows()).sum();
+    if rows != y.len() {
         return Err(Error::data(
-            format!(
-                "the linear probe got {} rows but {} labels",
-                x.nrows(),
-                y.len()
-            ),
+            format!("the linear probe got {} rows but {} labels", rows, y.len()),
             "pass one class index per training row",
         ));
     }
-    if x.nrows() == 0 {
+    if rows == 0 {
         return Err(Error::data(
             "the linear probe got no training rows",
             "check that every fold keeps training rows (use fewer folds or more data)",
@@ -196,9 +230,9 @@ fn check_inputs(x: ArrayView2<f32>, y: &[u32], n_classes: usize) -> Result<()> {
             "pass class indices from the dataset's label encoding",
         ));
     }
-    if let Some((i, _)) = x
-        .rows()
-        .into_iter()
+    if let Some((i, _)) = parts
+        .iter()
+        .flat_map(|p| p.rows())
         .enumerate()
         .find(|(_, r)| r.iter().any(|v| !v.is_finite()))
     {

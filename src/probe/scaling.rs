@@ -7,21 +7,32 @@ use ndarray::{Array1, Array2, ArrayView1, ArrayView2, Axis};
 /// constant up to rounding (std ≤ 1e-12 · (|mean| + 1)) get scale 1, so they stay constant
 /// instead of being blown up by rounding noise. With `standardize = false` the transform is
 /// the identity (mean 0, scale 1).
+#[cfg(test)]
 pub(crate) fn fit(x: ArrayView2<f32>, standardize: bool) -> (Array1<f64>, Array1<f64>) {
-    let d = x.ncols();
-    if !standardize || x.nrows() == 0 {
+    fit_parts(&[x], standardize)
+}
+
+/// [`fit`] over row blocks taken in order, as if stacked (same sums, same order), without
+/// building the stacked copy.
+pub(crate) fn fit_parts(
+    parts: &[ArrayView2<f32>],
+    standardize: bool,
+) -> (Array1<f64>, Array1<f64>) {
+    let d = parts.first().map_or(0, |p| p.ncols());
+    let rows: usize = parts.iter().map(|p| p.nrows()).sum();
+    if !standardize || rows == 0 {
         return (Array1::zeros(d), Array1::ones(d));
     }
-    let n = x.nrows() as f64;
+    let n = rows as f64;
     let mut mean = Array1::<f64>::zeros(d);
-    for row in x.rows() {
+    for row in parts.iter().flat_map(|p| p.rows()) {
         mean.iter_mut()
             .zip(row)
             .for_each(|(m, &v)| *m += f64::from(v));
     }
     mean.mapv_inplace(|m| m / n);
     let mut var = Array1::<f64>::zeros(d);
-    for row in x.rows() {
+    for row in parts.iter().flat_map(|p| p.rows()) {
         var.iter_mut()
             .zip(row.iter().zip(&mean))
             .for_each(|(s, (&v, m))| *s += (f64::from(v) - m).powi(2));
