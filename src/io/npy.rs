@@ -424,7 +424,8 @@ pub fn read_file(path: &Path, key: &str) -> Result<Tensor> {
     let file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
     let len = file.metadata().map_err(|e| Error::io(path, e))?.len();
     let mut reader = std::io::BufReader::with_capacity(STREAM_CHUNK, file);
-    decode_stream(&mut reader, len, path, key, &|e| Error::io(path, e))
+    // The file's own length bounds what it can hold.
+    decode_stream(&mut reader, len, len, path, key, &|e| Error::io(path, e))
 }
 
 /// Bytes decoded at a time by [`decode_stream`].
@@ -438,11 +439,15 @@ const STREAM_CHUNK: usize = 1 << 20;
 pub fn decode_stream<R: std::io::Read>(
     r: &mut R,
     len: u64,
+    prealloc: u64,
     path: &Path,
     key: &str,
     io_err: &dyn Fn(std::io::Error) -> Error,
 ) -> Result<Tensor> {
     let len = usize::try_from(len).map_err(|_| bad(path, key, "file is too large"))?;
+    // Never reserve more than the caller can vouch for: a compressed member's declared size
+    // may lie, so buffers beyond `prealloc` grow only as real bytes arrive.
+    let prealloc = usize::try_from(prealloc).unwrap_or(usize::MAX);
     // Fixed prefix (magic, version, header length), then the header text.
     let mut head = vec![0u8; len.min(12)];
     r.read_exact(&mut head).map_err(io_err)?;
@@ -458,7 +463,7 @@ pub fn decode_stream<R: std::io::Read>(
         None
     };
     let read_rest = |r: &mut R, mut bytes: Vec<u8>| -> Result<Tensor> {
-        bytes.reserve(len - bytes.len());
+        bytes.reserve((len - bytes.len()).min(prealloc));
         r.take((len - bytes.len()) as u64)
             .read_to_end(&mut bytes)
             .map_err(io_err)?;
@@ -496,7 +501,7 @@ pub fn decode_stream<R: std::io::Read>(
     let dtype = format!("f{}", h.dtype.size * 8);
     let step = (STREAM_CHUNK / h.dtype.size).max(1) * h.dtype.size;
     let mut buf = vec![0u8; step.min(need)];
-    let mut data = Vec::with_capacity(count);
+    let mut data = Vec::with_capacity(count.min(prealloc / h.dtype.size));
     let mut wide: Vec<f64> = Vec::new();
     let mut done = 0;
     while done < need {
@@ -506,7 +511,7 @@ pub fn decode_stream<R: std::io::Read>(
             Values::F32(v) => data.extend_from_slice(&v),
             Values::F64(v) => {
                 if wide.capacity() == 0 {
-                    wide.reserve_exact(count);
+                    wide.reserve_exact(count.min(prealloc / 8));
                 }
                 wide.extend_from_slice(&v);
             }
@@ -567,7 +572,15 @@ mod tests {
         let v: Vec<f32> = (0..n).map(|i| i as f32 * 0.5 - 7.0).collect();
         let img = encode(&[n / 7, 7], Payload::F32(&v));
         let io = |e: std::io::Error| Error::io(p, e);
-        let t = decode_stream(&mut &img[..], img.len() as u64, p, "a", &io).unwrap();
+        let t = decode_stream(
+            &mut &img[..],
+            img.len() as u64,
+            img.len() as u64,
+            p,
+            "a",
+            &io,
+        )
+        .unwrap();
         assert_eq!(t.shape, vec![n / 7, 7]);
         assert_eq!(t.dtype, "f32");
         match t.values {
@@ -575,11 +588,39 @@ mod tests {
             other => panic!("{other:?}"),
         }
         let short = &img[..img.len() - 3];
-        assert!(decode_stream(&mut &short[..], img.len() as u64, p, "a", &io).is_err());
-        assert!(decode_stream(&mut &short[..], short.len() as u64, p, "a", &io).is_err());
+        assert!(
+            decode_stream(
+                &mut &short[..],
+                img.len() as u64,
+                img.len() as u64,
+                p,
+                "a",
+                &io
+            )
+            .is_err()
+        );
+        assert!(
+            decode_stream(
+                &mut &short[..],
+                short.len() as u64,
+                short.len() as u64,
+                p,
+                "a",
+                &io
+            )
+            .is_err()
+        );
         // Non-float arrays take the whole-image path.
         let labels = encode(&[3], Payload::I64(&[4, 5, 6]));
-        let t = decode_stream(&mut &labels[..], labels.len() as u64, p, "a", &io).unwrap();
+        let t = decode_stream(
+            &mut &labels[..],
+            labels.len() as u64,
+            labels.len() as u64,
+            p,
+            "a",
+            &io,
+        )
+        .unwrap();
         assert!(matches!(t.values, Values::Int(ref x) if x == &[4, 5, 6]));
     }
 }

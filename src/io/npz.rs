@@ -51,6 +51,10 @@ impl Archive<'_> {
         let path = self.path;
         let mut entry = self.zip.by_name(&name).map_err(|e| zip_error(path, e))?;
         let declared = entry.size();
+        // What the archive can vouch for: a stored member's bytes are all in the file; a
+        // deflated one's declared size may lie, so only its compressed size is reserved up front.
+        let archive_len = std::fs::metadata(path).map_or(0, |m| m.len());
+        let prealloc = declared.min(entry.compressed_size()).min(archive_len);
         let disagree = || {
             Error::input_at(
                 path,
@@ -73,7 +77,7 @@ impl Archive<'_> {
                 )
             }
         };
-        let tensor = npy::decode_stream(&mut limited, declared, path, key, &io_err);
+        let tensor = npy::decode_stream(&mut limited, declared, prealloc, path, key, &io_err);
         // A member that holds more than it declares (or fewer bytes, caught as an early end).
         let mut extra = [0u8; 1];
         match limited.read(&mut extra) {
