@@ -13,7 +13,7 @@ use ndarray::{ArrayView1, ArrayView2};
 use super::ReadOptions;
 use super::assemble::Parts;
 use super::export::{Column, Export};
-use super::tensor::{Tensor, Values};
+use super::tensor::{Keyed, Tensor, Values, keyed_parts};
 use crate::error::{Error, Result};
 
 fn h5_error(path: &Path, key: &str, e: ::hdf5::Error) -> Error {
@@ -209,36 +209,26 @@ pub fn read(path: &Path, opts: &ReadOptions) -> Result<Parts> {
             "check the file with h5dump",
         )
     })?;
-    let optional = |key: &str| -> Result<Option<Tensor>> {
-        if file.dataset(key).is_ok() {
-            tensor(&file, path, key).map(Some)
+    keyed_parts(&mut Opened { file: &file, path }, path, opts)
+}
+
+/// An open HDF5 file and its path, for [`keyed_parts`].
+struct Opened<'a> {
+    file: &'a File,
+    path: &'a Path,
+}
+
+impl Keyed for Opened<'_> {
+    fn get(&mut self, key: &str) -> Result<Tensor> {
+        tensor(self.file, self.path, key)
+    }
+    fn get_optional(&mut self, key: &str) -> Result<Option<Tensor>> {
+        if self.file.dataset(key).is_ok() {
+            tensor(self.file, self.path, key).map(Some)
         } else {
             Ok(None)
         }
-    };
-    let (x, stored_dtype) =
-        tensor(&file, path, &opts.embeddings_key)?.into_matrix(path, &opts.embeddings_key)?;
-    let labels = tensor(&file, path, &opts.labels_key)?.into_labels(path, &opts.labels_key)?;
-    let ids = optional("ids")?
-        .map(|t| t.into_strings(path, "ids"))
-        .transpose()?;
-    let groups = optional("groups")?
-        .map(|t| t.into_strings(path, "groups"))
-        .transpose()?;
-    let folds = optional(&opts.fold_key)?
-        .map(|t| t.into_ints(path, &opts.fold_key))
-        .transpose()?;
-    Ok(Parts {
-        x,
-        stored_dtype,
-        x_source: format!("key '{}'", opts.embeddings_key),
-        labels,
-        labels_source: format!("key '{}'", opts.labels_key),
-        ids: ids.map(|v| ("key 'ids'".into(), v)),
-        groups: groups.map(|v| ("key 'groups'".into(), v)),
-        folds: folds.map(|v| (format!("key '{}'", opts.fold_key), v)),
-        row_lines: None,
-    })
+    }
 }
 
 /// Writes the export: `embeddings` (f32), integer columns (i64), `weight` (f32) and text

@@ -13,7 +13,7 @@ use super::ReadOptions;
 use super::assemble::Parts;
 use super::export::{Column, Export};
 use super::npy::{self, Payload};
-use super::tensor::Tensor;
+use super::tensor::{Keyed, Tensor, keyed_parts};
 use crate::error::{Error, Result};
 
 fn zip_error(path: &Path, e: zip::result::ZipError) -> Error {
@@ -108,35 +108,7 @@ pub fn read(path: &Path, opts: &ReadOptions) -> Result<Parts> {
     let mut keys = keys;
     keys.sort();
     let mut ar = Archive { path, zip, keys };
-    let (x, stored_dtype) = ar
-        .member(&opts.embeddings_key)?
-        .into_matrix(path, &opts.embeddings_key)?;
-    let labels = ar
-        .member(&opts.labels_key)?
-        .into_labels(path, &opts.labels_key)?;
-    let ids = ar
-        .optional("ids")?
-        .map(|t| t.into_strings(path, "ids"))
-        .transpose()?;
-    let groups = ar
-        .optional("groups")?
-        .map(|t| t.into_strings(path, "groups"))
-        .transpose()?;
-    let folds = ar
-        .optional(&opts.fold_key)?
-        .map(|t| t.into_ints(path, &opts.fold_key))
-        .transpose()?;
-    Ok(Parts {
-        x,
-        stored_dtype,
-        x_source: format!("key '{}'", opts.embeddings_key),
-        labels,
-        labels_source: format!("key '{}'", opts.labels_key),
-        ids: ids.map(|v| ("key 'ids'".into(), v)),
-        groups: groups.map(|v| ("key 'groups'".into(), v)),
-        folds: folds.map(|v| (format!("key '{}'", opts.fold_key), v)),
-        row_lines: None,
-    })
+    keyed_parts(&mut ar, path, opts)
 }
 
 /// Writes an uncompressed archive `np.load` reads: one `.npy` member per column.
@@ -166,4 +138,13 @@ pub fn write(out: File, export: &Export<'_>) -> std::io::Result<()> {
         zip.write_all(&img)?;
     }
     zip.finish().map_err(std::io::Error::other)?.flush()
+}
+
+impl Keyed for Archive<'_> {
+    fn get(&mut self, key: &str) -> Result<Tensor> {
+        self.member(key)
+    }
+    fn get_optional(&mut self, key: &str) -> Result<Option<Tensor>> {
+        self.optional(key)
+    }
 }

@@ -16,7 +16,7 @@ use serde_json::{Map, Value, json};
 use super::ReadOptions;
 use super::assemble::Parts;
 use super::export::{Column, Export};
-use super::tensor::{Tensor, Values};
+use super::tensor::{Keyed, Tensor, Values, keyed_parts};
 use crate::error::{Error, Result};
 
 /// Headers larger than this are refused (the reference implementation uses the same 100 MB cap).
@@ -229,40 +229,12 @@ pub fn read(path: &Path, opts: &ReadOptions) -> Result<Parts> {
     let end = 8 + n as usize;
     let header: Map<String, Value> = serde_json::from_slice(&bytes[8..end])
         .map_err(|e| Error::input(path, format!("header is not a JSON object: {e}"), fix))?;
-    let f = File {
+    let mut f = File {
         path,
         header,
         data: &bytes[end..],
     };
-    let (x, stored_dtype) = f
-        .tensor(&opts.embeddings_key)?
-        .into_matrix(path, &opts.embeddings_key)?;
-    let labels = f
-        .tensor(&opts.labels_key)?
-        .into_labels(path, &opts.labels_key)?;
-    let ids = f
-        .optional("ids")?
-        .map(|t| t.into_strings(path, "ids"))
-        .transpose()?;
-    let groups = f
-        .optional("groups")?
-        .map(|t| t.into_strings(path, "groups"))
-        .transpose()?;
-    let folds = f
-        .optional(&opts.fold_key)?
-        .map(|t| t.into_ints(path, &opts.fold_key))
-        .transpose()?;
-    Ok(Parts {
-        x,
-        stored_dtype,
-        x_source: format!("key '{}'", opts.embeddings_key),
-        labels,
-        labels_source: format!("key '{}'", opts.labels_key),
-        ids: ids.map(|v| ("key 'ids'".into(), v)),
-        groups: groups.map(|v| ("key 'groups'".into(), v)),
-        folds: folds.map(|v| (format!("key '{}'", opts.fold_key), v)),
-        row_lines: None,
-    })
+    keyed_parts(&mut f, path, opts)
 }
 
 /// Text → (codes in first-seen order, names).
@@ -330,4 +302,13 @@ pub fn write(out: &mut dyn Write, export: &Export<'_>) -> std::io::Result<()> {
         out.write_all(body)?;
     }
     out.flush()
+}
+
+impl Keyed for File<'_> {
+    fn get(&mut self, key: &str) -> Result<Tensor> {
+        self.tensor(key)
+    }
+    fn get_optional(&mut self, key: &str) -> Result<Option<Tensor>> {
+        self.optional(key)
+    }
 }

@@ -150,3 +150,50 @@ impl Tensor {
             .collect()
     }
 }
+
+/// A container whose arrays are found by key (npz members, safetensors tensors, HDF5
+/// datasets). The keyed formats differ only in how an array is found and decoded.
+pub trait Keyed {
+    /// The array at `key`, or an error listing the keys that are there.
+    fn get(&mut self, key: &str) -> Result<Tensor>;
+    /// The array at `key` if present.
+    fn get_optional(&mut self, key: &str) -> Result<Option<Tensor>>;
+}
+
+/// The dataset parts of a keyed container: embeddings and labels by the chosen keys, and the
+/// optional `ids`, `groups` and fold arrays.
+pub fn keyed_parts(
+    src: &mut impl Keyed,
+    path: &Path,
+    opts: &super::ReadOptions,
+) -> Result<super::assemble::Parts> {
+    let (x, stored_dtype) = src
+        .get(&opts.embeddings_key)?
+        .into_matrix(path, &opts.embeddings_key)?;
+    let labels = src
+        .get(&opts.labels_key)?
+        .into_labels(path, &opts.labels_key)?;
+    let ids = src
+        .get_optional("ids")?
+        .map(|t| t.into_strings(path, "ids"))
+        .transpose()?;
+    let groups = src
+        .get_optional("groups")?
+        .map(|t| t.into_strings(path, "groups"))
+        .transpose()?;
+    let folds = src
+        .get_optional(&opts.fold_key)?
+        .map(|t| t.into_ints(path, &opts.fold_key))
+        .transpose()?;
+    Ok(super::assemble::Parts {
+        x,
+        stored_dtype,
+        x_source: format!("key '{}'", opts.embeddings_key),
+        labels,
+        labels_source: format!("key '{}'", opts.labels_key),
+        ids: ids.map(|v| ("key 'ids'".into(), v)),
+        groups: groups.map(|v| ("key 'groups'".into(), v)),
+        folds: folds.map(|v| (format!("key '{}'", opts.fold_key), v)),
+        row_lines: None,
+    })
+}
