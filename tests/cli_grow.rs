@@ -289,3 +289,36 @@ fn unit_norm_input_gives_unit_norm_synthetic_rows() {
         assert!(((a * a + b * b).sqrt() - 1.0).abs() < 1e-5);
     }
 }
+
+#[test]
+fn kdtree_neighbour_index_gives_same_class_partners() {
+    let dir = tempdir();
+    let input = p(dir.path(), "in.csv");
+    write_csv(&input, &[300, 40], 40, 6);
+    let out = p(dir.path(), "out.csv");
+    let o = embloom(
+        &[
+            "grow",
+            input.to_str().unwrap(),
+            "-o",
+            out.to_str().unwrap(),
+            "--method",
+            "interpolate",
+            "--neighbour-index",
+            "kdtree",
+            "--target",
+            "largest",
+        ],
+        &[],
+    );
+    assert!(o.status.success(), "{}", stderr(&o));
+    let (header, rows) = read_csv(&out);
+    let col = |name: &str| header.iter().position(|h| h == name).unwrap();
+    assert_eq!(rows.len(), 600);
+    // Approximate neighbours are still real rows of the same class (the method's definition).
+    for r in &rows[340..] {
+        let partner: usize = r[col("partner")].parse().unwrap();
+        assert!(partner < 340);
+        assert_eq!(rows[partner][col("label")], r[col("label")]);
+    }
+}
