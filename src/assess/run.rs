@@ -2,8 +2,7 @@
 //! are trained on real + synthetic training rows and scored on the real test rows only; all
 //! methods see the same folds, so differences against `none` are paired.
 
-use std::collections::{BTreeSet, HashMap};
-use std::hash::Hasher;
+use std::collections::BTreeSet;
 use std::time::Instant;
 
 use indicatif::{ProgressBar, ProgressStyle};
@@ -15,7 +14,7 @@ use super::{scatter, shared_knn, summary};
 use crate::augment::{self, Augmenter, Grown, MethodKind, Plan};
 use crate::cmd::grow::describe_notes;
 use crate::cmd::options::class_indices;
-use crate::data::Dataset;
+use crate::data::{Dataset, RowIndex};
 use crate::error::{Error, Result};
 use crate::eval::diagnostics::class_diagnostics;
 use crate::eval::metrics::{ece, grown_class_recall, log_loss, score};
@@ -324,9 +323,7 @@ impl<'a> FoldContext<'a> {
 /// Refuse synthetic rows that copy a test row of the fold (and no training row): the mark of
 /// an augmenter that saw held-out data.
 ///
-/// Rows are compared bit for bit. To stay small in memory, rows are indexed by a 64-bit
-/// fingerprint of their bits (not by copies of the rows); a fingerprint hit is confirmed by
-/// comparing the rows themselves.
+/// Rows are compared bit for bit through a [`RowIndex`], which copies no rows.
 fn guard_no_test_rows(
     synthetic: &Array2<f32>,
     train: &Dataset,
@@ -336,34 +333,10 @@ fn guard_no_test_rows(
     if synthetic.nrows() == 0 {
         return Ok(());
     }
-    let print = |r: ndarray::ArrayView1<f32>| {
-        let mut h = std::collections::hash_map::DefaultHasher::new();
-        for v in r.iter() {
-            h.write_u32(v.to_bits());
-        }
-        h.finish()
-    };
-    let same = |a: ndarray::ArrayView1<f32>, b: ndarray::ArrayView1<f32>| {
-        a.iter()
-            .zip(b.iter())
-            .all(|(x, y)| x.to_bits() == y.to_bits())
-    };
-    let index = |x: &Array2<f32>| {
-        let mut m: HashMap<u64, Vec<usize>> = HashMap::new();
-        for (i, r) in x.rows().into_iter().enumerate() {
-            m.entry(print(r)).or_default().push(i);
-        }
-        m
-    };
-    let test_rows = index(&test.x);
-    let train_rows = index(&train.x);
-    let holds = |m: &HashMap<u64, Vec<usize>>, x: &Array2<f32>, f: u64, row| {
-        m.get(&f)
-            .is_some_and(|c| c.iter().any(|&i| same(x.row(i), row)))
-    };
+    let test_rows = RowIndex::new(test.view());
+    let train_rows = RowIndex::new(train.view());
     for (i, row) in synthetic.rows().into_iter().enumerate() {
-        let f = print(row);
-        if holds(&test_rows, &test.x, f, row) && !holds(&train_rows, &train.x, f, row) {
+        if test_rows.contains(row) && !train_rows.contains(row) {
             return Err(Error::data(
                 format!(
                     "{kind} produced synthetic row {i} identical to a held-out test row: the augmenter saw test data"

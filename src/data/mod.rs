@@ -4,9 +4,11 @@
 //! never lose its labels, groups or fold assignment on the way through the pipeline.
 
 mod labels;
+mod row_index;
 mod stats;
 
 pub use labels::{RawLabels, encode_labels};
+pub use row_index::RowIndex;
 pub use stats::{DatasetStats, NonFinite, UNIT_NORM_TOL, is_unit_norm};
 
 use ndarray::{Array2, ArrayView2, Axis};

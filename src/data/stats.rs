@@ -1,8 +1,6 @@
 //! Facts about a dataset that `inspect` prints and that other commands use to pick defaults
 //! (unit-norm detection) or refuse input (non-finite rows).
 
-use std::collections::HashMap;
-
 use serde::Serialize;
 
 use super::Dataset;
@@ -96,15 +94,7 @@ pub fn is_unit_norm(x: ndarray::ArrayView2<f32>) -> bool {
 }
 
 fn duplicate_rows(ds: &Dataset) -> usize {
-    let mut seen: HashMap<Vec<u32>, ()> = HashMap::with_capacity(ds.n_rows());
-    let mut dups = 0;
-    for r in ds.x.rows() {
-        let key: Vec<u32> = r.iter().map(|v| v.to_bits()).collect();
-        if seen.insert(key, ()).is_some() {
-            dups += 1;
-        }
-    }
-    dups
+    super::RowIndex::new(ds.view()).duplicates()
 }
 
 #[cfg(test)]
