@@ -1,7 +1,7 @@
 //! Class diagnostics and PRDC against a numpy transcription of the definitions
 //! (tests/reference/eval_prdc.py; PRDC per Naeem et al. 2020, eqs. 3–6).
 
-use embloom::eval::{class_diagnostics, prdc};
+use embloom::eval::{TrainingRows, class_diagnostics, prdc};
 use embloom::neighbors::Metric;
 use ndarray::Array2;
 use serde_json::Value;
@@ -75,15 +75,15 @@ fn prdc_matches_numpy_transcription() {
 #[test]
 fn class_diagnostics_match_numpy_transcription() {
     let f = &fixture()["diagnostics"];
+    let (train_x, train_y) = (matrix(&f["train_x"]), labels(&f["train_y"]));
+    let train = TrainingRows::new(train_x.view(), &train_y, Metric::Euclidean);
     let got = class_diagnostics(
-        matrix(&f["train_x"]).view(),
-        &labels(&f["train_y"]),
+        &train,
         matrix(&f["synth_x"]).view(),
         &labels(&f["synth_y"]),
         matrix(&f["test_x"]).view(),
         &labels(&f["test_y"]),
         &labels(&f["classes"]),
-        Metric::Euclidean,
     );
     let expected = f["expected"].as_array().unwrap();
     assert_eq!(got.len(), expected.len());

@@ -16,7 +16,7 @@ use crate::cmd::grow::describe_notes;
 use crate::cmd::options::class_indices;
 use crate::data::{Dataset, RowIndex};
 use crate::error::{Error, Result};
-use crate::eval::diagnostics::class_diagnostics;
+use crate::eval::diagnostics::{TrainingRows, class_diagnostics};
 use crate::eval::metrics::{ece, grown_class_recall, log_loss, score};
 use crate::eval::protocol::{Fold, make_folds};
 use crate::neighbors;
@@ -87,12 +87,16 @@ pub fn assess_with(
             work.test_real_knn_passes += 1;
             neighbors::knn(ctx.test.view(), ctx.train.view(), cfg.knn.k, cfg.knn.metric)
         });
+        let guard = LeakGuard::new(&ctx.train, &ctx.test);
+        let diagnosed = cfg
+            .diagnostics
+            .then(|| TrainingRows::new(ctx.train.view(), &ctx.train.labels, cfg.knn.metric));
         let mut baseline_linear: Option<LinearModel> = None;
         for augmenter in augmenters {
             let kind = augmenter.kind();
             bar.set_message(format!("fold {}/{} {}", fi + 1, folds.len(), kind.name()));
             let grown = ctx.grow(augmenter.as_ref(), unit_norm, cfg.seed)?;
-            guard_no_test_rows(&grown.x, &ctx.train, &ctx.test, kind)?;
+            guard.check(&grown.x, kind)?;
             warnings.extend(describe_notes(&grown.notes, &ds.classes, kind));
             let labels: Vec<u32> = ctx
                 .train
@@ -156,8 +160,11 @@ pub fn assess_with(
                 };
                 records.push(ctx.record(kind, probe, &grown, &pred, proba.as_ref(), converged));
             }
-            if cfg.diagnostics && kind != MethodKind::None && grown.x.nrows() > 0 {
-                diagnostics.extend(ctx.diagnostics(kind, &grown, cfg)?);
+            if let Some(train_rows) = &diagnosed
+                && kind != MethodKind::None
+                && grown.x.nrows() > 0
+            {
+                diagnostics.extend(ctx.diagnostics(kind, &grown, train_rows));
             }
             if fi == 0 && kind != MethodKind::None {
                 scatters.extend(scatter::class_scatters(
@@ -290,20 +297,17 @@ impl<'a> FoldContext<'a> {
         &self,
         kind: MethodKind,
         grown: &Grown,
-        cfg: &AssessConfig,
-    ) -> Result<Vec<DiagnosticRow>> {
+        train: &TrainingRows,
+    ) -> Vec<DiagnosticRow> {
         let rows = class_diagnostics(
-            self.train.view(),
-            &self.train.labels,
+            train,
             grown.x.view(),
             &grown.labels,
             self.test.view(),
             &self.test.labels,
             &self.grown,
-            cfg.knn.metric,
         );
-        Ok(rows
-            .into_iter()
+        rows.into_iter()
             .map(|d| DiagnosticRow {
                 method: kind.name().to_string(),
                 class: self.train.classes[d.class as usize].clone(),
@@ -316,36 +320,39 @@ impl<'a> FoldContext<'a> {
                 density: d.density,
                 coverage: d.coverage,
             })
-            .collect())
+            .collect()
     }
 }
 
-/// Refuse synthetic rows that copy a test row of the fold (and no training row): the mark of
-/// an augmenter that saw held-out data.
-///
-/// Rows are compared bit for bit through a [`RowIndex`], which copies no rows.
-fn guard_no_test_rows(
-    synthetic: &Array2<f32>,
-    train: &Dataset,
-    test: &Dataset,
-    kind: MethodKind,
-) -> Result<()> {
-    if synthetic.nrows() == 0 {
-        return Ok(());
-    }
-    let test_rows = RowIndex::new(test.view());
-    let train_rows = RowIndex::new(train.view());
-    for (i, row) in synthetic.rows().into_iter().enumerate() {
-        if test_rows.contains(row) && !train_rows.contains(row) {
-            return Err(Error::data(
-                format!(
-                    "{kind} produced synthetic row {i} identical to a held-out test row: the augmenter saw test data"
-                ),
-                "fit augmenters on the fold's training rows only",
-            ));
+/// Refuses synthetic rows that copy a test row of the fold (and no training row): the mark
+/// of an augmenter that saw held-out data. The fold's rows are indexed once (a [`RowIndex`]
+/// copies no rows) and every method's rows are checked against them bit for bit.
+struct LeakGuard<'a> {
+    train: RowIndex<'a>,
+    test: RowIndex<'a>,
+}
+
+impl<'a> LeakGuard<'a> {
+    fn new(train: &'a Dataset, test: &'a Dataset) -> Self {
+        LeakGuard {
+            train: RowIndex::new(train.view()),
+            test: RowIndex::new(test.view()),
         }
     }
-    Ok(())
+
+    fn check(&self, synthetic: &Array2<f32>, kind: MethodKind) -> Result<()> {
+        for (i, row) in synthetic.rows().into_iter().enumerate() {
+            if self.test.contains(row) && !self.train.contains(row) {
+                return Err(Error::data(
+                    format!(
+                        "{kind} produced synthetic row {i} identical to a held-out test row: the augmenter saw test data"
+                    ),
+                    "fit augmenters on the fold's training rows only",
+                ));
+            }
+        }
+        Ok(())
+    }
 }
 
 fn progress_bar(show: bool, len: usize) -> ProgressBar {

@@ -9,7 +9,7 @@
 use ndarray::{ArrayView2, Axis};
 use serde::{Deserialize, Serialize};
 
-use crate::neighbors::{Metric, knn, knn_within};
+use crate::neighbors::{Knn, Metric, knn, knn_within};
 
 /// The neighbourhood size of PRDC (Naeem et al. 2020 recommend k = 5).
 pub const PRDC_K: usize = 5;
@@ -43,30 +43,52 @@ pub struct ClassDiagnostics {
     pub prdc_k: usize,
 }
 
-/// Diagnostics for each class in `classes` (in that order). Rows of `*_x` pair with `*_y`.
-#[allow(clippy::too_many_arguments)] // the three row sets, each as rows + labels
+/// A fold's real training rows with each row's nearest other real training row. It depends
+/// on the fold only, so it is built once and shared by every method's diagnostics.
+pub struct TrainingRows<'a> {
+    x: ArrayView2<'a, f32>,
+    y: &'a [u32],
+    metric: Metric,
+    nearest: Option<Knn>,
+}
+
+impl<'a> TrainingRows<'a> {
+    /// Rows of `x` pair with `y` (extra rows on either side are ignored).
+    pub fn new(x: ArrayView2<'a, f32>, y: &'a [u32], metric: Metric) -> Self {
+        let n = x.nrows().min(y.len());
+        let x = x.slice_move(ndarray::s![..n, ..]);
+        let nearest = (n > 1).then(|| knn_within(x, 1, metric));
+        TrainingRows {
+            x,
+            y: &y[..n],
+            metric,
+            nearest,
+        }
+    }
+}
+
+/// Diagnostics for each class in `classes` (in that order), with the training rows' metric.
+/// Rows of `*_x` pair with `*_y`.
 pub fn class_diagnostics(
-    train_x: ArrayView2<f32>,
-    train_y: &[u32],
+    train: &TrainingRows,
     synth_x: ArrayView2<f32>,
     synth_y: &[u32],
     test_x: ArrayView2<f32>,
     test_y: &[u32],
     classes: &[u32],
-    metric: Metric,
 ) -> Vec<ClassDiagnostics> {
-    let n_train = train_x.nrows().min(train_y.len());
+    let (train_x, train_y, metric) = (train.x, train.y, train.metric);
+    let n_train = train_y.len();
     let n_synth = synth_x.nrows().min(synth_y.len());
     let n_test = test_x.nrows().min(test_y.len());
-    let train_x = train_x.slice(ndarray::s![..n_train, ..]);
     let synth_x = synth_x.slice(ndarray::s![..n_synth, ..]);
     let test_x = test_x.slice(ndarray::s![..n_test, ..]);
 
-    // Nearest real training row of every synthetic row, and nearest other real training row of
-    // every real training row: one search each, shared by all classes.
+    // Nearest real training row of every synthetic row (one search, shared by all classes);
+    // the nearest other real training row of every real row comes with `train`.
     let synth_nn = (n_train > 0).then(|| knn(synth_x, train_x, 1, metric));
-    let real_nn = (n_train > 1).then(|| knn_within(train_x, 1, metric));
-    let nearest = |nn: &Option<crate::neighbors::Knn>, i: usize| -> Option<(usize, f64)> {
+    let real_nn = &train.nearest;
+    let nearest = |nn: &Option<Knn>, i: usize| -> Option<(usize, f64)> {
         let nn = nn.as_ref()?;
         let (idx, dist) = nn.row(i);
         Some((*idx.first()? as usize, f64::from(*dist.first()?)))
@@ -85,7 +107,7 @@ pub fn class_diagnostics(
                 .collect();
             let real_near: Vec<(usize, f64)> = train_rows
                 .iter()
-                .filter_map(|&i| nearest(&real_nn, i))
+                .filter_map(|&i| nearest(real_nn, i))
                 .collect();
             let intrusion = |near: &[(usize, f64)]| {
                 share(

@@ -10,7 +10,7 @@ pub mod metrics;
 pub mod protocol;
 pub mod stats;
 
-pub use diagnostics::{ClassDiagnostics, PRDC_K, Prdc, class_diagnostics, prdc};
+pub use diagnostics::{ClassDiagnostics, PRDC_K, Prdc, TrainingRows, class_diagnostics, prdc};
 pub use metrics::{ClassScores, Scores, ece, grown_class_recall, log_loss, score};
 pub use protocol::{Fold, SplitKind, make_folds, thin_classes};
 pub use stats::{Interval, corrected_paired_t, t_cdf, t_quantile};
