@@ -143,16 +143,7 @@ fn tensor(file: &File, path: &Path, key: &str) -> Result<Tensor> {
             let v = raw
                 .iter()
                 .enumerate()
-                .map(|(row, s)| {
-                    String::from_utf8(s.as_bytes().to_vec()).map_err(|_| {
-                        Error::input_at(
-                            path,
-                            format!("key '{key}', row {row}"),
-                            "string is not UTF-8",
-                            "store UTF-8 strings",
-                        )
-                    })
-                })
+                .map(|(row, s)| utf8(s.as_bytes(), path, key, row))
                 .collect::<Result<_>>()?;
             (Values::Text(v), "str".into())
         }
@@ -172,14 +163,7 @@ fn tensor(file: &File, path: &Path, key: &str) -> Result<Tensor> {
                 .enumerate()
                 .map(|(row, b)| {
                     let end = b.iter().rposition(|&c| c != 0).map_or(0, |p| p + 1);
-                    String::from_utf8(b[..end].to_vec()).map_err(|_| {
-                        Error::input_at(
-                            path,
-                            format!("key '{key}', row {row}"),
-                            "string is not UTF-8",
-                            "store UTF-8 strings",
-                        )
-                    })
+                    utf8(&b[..end], path, key, row)
                 })
                 .collect::<Result<_>>()?;
             (Values::Text(v), format!("S{w}"))
@@ -271,4 +255,16 @@ pub fn write(tmp: &Path, export: &Export<'_>) -> Result<()> {
         .map_err(e)?;
     }
     file.close().map_err(e)
+}
+
+/// A string of a text dataset, refused with its row when it is not UTF-8.
+fn utf8(bytes: &[u8], path: &Path, key: &str, row: usize) -> Result<String> {
+    String::from_utf8(bytes.to_vec()).map_err(|_| {
+        Error::input_at(
+            path,
+            format!("key '{key}', row {row}"),
+            "string is not UTF-8",
+            "store UTF-8 strings",
+        )
+    })
 }
