@@ -131,20 +131,18 @@ pub fn describe_notes(notes: &[FitNote], classes: &[String], method: MethodKind)
     out
 }
 
-/// Grow `ds` with one method; returns the synthetic rows.
-pub fn grow_dataset(ds: &Dataset, opts: &GrowOptions) -> Result<(Plan, Grown)> {
-    let plan = plan_for(ds, opts.target, opts.classes.as_deref())?;
+/// Grow `ds` with one method as `plan` says; returns the synthetic rows.
+pub fn grow_dataset(ds: &Dataset, plan: &Plan, opts: &GrowOptions) -> Result<Grown> {
     let method = augment::build(opts.method, &opts.params)?;
     let unit_norm = opts.unit_norm.resolve(ds.view());
-    let grown = augment::grow(
+    augment::grow(
         ds,
         method.as_ref(),
-        &plan,
+        plan,
         unit_norm,
         opts.seed,
         &[crate::seed::tag(opts.method.name())],
-    )?;
-    Ok((plan, grown))
+    )
 }
 
 /// Real rows first (bit-identical, in input order), then the synthetic rows, with provenance.
@@ -208,8 +206,7 @@ pub fn assemble(ds: &Dataset, grown: &Grown, method: MethodKind) -> Result<Augme
 }
 
 /// Refuses before growing when the job would not fit in memory.
-fn check_memory(ds: &Dataset, opts: &GrowOptions) -> Result<()> {
-    let plan = plan_for(ds, opts.target, opts.classes.as_deref())?;
+fn check_memory(ds: &Dataset, plan: &Plan, opts: &GrowOptions) -> Result<()> {
     let est = crate::memory::for_grow(
         &opts.input,
         ds.n_rows(),
@@ -231,18 +228,13 @@ fn check_memory(ds: &Dataset, opts: &GrowOptions) -> Result<()> {
 
 /// Run `grow`.
 pub fn grow(opts: &GrowOptions) -> Result<GrowSummary> {
-    if opts.output.exists() && !opts.force {
-        return Err(Error::output(
-            &opts.output,
-            "already exists",
-            "pass --force to replace it, or choose another name",
-        ));
-    }
+    io::check_target(&opts.output, opts.force)?;
     io::output_format(&opts.output)?;
     let loaded = io::read(&opts.input, &opts.read)?;
     let ds = &loaded.dataset;
-    check_memory(ds, opts)?;
-    let (plan, grown) = grow_dataset(ds, opts)?;
+    let plan = plan_for(ds, opts.target, opts.classes.as_deref())?;
+    check_memory(ds, &plan, opts)?;
+    let grown = grow_dataset(ds, &plan, opts)?;
     let set = assemble(ds, &grown, opts.method)?;
     io::write(&opts.output, &set, opts.force)?;
     let counts = ds.class_counts();

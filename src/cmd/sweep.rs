@@ -24,15 +24,8 @@ pub struct SweepOptions {
 
 /// Run a sweep and write its CSV when asked.
 pub fn run(opts: &SweepOptions) -> Result<SweepResults> {
-    if let Some(csv) = &opts.csv
-        && csv.exists()
-        && !opts.force
-    {
-        return Err(Error::output(
-            csv,
-            "already exists",
-            "pass --force to replace it, or choose another name",
-        ));
+    if let Some(csv) = &opts.csv {
+        crate::io::check_target(csv, opts.force)?;
     }
     let (loaded, input) = load(&opts.input, &opts.read)?;
     let bar = if opts.config.progress {

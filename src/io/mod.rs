@@ -28,6 +28,7 @@ use std::path::{Path, PathBuf};
 use crate::data::Dataset;
 use crate::error::{Error, Result};
 
+pub use atomic::check_target;
 pub use atomic::write_with as write_atomically;
 
 /// Where to find each piece of a dataset inside a file.
