@@ -226,7 +226,7 @@ pub fn run_sweep(a: SweepArgs, quiet: bool) -> Result<()> {
     if a.json {
         println!("{}", serde_json::to_string_pretty(&results)?);
     } else {
-        print!("{}", results.render());
+        print!("{}", embloom::report::sweep_table(&results));
     }
     Ok(())
 }

@@ -47,14 +47,22 @@ pub fn summary_cell(row: Option<&SummaryRow>) -> String {
     match row {
         None => MISSING.to_string(),
         Some(s) if s.method == BASELINE => value(s.mean),
-        Some(s) if !s.delta_mean.is_finite() => format!("{} (Δ {MISSING})", value(s.mean)),
-        Some(s) => format!(
+        Some(s) => interval_cell(s.mean, s.delta_mean, s.delta_ci_low, s.delta_ci_high),
+    }
+}
+
+/// `mean (Δ +d.ddd [lo, hi])`, or `mean (Δ n/a)` when there is no difference to show.
+pub fn interval_cell(mean: f64, delta: f64, low: f64, high: f64) -> String {
+    if delta.is_finite() {
+        format!(
             "{} (Δ {} [{}, {}])",
-            value(s.mean),
-            signed(s.delta_mean),
-            signed(s.delta_ci_low),
-            signed(s.delta_ci_high)
-        ),
+            value(mean),
+            signed(delta),
+            signed(low),
+            signed(high)
+        )
+    } else {
+        format!("{} (Δ {MISSING})", value(mean))
     }
 }
 

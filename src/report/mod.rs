@@ -15,7 +15,7 @@ mod write;
 
 pub use csv::{diagnostics_csv, folds_csv, per_class_csv, summary_csv, sweep_csv};
 pub use html::html_report;
-pub use table::terminal_table;
+pub use table::{sweep_table, terminal_table};
 pub use write::write_report_dir;
 
 /// Printed wherever gains are reported: synthetic rows support a decision, they do not make it.

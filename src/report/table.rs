@@ -2,6 +2,7 @@
 //! headline metric, then the plain sentences, the warnings and the caution. No colour codes,
 //! so it reads the same in a terminal, a log file or a pasted issue.
 
+use crate::assess::SweepResults;
 use crate::assess::results::AssessResults;
 
 use super::CAUTION;
@@ -72,6 +73,70 @@ pub fn terminal_table(r: &AssessResults) -> String {
         for w in &r.warnings {
             out.push_str(&wrap(&format!("warning: {w}"), MAX_WIDTH, "  "));
         }
+    }
+    out.push('\n');
+    out.push_str(&wrap(CAUTION, MAX_WIDTH, ""));
+    out
+}
+
+/// The plain-text table printed after `sweep`: one row per knob value and probe.
+pub fn sweep_table(r: &SweepResults) -> String {
+    let mut out = wrap(
+        &format!(
+            "sweep of {} over {} (seed {}), Δ against `{}` with 95% intervals",
+            r.method,
+            r.knob,
+            r.seed,
+            figures::BASELINE
+        ),
+        MAX_WIDTH,
+        "",
+    );
+    out.push('\n');
+    let mut keys: Vec<(&str, &str)> = Vec::new();
+    for p in &r.points {
+        if !keys.contains(&(p.value.as_str(), p.probe.as_str())) {
+            keys.push((p.value.as_str(), p.probe.as_str()));
+        }
+    }
+    let mut cols = vec![
+        Column {
+            header: "value".into(),
+            cells: keys.iter().map(|k| k.0.to_string()).collect(),
+        },
+        Column {
+            header: "probe".into(),
+            cells: keys.iter().map(|k| k.1.to_string()).collect(),
+        },
+    ];
+    for name in ["balanced_accuracy", "grown_class_recall"] {
+        let header = MAIN_METRICS
+            .iter()
+            .find(|(n, _)| *n == name)
+            .map_or(name, |(_, l)| *l);
+        cols.push(Column {
+            header: header.to_string(),
+            cells: keys
+                .iter()
+                .map(|&(value, probe)| {
+                    r.points
+                        .iter()
+                        .find(|p| p.value == value && p.probe == probe && p.metric == name)
+                        .map_or(figures::MISSING.to_string(), |p| {
+                            figures::interval_cell(
+                                p.mean,
+                                p.delta_mean,
+                                p.delta_ci_low,
+                                p.delta_ci_high,
+                            )
+                        })
+                })
+                .collect(),
+        });
+    }
+    out.push_str(&render(&cols.iter().collect::<Vec<_>>(), keys.len()));
+    for w in &r.warnings {
+        out.push_str(&wrap(&format!("warning: {w}"), MAX_WIDTH, "  "));
     }
     out.push('\n');
     out.push_str(&wrap(CAUTION, MAX_WIDTH, ""));
