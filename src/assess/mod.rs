@@ -12,6 +12,5 @@ mod sweep;
 pub use config::AssessConfig;
 pub use results::{AssessResults, InputInfo};
 pub use run::{assess, assess_with};
-pub use shared_knn::merge as merge_knn;
 pub use summary::LEVEL;
 pub use sweep::{Knob, SweepPoint, SweepResults, sweep};

@@ -67,7 +67,7 @@ pub fn assess_with(
     let only = cfg
         .classes
         .as_ref()
-        .map(|n| class_indices(n, &ds.classes))
+        .map(|n| class_indices(n, ds))
         .transpose()?;
     let unit_norm = cfg.unit_norm.resolve(ds.view());
     let knn_probe = KnnProbe::new(cfg.knn)?;

@@ -46,21 +46,17 @@ impl FromStr for UnitNorm {
 }
 
 /// Class indices for the names in `--classes`; an unknown name is an error listing the classes.
-pub fn class_indices(names: &[String], classes: &[String]) -> Result<Vec<u32>> {
+pub fn class_indices(names: &[String], ds: &crate::Dataset) -> Result<Vec<u32>> {
     names
         .iter()
         .map(|n| {
-            classes
-                .iter()
-                .position(|c| c == n)
-                .map(|i| i as u32)
-                .ok_or_else(|| {
-                    Error::param(
-                        "--classes",
-                        format!("no class named '{n}'"),
-                        format!("the classes are: {}", classes.join(", ")),
-                    )
-                })
+            ds.class_index(n).ok_or_else(|| {
+                Error::param(
+                    "--classes",
+                    format!("no class named '{n}'"),
+                    format!("the classes are: {}", ds.classes.join(", ")),
+                )
+            })
         })
         .collect()
 }
@@ -78,9 +74,7 @@ pub fn plan_for(
     target: crate::augment::Target,
     classes: Option<&[String]>,
 ) -> Result<crate::augment::Plan> {
-    let only = classes
-        .map(|names| class_indices(names, &ds.classes))
-        .transpose()?;
+    let only = classes.map(|names| class_indices(names, ds)).transpose()?;
     Ok(crate::augment::Plan::new(
         &ds.class_counts(),
         target,
