@@ -2,6 +2,7 @@
 
 mod cli;
 mod cli_assess;
+mod signals;
 
 use std::process::ExitCode;
 
@@ -9,6 +10,7 @@ use clap::Parser;
 
 fn main() -> ExitCode {
     let args = cli::Cli::parse();
+    signals::install();
     match cli::run(args) {
         Ok(()) => ExitCode::SUCCESS,
         Err(err) => {

@@ -23,15 +23,9 @@ pub struct AssessOptions {
 
 /// Run an assessment and write its report folder when asked.
 pub fn run(opts: &AssessOptions) -> Result<AssessResults> {
-    if let Some(dir) = &opts.report
-        && dir.exists()
-        && !opts.force
-    {
-        return Err(Error::output(
-            dir,
-            "already exists",
-            "pass --force to replace it, or choose another folder",
-        ));
+    let inputs = io::output_target::inputs_of(&opts.input, &opts.read);
+    if let Some(dir) = &opts.report {
+        io::output_target::check_dir(dir, opts.force, &inputs)?;
     }
     let config = opts.config.clone().validated()?;
     let (loaded, input) = load(&opts.input, &opts.read)?;
@@ -45,7 +39,7 @@ pub fn run(opts: &AssessOptions) -> Result<AssessResults> {
         ));
     }
     if let Some(dir) = &opts.report {
-        crate::report::write_report_dir(dir, &results, opts.force)?;
+        crate::report::write_report_dir_guarded(dir, &results, opts.force, &inputs)?;
     }
     Ok(results)
 }

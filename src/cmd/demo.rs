@@ -9,7 +9,7 @@ use super::options::{UnitNorm, show_progress};
 use crate::assess::AssessConfig;
 use crate::augment::{AugmentParams, MethodKind, Target};
 use crate::demo::street_signs;
-use crate::error::{Error, Result};
+use crate::error::Result;
 use crate::io::{self, AugmentedSet, ReadOptions};
 use crate::probe::KnnParams;
 use crate::probe::LinearParams;
@@ -18,6 +18,9 @@ use crate::probe::ProbeKind;
 /// Seed of the shipped demo file `data/street-signs.npz`.
 pub const DEMO_SEED: u64 = 7;
 
+/// What the demo writes in its folder (listed in the folder's manifest).
+const DEMO_FILES: [&str; 3] = ["street-signs.npz", "street-signs-grown.npz", "report"];
+
 /// The demo dataset as an exportable set (every row real).
 pub fn demo_set() -> AugmentedSet {
     AugmentedSet::all_real(street_signs(DEMO_SEED))
@@ -25,17 +28,7 @@ pub fn demo_set() -> AugmentedSet {
 
 /// Write the demo data to `out` and run the three commands on it.
 pub fn demo(out: &Path, force: bool, quiet: bool) -> Result<()> {
-    if out.exists() {
-        if !force {
-            return Err(Error::output(
-                out,
-                "already exists",
-                "pass --force to replace it, or choose another folder with --out",
-            ));
-        }
-        std::fs::remove_dir_all(out).map_err(|e| Error::io(out, e))?;
-    }
-    std::fs::create_dir_all(out).map_err(|e| Error::io(out, e))?;
+    crate::io::output_target::prepare_own_dir(out, force, &DEMO_FILES)?;
     println!(
         "embloom demo — INVENTED DATA: street-sign crops from a fictional survey of the city of Lanterbury,"
     );
@@ -111,6 +104,7 @@ pub fn demo(out: &Path, force: bool, quiet: bool) -> Result<()> {
         max_memory: None,
     })?;
     print!("{}", crate::report::terminal_table(&results));
+    crate::io::output_target::write_manifest(out, "demo", &DEMO_FILES.map(String::from))?;
     println!("\nreport: {}", report.join("report.html").display());
     Ok(())
 }

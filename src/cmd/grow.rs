@@ -228,11 +228,15 @@ fn check_memory(ds: &Dataset, plan: &Plan, opts: &GrowOptions) -> Result<()> {
 
 /// Run `grow`.
 pub fn grow(opts: &GrowOptions) -> Result<GrowSummary> {
-    io::check_target(&opts.output, opts.force)?;
+    let inputs = io::output_target::inputs_of(&opts.input, &opts.read);
+    io::output_target::check_file(&opts.output, opts.force, &inputs, None)?;
     io::output_format(&opts.output)?;
     let loaded = io::read(&opts.input, &opts.read)?;
     let ds = &loaded.dataset;
     let plan = plan_for(ds, opts.target, opts.classes.as_deref())?;
+    let bytes =
+        io::output_target::output_bytes(&opts.output, ds.n_rows() + plan.total(), ds.dims());
+    io::output_target::check_file(&opts.output, opts.force, &inputs, Some(bytes))?;
     check_memory(ds, &plan, opts)?;
     let grown = grow_dataset(ds, &plan, opts)?;
     let set = assemble(ds, &grown, opts.method)?;

@@ -25,7 +25,8 @@ pub struct SweepOptions {
 /// Run a sweep and write its CSV when asked.
 pub fn run(opts: &SweepOptions) -> Result<SweepResults> {
     if let Some(csv) = &opts.csv {
-        crate::io::check_target(csv, opts.force)?;
+        let inputs = crate::io::output_target::inputs_of(&opts.input, &opts.read);
+        crate::io::output_target::check_file(csv, opts.force, &inputs, None)?;
     }
     let (loaded, input) = load(&opts.input, &opts.read)?;
     let bar = if opts.config.progress {

@@ -19,8 +19,11 @@ mod export;
 mod hdf5;
 mod npy;
 mod npz;
+pub mod output_target;
 mod pyliteral;
+mod rename;
 mod safetensors;
+pub mod temporaries;
 mod tensor;
 
 use std::path::{Path, PathBuf};
@@ -29,6 +32,7 @@ use crate::data::Dataset;
 use crate::error::{Error, Result};
 
 pub use atomic::check_target;
+pub use atomic::write_dir_with as write_dir_atomically;
 pub use atomic::write_with as write_atomically;
 
 /// Where to find each piece of a dataset inside a file.

@@ -6,6 +6,7 @@
 
 mod charts;
 mod csv;
+mod display_name;
 mod escape;
 mod figures;
 mod html;
@@ -14,9 +15,10 @@ mod table;
 mod write;
 
 pub use csv::{diagnostics_csv, folds_csv, per_class_csv, summary_csv, sweep_csv};
+pub use display_name::display_name;
 pub use html::html_report;
 pub use table::{sweep_table, terminal_table};
-pub use write::write_report_dir;
+pub use write::{write_report_dir, write_report_dir_guarded};
 
 /// Printed wherever gains are reported: synthetic rows support a decision, they do not make it.
 pub const CAUTION: &str = "Synthetic rows are not observations: validate any probe trained with \
