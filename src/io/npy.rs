@@ -308,11 +308,14 @@ fn decode_values(data: &[u8], count: usize, dt: Dtype, path: &Path, key: &str) -
             let mut out = Vec::with_capacity(count);
             for (row, c) in chunks.enumerate() {
                 let mut s = String::new();
-                for cp in c.chunks_exact(4) {
-                    let u = u32::from_le_bytes(word(cp, big));
-                    if u == 0 {
-                        break;
-                    }
+                // numpy pads a unicode element with NULs at the end only; a NUL inside
+                // ('x\0a') is part of the name.
+                let points: Vec<u32> = c
+                    .chunks_exact(4)
+                    .map(|cp| u32::from_le_bytes(word(cp, big)))
+                    .collect();
+                let end = points.iter().rposition(|&u| u != 0).map_or(0, |p| p + 1);
+                for &u in &points[..end] {
                     s.push(char::from_u32(u).ok_or_else(|| {
                         bad(path, key, format!("row {row}: invalid code point {u:#x}"))
                     })?);
@@ -418,6 +421,48 @@ pub fn encode(shape: &[usize], payload: Payload<'_>) -> Vec<u8> {
     out
 }
 
+/// The error for a header whose shape and dtype imply a data size other than the one present.
+fn size_contradiction(
+    h: &Header,
+    need: Option<usize>,
+    have: usize,
+    path: &Path,
+    key: &str,
+) -> Error {
+    let shape = shape_text(&h.shape);
+    match need {
+        None => bad(
+            path,
+            key,
+            format!(
+                "header shape {shape} is impossibly large (more bytes than memory can address)"
+            ),
+        ),
+        Some(n) if have > n => bad(
+            path,
+            key,
+            format!(
+                "header shape {shape} of {} implies {n} data bytes, but {have} follow it: more than the header allows (a corrupt file or a decompression bomb); nothing beyond the header was read",
+                h.descr
+            ),
+        ),
+        Some(n) => bad(
+            path,
+            key,
+            format!(
+                "header shape {shape} of {} needs {n} data bytes but the file holds {have} (truncated or corrupt file)",
+                h.descr
+            ),
+        ),
+    }
+}
+
+/// A shape for a message, e.g. `(1000000000000, 64)`.
+fn shape_text(shape: &[usize]) -> String {
+    let parts: Vec<String> = shape.iter().map(|d| d.to_string()).collect();
+    format!("({})", parts.join(", "))
+}
+
 /// Reads a `.npy` file from disk, float data straight into its final buffer (see
 /// [`decode_stream`]).
 pub fn read_file(path: &Path, key: &str) -> Result<Tensor> {
@@ -491,6 +536,15 @@ pub fn decode_stream<R: std::io::Read>(
         .iter()
         .try_fold(1usize, |acc, &d| acc.checked_mul(d));
     let need = count.and_then(|c| c.checked_mul(h.dtype.size));
+    // The header fixes the data size, and `len` is what the file (or the archive's directory)
+    // says is there: when they disagree, refuse before reading, allocating or inflating any
+    // more. A small compressed member that inflates far past its header is stopped here.
+    let have = len - h.data_start;
+    match need {
+        Some(n) if n != have => return Err(size_contradiction(&h, Some(n), have, path, key)),
+        None => return Err(size_contradiction(&h, None, have, path, key)),
+        _ => {}
+    }
     let streamable = h.dtype.kind == Kind::Float && h.dtype.size > 0 && !h.fortran;
     let (Some(count), Some(need), true) = (count, need, streamable) else {
         return read_rest(r, head);

@@ -77,7 +77,9 @@ impl Archive<'_> {
                 )
             }
         };
-        let tensor = npy::decode_stream(&mut limited, declared, prealloc, path, key, &io_err);
+        // A refusal from the header check stands on its own: nothing more is inflated.
+        let tensor = npy::decode_stream(&mut limited, declared, prealloc, path, key, &io_err)?;
+        let tensor = Ok(tensor);
         // A member that holds more than it declares (or fewer bytes, caught as an early end).
         let mut extra = [0u8; 1];
         match limited.read(&mut extra) {
