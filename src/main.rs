@@ -14,7 +14,8 @@ fn main() -> ExitCode {
     match cli::run(args) {
         Ok(()) => ExitCode::SUCCESS,
         Err(err) => {
-            eprintln!("error: {err:#}");
+            let text = embloom::report::display_text(&format!("{err:#}"), 2000, 40);
+            eprintln!("error: {text}");
             ExitCode::from(2)
         }
     }

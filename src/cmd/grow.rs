@@ -80,7 +80,7 @@ impl GrowSummary {
         let width = self
             .classes
             .iter()
-            .map(|c| c.class.chars().count())
+            .map(|c| shown(&c.class).chars().count())
             .max()
             .unwrap_or(5)
             .max(5);
@@ -91,7 +91,10 @@ impl GrowSummary {
         for c in self.classes.iter().filter(|c| c.added > 0) {
             s += &format!(
                 "  {:<width$}  {:>7}  {:>7}  {:>7}\n",
-                c.class, c.before, c.added, c.after
+                shown(&c.class),
+                c.before,
+                c.added,
+                c.after
             );
         }
         let untouched = self.classes.iter().filter(|c| c.added == 0).count();
@@ -99,7 +102,7 @@ impl GrowSummary {
             s += &format!("  ({untouched} classes left as they were)\n");
         }
         for w in &self.warnings {
-            s += &format!("warning: {w}\n");
+            s += &format!("warning: {}\n", crate::report::display_text(w, 400, 20));
         }
         s += "note: synthetic rows are not observations; validate any probe trained on them on real held-out data.\n";
         s
@@ -270,4 +273,9 @@ pub fn grow(opts: &GrowOptions) -> Result<GrowSummary> {
             .collect(),
         warnings: describe_notes(&grown.notes, &ds.classes, opts.method),
     })
+}
+
+/// A class name as the table shows it: control characters escaped, at most 60 characters.
+fn shown(name: &str) -> String {
+    crate::report::display_name(name, 60)
 }

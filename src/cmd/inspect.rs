@@ -80,7 +80,7 @@ impl Inspection {
     /// A human-readable rendering.
     pub fn render(&self) -> String {
         let mut s = String::new();
-        s += &format!("{}\n", self.file);
+        s += &format!("{}\n", crate::report::display_name(&self.file, 4096));
         s += &format!(
             "  rows {}  dims {}  stored as {}\n",
             self.rows, self.dims, self.dtype
@@ -126,14 +126,14 @@ impl Inspection {
         let width = self
             .classes
             .iter()
-            .map(|c| c.name.chars().count())
+            .map(|c| shown(&c.name).chars().count())
             .max()
             .unwrap_or(5)
             .max(5);
         for c in &self.classes {
             s += &format!(
                 "    {:<width$}  {:>7}  {:5.1}%\n",
-                c.name,
+                shown(&c.name),
                 c.count,
                 100.0 * c.count as f64 / self.rows.max(1) as f64
             );
@@ -157,4 +157,9 @@ pub fn inspect(path: &Path, read: &ReadOptions, json: bool) -> Result<()> {
         print!("{}", report.render());
     }
     Ok(())
+}
+
+/// A class name as the table shows it: control characters escaped, at most 60 characters.
+fn shown(name: &str) -> String {
+    crate::report::display_name(name, 60)
 }

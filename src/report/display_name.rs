@@ -34,6 +34,22 @@ pub fn display_name(name: &str, max: usize) -> String {
     cut
 }
 
+/// A multi-line message for a terminal: each line as [`display_name`] shows a name, cut to
+/// `max_line` characters, and at most `max_lines` lines (the rest summarised), so a message
+/// quoting a hostile file can neither drive the terminal nor fill it.
+pub fn display_text(text: &str, max_line: usize, max_lines: usize) -> String {
+    let lines: Vec<&str> = text.lines().collect();
+    let mut out: Vec<String> = lines
+        .iter()
+        .take(max_lines)
+        .map(|l| display_name(l, max_line))
+        .collect();
+    if lines.len() > max_lines {
+        out.push(format!("… ({} more lines)", lines.len() - max_lines));
+    }
+    out.join("\n")
+}
+
 /// Unicode's explicit direction overrides and isolates, which can reorder what a terminal
 /// shows.
 fn is_bidi_override(c: char) -> bool {
@@ -55,5 +71,6 @@ mod tests {
         assert!(d.ends_with('…'));
         assert_eq!(display_name("abcd", 4), "abcd");
         assert_eq!(display_name("abcde", 4), "abc…");
+        assert_eq!(display_text("a\u{1b}\nb", 10, 5), "a\\e\nb");
     }
 }
