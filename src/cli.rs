@@ -204,6 +204,17 @@ pub fn run(cli: Cli) -> Result<()> {
                 "invalid --threads: 0\n  fix: use 1 or more, or leave it out to use all cores"
             );
         }
+        // Past a few threads a core, more only cost start-up time and memory.
+        let cores = std::thread::available_parallelism().map_or(1, |c| c.get());
+        let n = if n > 4 * cores {
+            eprintln!(
+                "note: --threads {n} is more than 4 per core on this machine ({cores} cores); using {}",
+                4 * cores
+            );
+            4 * cores
+        } else {
+            n
+        };
         rayon::ThreadPoolBuilder::new()
             .num_threads(n)
             .build_global()?;

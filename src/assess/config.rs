@@ -10,6 +10,9 @@ use crate::probe::LinearParams;
 use crate::probe::ProbeKind;
 
 /// Everything an assessment needs besides the data.
+
+/// The most repeats of the fold split an assessment accepts.
+pub const MAX_REPEATS: usize = 1000;
 #[derive(Debug, Clone, Serialize)]
 pub struct AssessConfig {
     /// Methods to compare; `none` (the baseline) is always first.
@@ -61,6 +64,18 @@ impl AssessConfig {
                 "--repeats",
                 "must be at least 1",
                 "use --repeats 1 or more",
+            ));
+        }
+        // Per-fold results are kept for the report, so memory and time grow with repeats;
+        // past this, more repeats no longer move the corrected intervals in any reported digit.
+        if self.repeats > MAX_REPEATS {
+            return Err(Error::param(
+                "--repeats",
+                format!(
+                    "{} is more than the {MAX_REPEATS} embloom allows",
+                    self.repeats
+                ),
+                "use 10 (a common choice for repeated cross-validation) or at most 1000",
             ));
         }
         self.knn.validate()?;

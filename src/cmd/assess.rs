@@ -27,11 +27,13 @@ pub fn run(opts: &AssessOptions) -> Result<AssessResults> {
     if let Some(dir) = &opts.report {
         io::output_target::check_dir(dir, opts.force, &inputs)?;
     }
-    let config = opts.config.clone().validated()?;
+    let mut config = opts.config.clone().validated()?;
     let (loaded, input) = load(&opts.input, &opts.read)?;
     let ds = &loaded.dataset;
+    let clamped = clamp_knn_k(&mut config, ds.n_rows());
     check_memory(ds, &config, opts)?;
     let mut results = assess(ds, &config, input)?;
+    results.warnings.extend(clamped);
     if loaded.dropped_nonfinite > 0 {
         results.warnings.push(format!(
             "{} input rows with NaN/Inf were skipped",
@@ -57,6 +59,21 @@ pub fn load(path: &Path, read: &ReadOptions) -> Result<(Loaded, InputInfo)> {
         class_counts: ds.class_counts(),
     };
     Ok((loaded, input))
+}
+
+/// Clamps the k-NN probe's k to the training rows of a fold (more neighbours than rows is
+/// meaningless, and a huge k would size buffers by it), saying so.
+pub fn clamp_knn_k(config: &mut AssessConfig, rows: usize) -> Option<String> {
+    let train = rows - rows / config.folds.max(2);
+    if config.knn.k <= train.max(1) {
+        return None;
+    }
+    let asked = config.knn.k;
+    config.knn.k = train.max(1);
+    Some(format!(
+        "--knn-k {asked} is more than the {} training rows of a fold; using k = {}",
+        train, config.knn.k
+    ))
 }
 
 /// Refuses before the fold loop when one fold's work would not fit in memory.

@@ -29,14 +29,16 @@ pub fn run(opts: &SweepOptions) -> Result<SweepResults> {
         crate::io::output_target::check_file(csv, opts.force, &inputs, None)?;
     }
     let (loaded, input) = load(&opts.input, &opts.read)?;
+    let mut config = opts.config.clone();
+    let clamped = super::assess::clamp_knn_k(&mut config, loaded.dataset.n_rows());
     let bar = if opts.config.progress {
         ProgressBar::new(opts.values.len() as u64)
     } else {
         ProgressBar::hidden()
     };
-    let results = sweep(
+    let mut results = sweep(
         &loaded.dataset,
-        &opts.config,
+        &config,
         opts.method,
         opts.knob,
         &opts.values,
@@ -47,6 +49,7 @@ pub fn run(opts: &SweepOptions) -> Result<SweepResults> {
         },
     )?;
     bar.finish_and_clear();
+    results.warnings.extend(clamped);
     if let Some(csv) = &opts.csv {
         let text = crate::report::sweep_csv(&results);
         write_atomically(csv, opts.force, |tmp| {

@@ -9,6 +9,7 @@
 mod distance;
 mod exact;
 mod kdtree;
+pub mod magnitude;
 mod recall;
 mod topk;
 

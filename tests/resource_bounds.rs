@@ -1,0 +1,88 @@
+//! Huge option values and huge magnitudes are bounded or refused up front: --knn-k is clamped
+//! to a fold's training rows with a warning, --repeats is capped, --threads is capped at a few
+//! per core with a note, and rows whose norms overflow float32 distance arithmetic are refused
+//! naming the first such row. (f32::MAX ≈ 3.4e38, IEEE 754 binary32; the rest common
+//! practice, no source.)
+
+mod common;
+
+use common::{embloom, stderr, stdout, write_csv};
+
+#[test]
+fn huge_knn_k_is_clamped_with_a_warning() {
+    let dir = common::tempdir();
+    let input = dir.path().join("in.csv");
+    write_csv(&input, &[30, 30], 3, 4);
+    let o = embloom(
+        &[
+            "assess",
+            input.to_str().unwrap(),
+            "--knn-k",
+            "1000000000",
+            "--probes",
+            "knn",
+            "--folds",
+            "2",
+        ],
+        &[],
+    );
+    let all = stdout(&o) + &stderr(&o);
+    assert!(o.status.success(), "{all}");
+    assert!(
+        all.contains("--knn-k 1000000000") && all.contains("using k = 30"),
+        "{all}"
+    );
+}
+
+#[test]
+fn huge_repeats_are_refused_before_any_work() {
+    let dir = common::tempdir();
+    let input = dir.path().join("in.csv");
+    write_csv(&input, &[30, 30], 3, 4);
+    let o = embloom(
+        &["assess", input.to_str().unwrap(), "--repeats", "1000000"],
+        &[],
+    );
+    assert!(!o.status.success());
+    assert!(stderr(&o).contains("--repeats"), "{}", stderr(&o));
+}
+
+#[test]
+fn huge_thread_counts_are_capped_with_a_note() {
+    let dir = common::tempdir();
+    let input = dir.path().join("in.csv");
+    write_csv(&input, &[10, 10], 3, 4);
+    let o = embloom(
+        &["--threads", "10000", "inspect", input.to_str().unwrap()],
+        &[],
+    );
+    assert!(o.status.success(), "{}", stderr(&o));
+    assert!(stderr(&o).contains("--threads 10000"), "{}", stderr(&o));
+}
+
+#[test]
+fn rows_overflowing_f32_distances_are_refused_by_row() {
+    let dir = common::tempdir();
+    let input = dir.path().join("big.csv");
+    let mut s = String::from("label,f0,f1\n");
+    for i in 0..20 {
+        let v = if i == 7 { "1e19" } else { "1" };
+        s += &format!("c{},{i},{v}\n", i % 2);
+    }
+    std::fs::write(&input, s).unwrap();
+    let out = dir.path().join("o.npz");
+    let o = embloom(
+        &[
+            "grow",
+            input.to_str().unwrap(),
+            "--method",
+            "interpolate",
+            "-o",
+            out.to_str().unwrap(),
+        ],
+        &[],
+    );
+    assert!(!o.status.success());
+    assert!(stderr(&o).contains("row 7"), "{}", stderr(&o));
+    assert!(!out.exists());
+}
