@@ -34,6 +34,9 @@ pub fn run(opts: &AssessOptions) -> Result<AssessResults> {
     check_memory(ds, &config, opts)?;
     let mut results = assess(ds, &config, input)?;
     results.warnings.extend(clamped);
+    results
+        .warnings
+        .extend(thin_class_warning(ds, config.folds));
     if loaded.dropped_nonfinite > 0 {
         results.warnings.push(format!(
             "{} input rows with NaN/Inf were skipped",
@@ -73,6 +76,32 @@ pub fn clamp_knn_k(config: &mut AssessConfig, rows: usize) -> Option<String> {
     Some(format!(
         "--knn-k {asked} is more than the {} training rows of a fold; using k = {}",
         train, config.knn.k
+    ))
+}
+
+/// A warning, with a short list, when classes have fewer rows (or groups) than folds: such a
+/// class is missing from some test folds and some training folds, so its recall is near zero
+/// whatever the method, and many such classes drag every balanced figure toward 0.
+pub fn thin_class_warning(ds: &crate::Dataset, folds: usize) -> Option<String> {
+    let thin = crate::eval::thin_classes(ds, folds);
+    if thin.is_empty() {
+        return None;
+    }
+    let shown: Vec<String> = thin
+        .iter()
+        .take(5)
+        .map(|&c| crate::report::display_name(&ds.classes[c as usize], 40))
+        .collect();
+    let more = if thin.len() > 5 {
+        format!(" and {} more", thin.len() - 5)
+    } else {
+        String::new()
+    };
+    Some(format!(
+        "{} of {} classes have fewer rows than the {folds} folds ({}{more}): they cannot be in every fold, so their recall says little; merge or drop rare classes, or use fewer folds (--folds)",
+        thin.len(),
+        ds.n_classes(),
+        shown.join(", ")
     ))
 }
 

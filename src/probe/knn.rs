@@ -127,9 +127,32 @@ impl KnnProbe {
         (0..knn.n_queries())
             .map(|q| {
                 let (idx, dist) = knn.row(q);
-                votes.iter_mut().for_each(|v| *v = 0.0);
                 self.accumulate(&idx[..take], &dist[..take], train_y, &mut votes);
-                lowest_argmax(&votes)
+                // Only the neighbours' classes hold votes: read and reset those alone, so a
+                // query costs O(k), not O(classes) (200,000 one-row classes made this
+                // quadratic).
+                let touched = || {
+                    idx[..take]
+                        .iter()
+                        .filter_map(|&i| train_y.get(i as usize))
+                        .map(|&c| c as usize)
+                        .filter(|&c| c < n_classes)
+                };
+                let best =
+                    touched()
+                        .filter(|&c| votes[c] > 0.0)
+                        .fold(None::<usize>, |b, c| match b {
+                            Some(b) if votes[b] > votes[c] || (votes[b] == votes[c] && b < c) => {
+                                Some(b)
+                            }
+                            _ => Some(c),
+                        });
+                for c in touched() {
+                    votes[c] = 0.0;
+                }
+                // Votes are never negative, so with none above zero every class ties at 0
+                // and the lowest index (0) wins, as a full scan would give.
+                best.unwrap_or(0) as u32
             })
             .collect()
     }
@@ -167,17 +190,6 @@ impl KnnProbe {
             }
         }
     }
-}
-
-/// Index of the largest value; the lowest index among exact ties (and 0 for an empty slice).
-fn lowest_argmax(values: &[f64]) -> u32 {
-    let mut best = 0usize;
-    for (c, &v) in values.iter().enumerate().skip(1) {
-        if v > values[best] {
-            best = c;
-        }
-    }
-    best as u32
 }
 
 #[cfg(test)]
