@@ -1,0 +1,50 @@
+//! The corrected resampled t-interval over per-fold differences (Nadeau & Bengio 2003,
+//! "Inference for the Generalization Error", Machine Learning 52). Over k folds × r repeats it
+//! is the corrected repeated k-fold test of Bouckaert & Frank (2004, "Evaluating the
+//! Replicability of Significance Tests for Comparing Learning Algorithms", PAKDD).
+
+use super::counts::{ClassCounts, PooledMetric};
+use super::PairedFold;
+use crate::eval::stats::corrected_paired_t;
+
+/// Per metric, the finite per-fold differences (method − baseline), in fold order.
+pub fn fold_differences(
+    folds: &[PairedFold],
+    metrics: &[PooledMetric],
+    n_classes: usize,
+) -> Vec<Vec<f64>> {
+    let counts: Vec<(ClassCounts, ClassCounts)> = folds
+        .iter()
+        .map(|f| {
+            (
+                ClassCounts::of(f.method, n_classes),
+                ClassCounts::of(f.baseline, n_classes),
+            )
+        })
+        .collect();
+    metrics
+        .iter()
+        .map(|m| {
+            counts
+                .iter()
+                .map(|(a, b)| m.value(a) - m.value(b))
+                .filter(|d| d.is_finite())
+                .collect()
+        })
+        .collect()
+}
+
+/// Mean real training rows and mean test rows per fold.
+pub fn mean_sizes(folds: &[PairedFold]) -> (f64, f64) {
+    let n = folds.len().max(1) as f64;
+    let train = folds.iter().map(|f| f.train_rows as f64).sum::<f64>() / n;
+    let test = folds.iter().map(|f| f.method.labels.len() as f64).sum::<f64>() / n;
+    (train, test)
+}
+
+/// Bounds and p-value, or `None` when the spread is zero or the sizes make no sense.
+pub fn interval(diffs: &[f64], n_train: f64, n_test: f64, level: f64) -> Option<(f64, f64, f64)> {
+    let iv = corrected_paired_t(diffs, n_train, n_test, level);
+    (iv.low.is_finite() && iv.high.is_finite() && iv.low < iv.high)
+        .then_some((iv.low, iv.high, iv.p_value))
+}
