@@ -10,7 +10,7 @@ use std::collections::{BTreeMap, BTreeSet};
 
 use rand::RngCore;
 
-use super::results::{ClassRow, DiagnosticRow, FoldRecord, SummaryRow};
+use super::results::{AssessResults, ClassRow, DiagnosticRow, FoldRecord, SummaryRow};
 use crate::eval::interval::counts_pooled;
 use crate::eval::interval::{
     self, IntervalKind, NoInterval, PairedEstimate, PairedFold, PooledMetric,
@@ -408,4 +408,25 @@ pub fn average_diagnostics(rows: &[DiagnosticRow]) -> Vec<DiagnosticRow> {
             }
         })
         .collect()
+}
+
+/// The summary rows of a finished assessment with intervals of another kind: the same fold
+/// records, re-summarised (what a comparison of interval methods needs, without refitting).
+pub fn summary_with(results: &AssessResults, kind: IntervalKind) -> Vec<SummaryRow> {
+    let classes = &results.input.classes;
+    let grown: BTreeSet<u32> = results
+        .grown_classes
+        .iter()
+        .filter_map(|g| classes.iter().position(|c| c == g).map(|c| c as u32))
+        .collect();
+    Aggregate::new(
+        &results.folds,
+        &results.methods,
+        &results.probes,
+        classes,
+        &grown,
+        kind,
+        results.seed,
+    )
+    .summary()
 }

@@ -48,3 +48,45 @@ pub fn interval(diffs: &[f64], n_train: f64, n_test: f64, level: f64) -> Option<
     (iv.low.is_finite() && iv.high.is_finite() && iv.low < iv.high)
         .then_some((iv.low, iv.high, iv.p_value))
 }
+
+/// Per metric, s̄²/k: the sample variance (ddof 1) of the k fold differences of each repeat,
+/// averaged over the repeats with at least two, divided by the mean folds per repeat. This is
+/// the variance of one repeat's mean difference if its folds were independent; repeats are not
+/// counted as extra independent evidence (they reuse the same rows). NaN when no repeat has
+/// two folds with a value.
+pub fn within_repeat_variance(
+    folds: &[PairedFold],
+    metrics: &[PooledMetric],
+    n_classes: usize,
+) -> Vec<f64> {
+    let repeats = folds.iter().map(|f| f.repeat + 1).max().unwrap_or(0);
+    metrics
+        .iter()
+        .map(|m| {
+            let (mut var_sum, mut k_sum, mut used) = (0.0, 0.0, 0.0);
+            for r in 0..repeats {
+                let d: Vec<f64> = folds
+                    .iter()
+                    .filter(|f| f.repeat == r)
+                    .map(|f| {
+                        m.value(&ClassCounts::of(f.method, n_classes))
+                            - m.value(&ClassCounts::of(f.baseline, n_classes))
+                    })
+                    .filter(|d| d.is_finite())
+                    .collect();
+                if d.len() < 2 {
+                    continue;
+                }
+                let mean = d.iter().sum::<f64>() / d.len() as f64;
+                var_sum += d.iter().map(|x| (x - mean).powi(2)).sum::<f64>() / (d.len() - 1) as f64;
+                k_sum += d.len() as f64;
+                used += 1.0;
+            }
+            if used == 0.0 {
+                f64::NAN
+            } else {
+                (var_sum / used) / (k_sum / used)
+            }
+        })
+        .collect()
+}

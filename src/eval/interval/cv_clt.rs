@@ -18,6 +18,7 @@ use std::collections::HashMap;
 use super::PairedFold;
 use super::counts::PooledMetric;
 use super::normal::{normal_cdf, normal_quantile};
+use crate::eval::stats::{t_cdf, t_quantile};
 
 /// Standard error of each row-linear metric's pooled difference (NaN for the others).
 pub fn standard_errors(folds: &[PairedFold], metrics: &[PooledMetric], n_classes: usize) -> Vec<f64> {
@@ -106,4 +107,32 @@ pub fn interval(delta: f64, se: f64, level: f64) -> Option<(f64, f64, f64)> {
     let z = normal_quantile(1.0 - (1.0 - level) / 2.0);
     let p = 2.0 * normal_cdf(-(delta / se).abs());
     Some((delta - z * se, delta + z * se, p.min(1.0)))
+}
+
+/// The interval of `cv-clt-folds`: variance SE² = max(se², between) where `between` = s̄²/k
+/// is the fold-level variance of the mean difference. The excess e = between − se² is the
+/// part that rests on the k fold differences only, so the quantile is Student's t with
+/// Welch–Satterthwaite degrees of freedom (k − 1)·(SE²/e)² (Satterthwaite 1946), which is
+/// k − 1 when the folds carry all the variance and grows without bound as e vanishes.
+pub fn interval_with_folds(
+    delta: f64,
+    se: f64,
+    between: f64,
+    k: f64,
+    level: f64,
+) -> Option<(f64, f64, f64)> {
+    let row = if se.is_finite() { se * se } else { 0.0 };
+    let excess = if between.is_finite() { (between - row).max(0.0) } else { 0.0 };
+    let var = row + excess;
+    if excess == 0.0 || k < 2.0 {
+        return interval(delta, var.sqrt(), level);
+    }
+    if !(var > 0.0 && delta.is_finite() && level > 0.0 && level < 1.0) {
+        return None;
+    }
+    let df = ((k - 1.0) * (var / excess).powi(2)).min(1e6);
+    let se = var.sqrt();
+    let q = t_quantile(1.0 - (1.0 - level) / 2.0, df);
+    let p = 2.0 * t_cdf(-(delta / se).abs(), df);
+    Some((delta - q * se, delta + q * se, p.min(1.0)))
 }
