@@ -22,8 +22,8 @@ fn main() {
         "{datasets} data sets per configuration; truth from {train_sets} fresh training sets × {test_per_class} test rows per class"
     );
     println!();
-    println!("| configuration | protocol | truth (MC se) | interval | coverage [95% Wilson] | no interval | excludes 0 | width ratio | degenerate printed |");
-    println!("|---|---|---|---|---|---|---|---|---|");
+    println!("| configuration | protocol | truth (MC se) | interval | bias | coverage [95% Wilson] | no interval | excludes 0 | width ratio | degenerate printed |");
+    println!("|---|---|---|---|---|---|---|---|---|---|");
     for w in sim::worlds() {
         let truth = sim::truth(&w, 5, train_sets, test_per_class, 11);
         for (folds, repeats) in [(5, 1), (5, 3)] {
@@ -31,11 +31,12 @@ fn main() {
             for t in &tallies {
                 let (lo, hi) = t.coverage_interval();
                 println!(
-                    "| {} | {folds}×{repeats} | {:+.4} ({:.4}) | {} | {:.3} [{:.3}, {:.3}] | {} | {:.3} | {:.2} | {} |",
+                    "| {} | {folds}×{repeats} | {:+.4} ({:.4}) | {} | {:+.4} | {:.3} [{:.3}, {:.3}] | {} | {:.3} | {:.2} | {} |",
                     w.name,
                     truth.delta,
                     truth.mc_se,
                     t.kind,
+                    t.bias(truth.delta),
                     t.coverage(),
                     lo,
                     hi,

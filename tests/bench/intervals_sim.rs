@@ -125,11 +125,6 @@ pub struct Truth {
 /// trains on, each scored on `test_per_class` fresh rows per class.
 pub fn truth(w: &World, folds: usize, train_sets: usize, test_per_class: usize, seed: u64) -> Truth {
     let mu = means(w);
-    let train_sizes: Vec<usize> = w
-        .sizes
-        .iter()
-        .map(|&s| (s as f64 * (folds - 1) as f64 / folds as f64).round() as usize)
-        .collect();
     let names = class_names(w);
     let only: Option<Vec<u32>> = w.only.as_ref().map(|o| {
         o.iter()
@@ -142,6 +137,17 @@ pub fn truth(w: &World, folds: usize, train_sets: usize, test_per_class: usize, 
         .into_par_iter()
         .map(|t| {
             let mut rng = ChaCha8Rng::seed_from_u64(seed ^ (t as u64).wrapping_mul(0x9e37_79b9));
+            // A stratified fold tests ⌊s/k⌋ or ⌈s/k⌉ rows of a class of s rows; draw the
+            // training size as the folds produce it.
+            let train_sizes: Vec<usize> = w
+                .sizes
+                .iter()
+                .map(|&s| {
+                    let per = s as f64 / folds as f64;
+                    let extra = usize::from(rng.r#gen::<f64>() < per.fract());
+                    s - per.floor() as usize - extra
+                })
+                .collect();
             let train = sample(w, &mu, &train_sizes, &mut rng);
             let test = sample(w, &mu, &vec![test_per_class; w.sizes.len()], &mut rng);
             let plan = Plan::new(&train.class_counts(), w.target, only.as_deref());
@@ -209,6 +215,10 @@ impl Tally {
         let m = self.estimates.iter().sum::<f64>() / n;
         let sd = (self.estimates.iter().map(|e| (e - m).powi(2)).sum::<f64>() / (n - 1.0)).sqrt();
         (self.width_sum / self.with_interval.max(1) as f64) / (2.0 * 1.96 * sd)
+    }
+    /// Mean point estimate minus the truth.
+    pub fn bias(&self, truth: f64) -> f64 {
+        self.estimates.iter().sum::<f64>() / self.estimates.len() as f64 - truth
     }
     pub fn coverage_interval(&self) -> (f64, f64) {
         wilson(self.covered, self.with_interval)

@@ -109,20 +109,48 @@ pub fn interval(delta: f64, se: f64, level: f64) -> Option<(f64, f64, f64)> {
     Some((delta - z * se, delta + z * se, p.min(1.0)))
 }
 
-/// The interval of `cv-clt-folds`: variance SE² = max(se², between) where `between` = s̄²/k
-/// is the fold-level variance of the mean difference. The excess e = between − se² is the
-/// part that rests on the k fold differences only, so the quantile is Student's t with
-/// Welch–Satterthwaite degrees of freedom (k − 1)·(SE²/e)² (Satterthwaite 1946), which is
-/// k − 1 when the folds carry all the variance and grows without bound as e vanishes.
+/// Per metric, the root mean over repeats of each repeat's own squared standard error: the
+/// test-row noise in one repeat's fold differences (with one repeat, [`standard_errors`]).
+pub fn single_repeat_errors(
+    folds: &[PairedFold],
+    metrics: &[PooledMetric],
+    n_classes: usize,
+) -> Vec<f64> {
+    let repeats = folds.iter().map(|f| f.repeat + 1).max().unwrap_or(0);
+    let mut sum = vec![0.0; metrics.len()];
+    let mut used = vec![0.0; metrics.len()];
+    for r in 0..repeats {
+        let one: Vec<PairedFold> = folds.iter().filter(|f| f.repeat == r).copied().collect();
+        for (j, se) in standard_errors(&one, metrics, n_classes).into_iter().enumerate() {
+            if se.is_finite() {
+                sum[j] += se * se;
+                used[j] += 1.0;
+            }
+        }
+    }
+    sum.iter()
+        .zip(&used)
+        .map(|(s, u)| if *u > 0.0 { (s / u).sqrt() } else { f64::NAN })
+        .collect()
+}
+
+/// The interval of `cv-clt-folds`. `between` = s̄²/k is the fold-level variance of one
+/// repeat's mean difference; of it, `single`² (one repeat's test-row noise) is already in the
+/// per-row SE, so the training-set part is e = max(0, between − single²) and the variance is
+/// SE² = se² + e. Since e rests on the k fold differences only, the quantile is Student's t
+/// with Welch–Satterthwaite degrees of freedom (k − 1)·(SE²/e)² (Satterthwaite 1946): k − 1
+/// when the folds carry all the variance, unbounded as e vanishes.
 pub fn interval_with_folds(
     delta: f64,
     se: f64,
+    single: f64,
     between: f64,
     k: f64,
     level: f64,
 ) -> Option<(f64, f64, f64)> {
     let row = if se.is_finite() { se * se } else { 0.0 };
-    let excess = if between.is_finite() { (between - row).max(0.0) } else { 0.0 };
+    let single = if single.is_finite() { single * single } else { row };
+    let excess = if between.is_finite() { (between - single).max(0.0) } else { 0.0 };
     let var = row + excess;
     if excess == 0.0 || k < 2.0 {
         return interval(delta, var.sqrt(), level);

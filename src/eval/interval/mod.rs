@@ -14,7 +14,7 @@ mod normal;
 
 use serde::{Deserialize, Serialize};
 
-pub use bootstrap::BOOTSTRAP_REPLICATES;
+pub use bootstrap::{BOOTSTRAP_REPLICATES, percentile as bootstrap_percentile};
 pub use counts::{ClassCounts, Pooled, PooledMetric, pooled as counts_pooled};
 pub use normal::{normal_cdf, normal_quantile};
 
@@ -38,10 +38,10 @@ pub enum IntervalKind {
     CvClt,
     /// Paired percentile bootstrap over test rows, resampled within folds and classes.
     Bootstrap,
-    /// The central-limit interval with its variance floored at the between-fold one: the
-    /// larger of the per-row SE² and s̄²/k, s̄² the variance of the k fold differences within
-    /// a repeat (averaged over repeats), with Welch–Satterthwaite degrees of freedom for the
-    /// part only the k folds estimate. Bayle et al.'s interval assumes a stable learner;
+    /// The central-limit interval plus the training-set variance the folds reveal: s̄²/k, s̄²
+    /// the variance of the k fold differences within a repeat (averaged over repeats), less
+    /// the part one repeat's test-row noise explains, is added to the per-row SE², with
+    /// Welch–Satterthwaite degrees of freedom for that added part. Bayle et al.'s interval assumes a stable learner;
     /// when growing a 10-row class moves the probe a lot from one training set to the next,
     /// the fold differences spread more than test-row noise explains, and this keeps that.
     CvCltFolds,
@@ -195,6 +195,8 @@ pub fn paired(
         .then(|| cv_clt::standard_errors(folds, metrics, n_classes));
     let between = (kind == IntervalKind::CvCltFolds)
         .then(|| corrected_t::within_repeat_variance(folds, metrics, n_classes));
+    let single_repeat = (kind == IntervalKind::CvCltFolds)
+        .then(|| cv_clt::single_repeat_errors(folds, metrics, n_classes));
     let per_fold = counts::rows_per_fold(folds, metrics, n_classes);
     metrics
         .iter()
@@ -236,7 +238,12 @@ pub fn paired(
                         Some(v) => {
                             let k = folds.len() as f64
                                 / (folds.iter().map(|f| f.repeat + 1).max().unwrap_or(1)) as f64;
-                            cv_clt::interval_with_folds(delta, se, v[j], k, level)
+                            let single = if metric.is_row_linear() {
+                                single_repeat.as_ref().map_or(f64::NAN, |s| s[j])
+                            } else {
+                                se
+                            };
+                            cv_clt::interval_with_folds(delta, se, single, v[j], k, level)
                         }
                         None => cv_clt::interval(delta, se, level),
                     }
