@@ -56,7 +56,7 @@ pub fn worlds() -> Vec<World> {
         },
         World {
             name: "near zero (balanced accuracy)",
-            sizes: vec![160, 130, 110, 100, 90, 80],
+            sizes: vec![190, 150, 120, 100, 80, 65],
             dims: 24,
             spread: 0.55,
             method: MethodKind::Interpolate,
@@ -332,3 +332,4 @@ pub fn run(w: &World, truth: Truth, datasets: usize, folds: usize, repeats: usiz
         })
         .collect()
 }
+

@@ -10,7 +10,8 @@ numpy, scipy and scikit-learn from the published definitions.
   the rows of class c; alpha_c = 1/C for balanced accuracy, 1/|G| for the mean recall of G);
   interval delta +- norm.ppf(0.975) SE; p = 2 norm.sf(|delta| / SE).
 - cv-clt-folds: v = mean over repeats of var(fold deltas, ddof 1) divided by k; excess
-  e = max(0, v - SE1^2), SE1^2 the mean over repeats of each repeat's own cv-clt SE^2;
+  e = max(0, c (v - SE1^2)), SE1^2 the mean over repeats of each repeat's own cv-clt SE^2,
+  c = 1 + (k-1) n_test/n_train (Nadeau & Bengio's overlap factor, on the training part only);
   variance SE^2 + e; Welch-Satterthwaite df = (k-1) (var/e)^2; scipy.stats.t.
 - corrected-t (Nadeau & Bengio 2003; Bouckaert & Frank 2004 over k x r folds): on the
   per-fold differences of balanced accuracy.
@@ -118,7 +119,10 @@ def case(sizes, folds, repeats, p_base, p_method):
     per_rep = [fd[[i for i, x in enumerate(records) if x["repeat"] == r]] for r in range(repeats)]
     v = np.mean([d.var(ddof=1) for d in per_rep]) / folds
     single = np.sqrt(np.mean([clt_se(labels, [x for x in records if x["repeat"] == r], n_classes, list(range(n_classes))) ** 2 for r in range(repeats)]))
-    excess = max(v - single**2, 0.0)
+    n_train = np.mean([x["train_rows"] for x in records])
+    n_test = np.mean([len(x["labels"]) for x in records])
+    overlap = 1 + (folds - 1) * n_test / n_train
+    excess = max(overlap * (v - single**2), 0.0)
     var = se**2 + excess
     if excess > 0:
         df = (folds - 1) * (var / excess) ** 2

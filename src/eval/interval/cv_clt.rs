@@ -134,10 +134,10 @@ pub fn single_repeat_errors(
         .collect()
 }
 
-/// The interval of `cv-clt-folds`. `between` = s̄²/k is the fold-level variance of one
-/// repeat's mean difference; of it, `single`² (one repeat's test-row noise) is already in the
-/// per-row SE, so the training-set part is e = max(0, between − single²) and the variance is
-/// SE² = se² + e. Since e rests on the k fold differences only, the quantile is Student's t
+/// The interval of `cv-clt-folds`. `between` = c·s̄²/k is the fold-level variance of one
+/// repeat's mean difference times the overlap factor c; of it, c·`single`² (one repeat's
+/// test-row noise) is not training-set variance and is already in the per-row SE, so the
+/// training-set part is e = max(0, between − c·single²) and the variance is SE² = se² + e. Since e rests on the k fold differences only, the quantile is Student's t
 /// with Welch–Satterthwaite degrees of freedom (k − 1)·(SE²/e)² (Satterthwaite 1946): k − 1
 /// when the folds carry all the variance, unbounded as e vanishes.
 pub fn interval_with_folds(
@@ -145,12 +145,17 @@ pub fn interval_with_folds(
     se: f64,
     single: f64,
     between: f64,
+    overlap: f64,
     k: f64,
     level: f64,
 ) -> Option<(f64, f64, f64)> {
     let row = if se.is_finite() { se * se } else { 0.0 };
     let single = if single.is_finite() { single * single } else { row };
-    let excess = if between.is_finite() { (between - single).max(0.0) } else { 0.0 };
+    let excess = if between.is_finite() {
+        (between - overlap * single).max(0.0)
+    } else {
+        0.0
+    };
     let var = row + excess;
     if excess == 0.0 || k < 2.0 {
         return interval(delta, var.sqrt(), level);

@@ -40,8 +40,12 @@ pub enum IntervalKind {
     Bootstrap,
     /// The central-limit interval plus the training-set variance the folds reveal: s̄²/k, s̄²
     /// the variance of the k fold differences within a repeat (averaged over repeats), less
-    /// the part one repeat's test-row noise explains, is added to the per-row SE², with
-    /// Welch–Satterthwaite degrees of freedom for that added part. Bayle et al.'s interval assumes a stable learner;
+    /// the part one repeat's test-row noise explains, is added to the per-row SE² after
+    /// Nadeau & Bengio's overlap factor 1 + (k − 1)·n_test/n_train, with Welch–Satterthwaite
+    /// degrees of freedom for that added part. The overlap factor applies to the
+    /// training-set part only: the test rows of different folds are disjoint, so their noise
+    /// is independent and the per-row SE already counts it exactly; applying the factor to
+    /// all of s̄², as the corrected t does, is what makes that interval too wide. Bayle et al.'s interval assumes a stable learner;
     /// when growing a 10-row class moves the probe a lot from one training set to the next,
     /// the fold differences spread more than test-row noise explains, and this keeps that.
     CvCltFolds,
@@ -243,7 +247,17 @@ pub fn paired(
                             } else {
                                 se
                             };
-                            cv_clt::interval_with_folds(delta, se, single, v[j], k, level)
+                            let (n_train, n_test) = corrected_t::mean_sizes(folds);
+                            let overlap = 1.0 + (k - 1.0) * n_test / n_train;
+                            cv_clt::interval_with_folds(
+                                delta,
+                                se,
+                                single,
+                                v[j] * overlap,
+                                overlap,
+                                k,
+                                level,
+                            )
                         }
                         None => cv_clt::interval(delta, se, level),
                     }
