@@ -105,8 +105,10 @@ pub fn interval(delta: f64, se: f64, level: f64) -> Option<(f64, f64, f64)> {
         return None;
     }
     let z = normal_quantile(1.0 - (1.0 - level) / 2.0);
-    let p = 2.0 * normal_cdf(-(delta / se).abs());
-    Some((delta - z * se, delta + z * se, p.min(1.0)))
+    // A real but enormous effect can underflow the tail; the smallest positive double keeps
+    // "p = 0" from ever being printed.
+    let p = (2.0 * normal_cdf(-(delta / se).abs())).clamp(f64::MIN_POSITIVE, 1.0);
+    Some((delta - z * se, delta + z * se, p))
 }
 
 /// Per metric, the root mean over repeats of each repeat's own squared standard error: the
@@ -166,6 +168,6 @@ pub fn interval_with_folds(
     let df = ((k - 1.0) * (var / excess).powi(2)).min(1e6);
     let se = var.sqrt();
     let q = t_quantile(1.0 - (1.0 - level) / 2.0, df);
-    let p = 2.0 * t_cdf(-(delta / se).abs(), df);
-    Some((delta - q * se, delta + q * se, p.min(1.0)))
+    let p = (2.0 * t_cdf(-(delta / se).abs(), df)).clamp(f64::MIN_POSITIVE, 1.0);
+    Some((delta - q * se, delta + q * se, p))
 }

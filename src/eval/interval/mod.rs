@@ -30,11 +30,12 @@ pub enum IntervalKind {
     /// Corrected resampled t over the per-fold differences (Nadeau & Bengio 2003); over
     /// k folds × r repeats this is the corrected repeated k-fold test of Bouckaert & Frank
     /// (2004): variance (1/(k·r) + n_test/n_train)·s², t with k·r − 1 degrees of freedom.
+    /// The default: in the coverage study it is the only kind never below 93% coverage.
+    #[default]
     CorrectedT,
     /// Cross-validation central-limit interval (Bayle, Bayle, Janson & Mackey 2020) from the
     /// per-test-row differences pooled over folds; non-linear scores use the bootstrap's
     /// standard error in the same normal interval.
-    #[default]
     CvClt,
     /// Paired percentile bootstrap over test rows, resampled within folds and classes.
     Bootstrap,
