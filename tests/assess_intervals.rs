@@ -24,7 +24,9 @@ fn separated() -> Dataset {
         for r in 0..s {
             for j in 0..4 {
                 let jitter = (((r * 7 + j * 13) % 11) as f32 / 11.0) - 0.5;
-                x[[i, j]] = if j == c % 4 { 100.0 } else { 0.0 } + if c == 3 { -100.0 } else { 0.0 } + jitter;
+                x[[i, j]] = if j == c % 4 { 100.0 } else { 0.0 }
+                    + if c == 3 { -100.0 } else { 0.0 }
+                    + jitter;
             }
             labels.push(c as u32);
             i += 1;
@@ -87,7 +89,9 @@ fn zero_spread_prints_no_interval_and_warns() {
         );
         assert!(row.p_value.is_nan() && row.delta_ci_low.is_nan(), "{kind}");
         assert!(
-            r.warnings.iter().any(|w| w.contains("exactly zero") && w.contains("balanced accuracy")),
+            r.warnings
+                .iter()
+                .any(|w| w.contains("exactly zero") && w.contains("balanced accuracy")),
             "{kind}: {:?}",
             r.warnings
         );
@@ -105,7 +109,10 @@ fn zero_spread_prints_no_interval_and_warns() {
         );
         // Nothing is reported as significant anywhere.
         for s in &r.summary {
-            assert!(!(s.delta_ci_low > 0.0 || s.delta_ci_high < 0.0), "{kind}: {s:?}");
+            assert!(
+                !(s.delta_ci_low > 0.0 || s.delta_ci_high < 0.0),
+                "{kind}: {s:?}"
+            );
             assert!(s.p_value.is_nan() || (s.p_value > 0.0 && s.p_value <= 1.0));
         }
         // results.json carries the reason and the folds with a value.

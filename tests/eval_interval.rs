@@ -89,9 +89,19 @@ fn cv_clt_matches_the_numpy_transcription() {
     // Bayle et al. (2020) per-row CLT, stratified per class; scipy.stats.norm, via
     // tests/reference/eval_interval.py.
     for case in fixture()["cases"].as_array().unwrap() {
-        check(IntervalKind::CvClt, PooledMetric::BalancedAccuracy, case, "cv_clt");
+        check(
+            IntervalKind::CvClt,
+            PooledMetric::BalancedAccuracy,
+            case,
+            "cv_clt",
+        );
         let grown: Vec<u32> = list(&case["grown"]);
-        check(IntervalKind::CvClt, PooledMetric::Recall(grown), case, "grown_cv_clt");
+        check(
+            IntervalKind::CvClt,
+            PooledMetric::Recall(grown),
+            case,
+            "grown_cv_clt",
+        );
     }
 }
 
@@ -99,7 +109,12 @@ fn cv_clt_matches_the_numpy_transcription() {
 fn cv_clt_folds_matches_the_scipy_transcription() {
     // Variance floored at the fold-level one, Welch–Satterthwaite df, scipy.stats.t; same script.
     for case in fixture()["cases"].as_array().unwrap() {
-        check(IntervalKind::CvCltFolds, PooledMetric::BalancedAccuracy, case, "cv_clt_folds");
+        check(
+            IntervalKind::CvCltFolds,
+            PooledMetric::BalancedAccuracy,
+            case,
+            "cv_clt_folds",
+        );
     }
 }
 
@@ -108,7 +123,12 @@ fn corrected_t_matches_the_scipy_transcription() {
     // Nadeau & Bengio (2003) on per-fold balanced-accuracy differences (scikit-learn's
     // balanced_accuracy_score per fold); same script.
     for case in fixture()["cases"].as_array().unwrap() {
-        check(IntervalKind::CorrectedT, PooledMetric::BalancedAccuracy, case, "corrected_t");
+        check(
+            IntervalKind::CorrectedT,
+            PooledMetric::BalancedAccuracy,
+            case,
+            "corrected_t",
+        );
     }
 }
 
@@ -133,7 +153,11 @@ fn pooled_scores_match_scikit_learn() {
             .iter()
             .zip(["macro_f1", "balanced_accuracy", "precision_0", "f1_last"])
         {
-            assert!(close(g.method, num(&want[key]), 1e-12), "{key}: {}", g.method);
+            assert!(
+                close(g.method, num(&want[key]), 1e-12),
+                "{key}: {}",
+                g.method
+            );
         }
     }
 }
@@ -199,8 +223,15 @@ fn constant_fold_deltas_give_no_interval_never_p_zero() {
     for kind in IntervalKind::ALL {
         let e = &paired(kind, &f, &[PooledMetric::Recall(vec![1])], 2, 0.95, 3)[0];
         assert_eq!(e.delta, 1.0, "{kind}");
-        assert_eq!(e.no_interval, Some(NoInterval::NoVariation { folds: 5 }), "{kind}");
-        assert!(e.low.is_nan() && e.high.is_nan() && e.p_value.is_nan(), "{kind}");
+        assert_eq!(
+            e.no_interval,
+            Some(NoInterval::NoVariation { folds: 5 }),
+            "{kind}"
+        );
+        assert!(
+            e.low.is_nan() && e.high.is_nan() && e.p_value.is_nan(),
+            "{kind}"
+        );
         assert!(!e.significant(), "{kind}");
         assert_eq!(
             e.no_interval.as_ref().unwrap().to_string(),
@@ -223,7 +254,11 @@ fn one_fold_with_a_value_gives_no_interval() {
     for kind in IntervalKind::ALL {
         let e = &paired(kind, &f, &[PooledMetric::Recall(vec![1])], 2, 0.95, 3)[0];
         assert_eq!(e.folds, 1, "{kind}: folds with a value, not folds run");
-        assert_eq!(e.no_interval, Some(NoInterval::TooFewFolds { folds: 1 }), "{kind}");
+        assert_eq!(
+            e.no_interval,
+            Some(NoInterval::TooFewFolds { folds: 1 }),
+            "{kind}"
+        );
         assert!(e.p_value.is_nan() && !e.significant());
     }
 }
@@ -254,6 +289,10 @@ fn varied_deltas_give_an_interval_with_p_strictly_inside() {
         let e = &paired(kind, &f, &[PooledMetric::BalancedAccuracy], 2, 0.95, 3)[0];
         assert!(e.no_interval.is_none(), "{kind}: {:?}", e.no_interval);
         assert!(e.low < e.high, "{kind}");
-        assert!(e.p_value > 0.0 && e.p_value < 1.0, "{kind}: p {}", e.p_value);
+        assert!(
+            e.p_value > 0.0 && e.p_value < 1.0,
+            "{kind}: p {}",
+            e.p_value
+        );
     }
 }

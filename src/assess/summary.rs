@@ -81,7 +81,11 @@ impl<'a> Aggregate<'a> {
                 .collect();
             let stream_seed = seed::stream(
                 seed,
-                &[seed::tag("interval"), seed::tag(&methods[m]), seed::tag(&probes[p])],
+                &[
+                    seed::tag("interval"),
+                    seed::tag(&methods[m]),
+                    seed::tag(&probes[p]),
+                ],
             )
             .next_u64();
             let estimates =
@@ -144,9 +148,21 @@ impl<'a> Aggregate<'a> {
         };
         let est = PairedEstimate {
             delta: iv.mean,
-            low: if no_interval.is_some() { f64::NAN } else { iv.low },
-            high: if no_interval.is_some() { f64::NAN } else { iv.high },
-            p_value: if no_interval.is_some() { f64::NAN } else { iv.p_value },
+            low: if no_interval.is_some() {
+                f64::NAN
+            } else {
+                iv.low
+            },
+            high: if no_interval.is_some() {
+                f64::NAN
+            } else {
+                iv.high
+            },
+            p_value: if no_interval.is_some() {
+                f64::NAN
+            } else {
+                iv.p_value
+            },
             folds: n,
             no_interval,
             zero_folds: zero,

@@ -13,7 +13,9 @@ pub mod protocol;
 pub mod stats;
 
 pub use diagnostics::{ClassDiagnostics, PRDC_K, Prdc, TrainingRows, class_diagnostics, prdc};
+pub use interval::{
+    IntervalKind, NoInterval, PairedEstimate, PairedFold, PooledMetric, TestOutcome,
+};
 pub use metrics::{ClassScores, Scores, ece, grown_class_recall, log_loss, score};
 pub use protocol::{Fold, SplitKind, make_folds, thin_classes};
 pub use stats::{Interval, corrected_paired_t, t_cdf, t_quantile};
-pub use interval::{IntervalKind, NoInterval, PairedEstimate, PairedFold, PooledMetric, TestOutcome};

@@ -22,7 +22,9 @@ fn main() {
         "{datasets} data sets per configuration; truth from {train_sets} fresh training sets × {test_per_class} test rows per class"
     );
     println!();
-    println!("| configuration | protocol | truth (MC se) | interval | bias | coverage [95% Wilson] | no interval | excludes 0 | width ratio | degenerate printed |");
+    println!(
+        "| configuration | protocol | truth (MC se) | interval | bias | coverage [95% Wilson] | no interval | excludes 0 | width ratio | degenerate printed |"
+    );
     println!("|---|---|---|---|---|---|---|---|---|---|");
     for w in sim::worlds() {
         let truth = sim::truth(&w, 5, train_sets, test_per_class, 11);

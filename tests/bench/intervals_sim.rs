@@ -18,7 +18,7 @@ use embloom::cmd::options::UnitNorm;
 use embloom::eval::IntervalKind;
 use embloom::neighbors::{self, Metric};
 use embloom::probe::{KnnParams, KnnProbe, LinearParams, ProbeKind};
-use ndarray::{Array2, concatenate, Axis};
+use ndarray::{Array2, Axis, concatenate};
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 use rand_distr::StandardNormal;
@@ -123,7 +123,13 @@ pub struct Truth {
 
 /// Truth by Monte Carlo over `train_sets` fresh training sets of the size a fold of `folds`
 /// trains on, each scored on `test_per_class` fresh rows per class.
-pub fn truth(w: &World, folds: usize, train_sets: usize, test_per_class: usize, seed: u64) -> Truth {
+pub fn truth(
+    w: &World,
+    folds: usize,
+    train_sets: usize,
+    test_per_class: usize,
+    seed: u64,
+) -> Truth {
     let mu = means(w);
     let names = class_names(w);
     let only: Option<Vec<u32>> = w.only.as_ref().map(|o| {
@@ -162,7 +168,9 @@ pub fn truth(w: &World, folds: usize, train_sets: usize, test_per_class: usize, 
                         .iter()
                         .zip(&pred)
                         .filter(|(t, _)| **t == c)
-                        .fold((0.0, 0.0), |(h, a), (t, p)| (h + f64::from(u8::from(t == p)), a + 1.0));
+                        .fold((0.0, 0.0), |(h, a), (t, p)| {
+                            (h + f64::from(u8::from(t == p)), a + 1.0)
+                        });
                     hit / all
                 };
                 let classes: Vec<u32> = if w.metric == "grown_class_recall" {
@@ -239,7 +247,14 @@ pub fn wilson(k: usize, n: usize) -> (f64, f64) {
 }
 
 /// Assess `datasets` simulated data sets of `w` and tally every interval kind against `truth`.
-pub fn run(w: &World, truth: Truth, datasets: usize, folds: usize, repeats: usize, seed: u64) -> Vec<Tally> {
+pub fn run(
+    w: &World,
+    truth: Truth,
+    datasets: usize,
+    folds: usize,
+    repeats: usize,
+    seed: u64,
+) -> Vec<Tally> {
     let mu = means(w);
     let cfg = AssessConfig {
         methods: vec![MethodKind::None, w.method],
@@ -332,4 +347,3 @@ pub fn run(w: &World, truth: Truth, datasets: usize, folds: usize, repeats: usiz
         })
         .collect()
 }
-

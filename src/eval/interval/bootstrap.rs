@@ -39,7 +39,10 @@ pub fn replicates(
             if let std::collections::hash_map::Entry::Vacant(e) = local.entry(row) {
                 e.insert(next);
                 // Rows first met outside the first repeat (none in k-fold) get their own class cell.
-                cells.entry((cell_fold, usize::from(cell_fold == 0), t)).or_default().push(next);
+                cells
+                    .entry((cell_fold, usize::from(cell_fold == 0), t))
+                    .or_default()
+                    .push(next);
             }
         }
     }

@@ -3,8 +3,8 @@
 //! is the corrected repeated k-fold test of Bouckaert & Frank (2004, "Evaluating the
 //! Replicability of Significance Tests for Comparing Learning Algorithms", PAKDD).
 
-use super::counts::{ClassCounts, PooledMetric};
 use super::PairedFold;
+use super::counts::{ClassCounts, PooledMetric};
 use crate::eval::stats::corrected_paired_t;
 
 /// Per metric, the finite per-fold differences (method − baseline), in fold order.
@@ -38,7 +38,11 @@ pub fn fold_differences(
 pub fn mean_sizes(folds: &[PairedFold]) -> (f64, f64) {
     let n = folds.len().max(1) as f64;
     let train = folds.iter().map(|f| f.train_rows as f64).sum::<f64>() / n;
-    let test = folds.iter().map(|f| f.method.labels.len() as f64).sum::<f64>() / n;
+    let test = folds
+        .iter()
+        .map(|f| f.method.labels.len() as f64)
+        .sum::<f64>()
+        / n;
     (train, test)
 }
 

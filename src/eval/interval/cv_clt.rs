@@ -21,7 +21,11 @@ use super::normal::{normal_cdf, normal_quantile};
 use crate::eval::stats::{t_cdf, t_quantile};
 
 /// Standard error of each row-linear metric's pooled difference (NaN for the others).
-pub fn standard_errors(folds: &[PairedFold], metrics: &[PooledMetric], n_classes: usize) -> Vec<f64> {
+pub fn standard_errors(
+    folds: &[PairedFold],
+    metrics: &[PooledMetric],
+    n_classes: usize,
+) -> Vec<f64> {
     // Per input row: (sum of differences over repeats, times tested, class).
     let mut rows: HashMap<usize, (f64, f64, u32)> = HashMap::new();
     for f in folds {
@@ -123,7 +127,10 @@ pub fn single_repeat_errors(
     let mut used = vec![0.0; metrics.len()];
     for r in 0..repeats {
         let one: Vec<PairedFold> = folds.iter().filter(|f| f.repeat == r).copied().collect();
-        for (j, se) in standard_errors(&one, metrics, n_classes).into_iter().enumerate() {
+        for (j, se) in standard_errors(&one, metrics, n_classes)
+            .into_iter()
+            .enumerate()
+        {
             if se.is_finite() {
                 sum[j] += se * se;
                 used[j] += 1.0;
@@ -152,7 +159,11 @@ pub fn interval_with_folds(
     level: f64,
 ) -> Option<(f64, f64, f64)> {
     let row = if se.is_finite() { se * se } else { 0.0 };
-    let single = if single.is_finite() { single * single } else { row };
+    let single = if single.is_finite() {
+        single * single
+    } else {
+        row
+    };
     let excess = if between.is_finite() {
         (between - overlap * single).max(0.0)
     } else {

@@ -119,10 +119,18 @@ impl std::fmt::Display for NoInterval {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
         match self {
             NoInterval::TooFewFolds { folds } => {
-                write!(f, "no interval ({folds} fold{} with a value)", plural(*folds))
+                write!(
+                    f,
+                    "no interval ({folds} fold{} with a value)",
+                    plural(*folds)
+                )
             }
             NoInterval::NoVariation { folds } => {
-                write!(f, "no interval ({folds} fold{}, no variation)", plural(*folds))
+                write!(
+                    f,
+                    "no interval ({folds} fold{}, no variation)",
+                    plural(*folds)
+                )
             }
             NoInterval::FewTestRows { per_fold } => write!(
                 f,
@@ -215,18 +223,30 @@ pub fn paired(
                 _ => pooled[j],
             };
             if n < 2 {
-                return PairedEstimate::without(delta, n, zero, NoInterval::TooFewFolds { folds: n });
+                return PairedEstimate::without(
+                    delta,
+                    n,
+                    zero,
+                    NoInterval::TooFewFolds { folds: n },
+                );
             }
             if metric.is_class_figure() && per_fold[j] < MIN_TEST_ROWS_PER_FOLD {
                 return PairedEstimate::without(
                     delta,
                     n,
                     zero,
-                    NoInterval::FewTestRows { per_fold: per_fold[j] },
+                    NoInterval::FewTestRows {
+                        per_fold: per_fold[j],
+                    },
                 );
             }
             if diffs.iter().all(|&d| d == diffs[0]) {
-                return PairedEstimate::without(delta, n, zero, NoInterval::NoVariation { folds: n });
+                return PairedEstimate::without(
+                    delta,
+                    n,
+                    zero,
+                    NoInterval::NoVariation { folds: n },
+                );
             }
             let bounds = match kind {
                 IntervalKind::CorrectedT => {
@@ -237,7 +257,8 @@ pub fn paired(
                     let se = if metric.is_row_linear() {
                         clt.as_ref().map_or(f64::NAN, |s| s[j])
                     } else {
-                        boot.as_ref().map_or(f64::NAN, |b| bootstrap::std_dev(&b[j]))
+                        boot.as_ref()
+                            .map_or(f64::NAN, |b| bootstrap::std_dev(&b[j]))
                     };
                     match &between {
                         Some(v) => {
@@ -277,7 +298,9 @@ pub fn paired(
                     no_interval: None,
                     zero_folds: zero,
                 },
-                None => PairedEstimate::without(delta, n, zero, NoInterval::NoVariation { folds: n }),
+                None => {
+                    PairedEstimate::without(delta, n, zero, NoInterval::NoVariation { folds: n })
+                }
             }
         })
         .collect()
