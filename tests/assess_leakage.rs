@@ -49,6 +49,7 @@ fn config() -> AssessConfig {
             ..KnnParams::default()
         },
         linear: LinearParams::default(),
+        interval: embloom::eval::IntervalKind::default(),
         seed: 5,
         diagnostics: true,
         progress: false,

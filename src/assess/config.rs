@@ -5,6 +5,7 @@ use serde::Serialize;
 use crate::augment::{AugmentParams, MethodKind, Target};
 use crate::cmd::options::UnitNorm;
 use crate::error::{Error, Result};
+use crate::eval::interval::IntervalKind;
 use crate::probe::KnnParams;
 use crate::probe::LinearParams;
 use crate::probe::ProbeKind;
@@ -27,6 +28,8 @@ pub struct AssessConfig {
     pub knn: KnnParams,
     pub linear: LinearParams,
     pub seed: u64,
+    /// How the intervals of paired differences are computed.
+    pub interval: IntervalKind,
     /// Compute intrusion / distance / PRDC diagnostics.
     pub diagnostics: bool,
     /// Draw a progress bar on stderr.

@@ -12,5 +12,5 @@ mod sweep;
 pub use config::AssessConfig;
 pub use results::{AssessResults, InputInfo};
 pub use run::{assess, assess_with};
-pub use summary::LEVEL;
+pub use summary::{LEVEL, summary_with};
 pub use sweep::{Knob, SweepPoint, SweepResults, sweep};

@@ -4,6 +4,8 @@
 use serde::ser::SerializeMap;
 use serde::{Serialize, Serializer};
 
+use crate::eval::interval::TestOutcome;
+
 /// The input file an assessment ran on.
 #[derive(Debug, Clone, Serialize)]
 pub struct InputInfo {
@@ -33,6 +35,10 @@ pub struct FoldRecord {
     pub class_recall: Vec<f64>,
     /// Linear probe only: whether L-BFGS met its tolerance.
     pub converged: Option<bool>,
+    /// Every test row's input row, true class and prediction: what the row-level intervals
+    /// and the pooled scores are computed from (not written out).
+    #[serde(skip)]
+    pub outcome: TestOutcome,
 }
 
 /// A method's mean on one metric and its paired difference against `none`.
@@ -46,7 +52,11 @@ pub struct SummaryRow {
     pub delta_ci_low: f64,
     pub delta_ci_high: f64,
     pub p_value: f64,
+    /// Folds in which the figure had a value for both the method and `none`.
     pub folds: usize,
+    /// Why there is no interval (bounds and p are then empty), e.g. "no interval (5 folds, no
+    /// variation)".
+    pub no_interval: Option<String>,
 }
 
 /// One class's recall under a method and probe, with its paired difference against `none`.
@@ -57,11 +67,18 @@ pub struct ClassRow {
     pub class: String,
     pub grown: bool,
     pub recall_mean: f64,
+    /// Precision and F1 of the class from the confusion counts pooled over each repeat's test
+    /// folds (Forman & Scholz 2010), averaged over repeats.
+    pub precision_pooled: f64,
+    pub f1_pooled: f64,
     pub delta_mean: f64,
     pub delta_ci_low: f64,
     pub delta_ci_high: f64,
     pub p_value: f64,
+    /// Folds in which the class had test rows (so a recall) under both method and `none`.
     pub folds: usize,
+    /// Why there is no interval, when there is none.
+    pub no_interval: Option<String>,
 }
 
 /// Where a method's synthetic rows of one grown class sit, averaged over folds.

@@ -17,6 +17,7 @@ use crate::cmd::options::class_indices;
 use crate::data::{Dataset, RowIndex};
 use crate::error::{Error, Result};
 use crate::eval::diagnostics::{TrainingRows, class_diagnostics};
+use crate::eval::interval::TestOutcome;
 use crate::eval::metrics::{ece, grown_class_recall, log_loss, score};
 use crate::eval::protocol::{Fold, make_folds};
 use crate::neighbors;
@@ -179,8 +180,16 @@ pub fn assess_with(
     let methods: Vec<String> = cfg.methods.iter().map(|m| m.name().to_string()).collect();
     let probes: Vec<String> = cfg.probes.iter().map(|p| p.name().to_string()).collect();
     let (summary_rows, per_class, sentences) = {
-        let agg =
-            summary::Aggregate::new(&records, &methods, &probes, &ds.classes, &grown_anywhere);
+        let agg = summary::Aggregate::new(
+            &records,
+            &methods,
+            &probes,
+            &ds.classes,
+            &grown_anywhere,
+            cfg.interval,
+            cfg.seed,
+        );
+        warnings.extend(agg.warnings());
         (agg.summary(), agg.per_class(), agg.sentences())
     };
     Ok(AssessResults {
@@ -290,6 +299,11 @@ impl<'a> FoldContext<'a> {
                 .map(|c| if c.support > 0 { c.recall } else { f64::NAN })
                 .collect(),
             converged,
+            outcome: TestOutcome {
+                rows: self.fold.test.clone(),
+                labels: self.test.labels.clone(),
+                pred: pred.to_vec(),
+            },
         }
     }
 

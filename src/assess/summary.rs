@@ -1,16 +1,48 @@
 //! From per-fold records to paired differences against `none`, per metric and per class.
+//!
+//! Accuracy, balanced accuracy, macro-F1, grown-class recall and the per-class figures are
+//! computed from the test rows pooled over each repeat's folds (for F1 the pooled confusion
+//! counts, as Forman & Scholz 2010 recommend: fold-averaged F1 is biased on small folds), and
+//! their intervals come from the chosen [`IntervalKind`]. Log loss and ECE stay fold averages
+//! with the corrected t over folds (they need the per-row probabilities, which are not kept).
 
 use std::collections::{BTreeMap, BTreeSet};
 
-use super::results::{ClassRow, DiagnosticRow, FoldRecord, SummaryRow};
-use crate::eval::stats::{Interval, corrected_paired_t};
+use rand::RngCore;
+
+use super::results::{AssessResults, ClassRow, DiagnosticRow, FoldRecord, SummaryRow};
+use crate::eval::interval::counts_pooled;
+use crate::eval::interval::{
+    self, IntervalKind, NoInterval, PairedEstimate, PairedFold, PooledMetric,
+};
+use crate::eval::stats::corrected_paired_t;
+use crate::seed;
 
 /// Confidence level of every interval embloom reports.
 pub const LEVEL: f64 = 0.95;
 
+/// The row-pooled metrics of the summary table, in the order the fold records list them.
+const POOLED_NAMES: [&str; 4] = [
+    "accuracy",
+    "balanced_accuracy",
+    "macro_f1",
+    "grown_class_recall",
+];
+
+/// A warning is given when more than this share of a figure's fold differences is exactly 0.
+const MOSTLY_ZERO: f64 = 0.5;
+
+/// Estimates of one method × probe against the baseline.
+struct Compared {
+    /// Per pooled metric: the method's pooled score and the paired estimate.
+    values: Vec<f64>,
+    estimates: Vec<PairedEstimate>,
+}
+
 /// Fold records grouped by method and probe, in fold order.
 pub struct Aggregate<'a> {
     by_pair: BTreeMap<(usize, usize), Vec<&'a FoldRecord>>,
+    compared: BTreeMap<(usize, usize), Compared>,
     methods: &'a [String],
     probes: &'a [String],
     classes: &'a [String],
@@ -24,6 +56,8 @@ impl<'a> Aggregate<'a> {
         probes: &'a [String],
         classes: &'a [String],
         grown: &'a BTreeSet<u32>,
+        kind: IntervalKind,
+        seed: u64,
     ) -> Self {
         let mut by_pair: BTreeMap<(usize, usize), Vec<&FoldRecord>> = BTreeMap::new();
         for r in records {
@@ -31,8 +65,40 @@ impl<'a> Aggregate<'a> {
             let p = probes.iter().position(|x| *x == r.probe).unwrap_or(0);
             by_pair.entry((m, p)).or_default().push(r);
         }
+        let metrics = pooled_metrics(classes.len(), grown);
+        let mut compared = BTreeMap::new();
+        for (&(m, p), this) in &by_pair {
+            let base = by_pair.get(&(0, p)).map_or(&[][..], |v| v.as_slice());
+            let folds: Vec<PairedFold> = this
+                .iter()
+                .zip(base)
+                .map(|(a, b)| PairedFold {
+                    repeat: a.repeat,
+                    train_rows: a.train_real,
+                    method: &a.outcome,
+                    baseline: &b.outcome,
+                })
+                .collect();
+            let stream_seed = seed::stream(
+                seed,
+                &[
+                    seed::tag("interval"),
+                    seed::tag(&methods[m]),
+                    seed::tag(&probes[p]),
+                ],
+            )
+            .next_u64();
+            let estimates =
+                interval::paired(kind, &folds, &metrics, classes.len(), LEVEL, stream_seed);
+            let values = counts_pooled(&folds, &metrics, classes.len())
+                .into_iter()
+                .map(|v| v.method)
+                .collect();
+            compared.insert((m, p), Compared { values, estimates });
+        }
         Aggregate {
             by_pair,
+            compared,
             methods,
             probes,
             classes,
@@ -44,30 +110,75 @@ impl<'a> Aggregate<'a> {
         self.by_pair.get(&(m, p)).map_or(&[], |v| v.as_slice())
     }
 
-    /// Paired comparison of `value` between method `m` and the baseline (method 0) on probe `p`.
-    fn compare(&self, m: usize, p: usize, value: impl Fn(&FoldRecord) -> f64) -> (f64, Interval) {
+    /// The pooled score and paired estimate of pooled metric `j`.
+    fn pooled(&self, m: usize, p: usize, j: usize) -> Option<(f64, &PairedEstimate)> {
+        self.compared
+            .get(&(m, p))
+            .map(|c| (c.values[j], &c.estimates[j]))
+    }
+
+    /// Fold-averaged value and corrected-t estimate of a metric kept only per fold.
+    fn fold_level(&self, m: usize, p: usize, name: &str) -> (f64, PairedEstimate) {
         let base = self.records(0, p);
         let this = self.records(m, p);
         let vals: Vec<f64> = this
             .iter()
-            .map(|r| value(r))
+            .map(|r| metric(r, name))
             .filter(|v| v.is_finite())
             .collect();
-        let mean = if vals.is_empty() {
-            f64::NAN
-        } else {
-            vals.iter().sum::<f64>() / vals.len() as f64
-        };
+        let mean = mean(&vals);
         let diffs: Vec<f64> = this
             .iter()
             .zip(base)
-            .map(|(a, b)| value(a) - value(b))
+            .map(|(a, b)| metric(a, name) - metric(b, name))
             .filter(|d| d.is_finite())
             .collect();
+        let n = diffs.len();
+        let zero = diffs.iter().filter(|&&d| d == 0.0).count();
         let n_train =
             this.iter().map(|r| r.train_real as f64).sum::<f64>() / this.len().max(1) as f64;
         let n_test = this.iter().map(|r| r.test as f64).sum::<f64>() / this.len().max(1) as f64;
-        (mean, corrected_paired_t(&diffs, n_train, n_test, LEVEL))
+        let iv = corrected_paired_t(&diffs, n_train, n_test, LEVEL);
+        let no_interval = if n < 2 {
+            Some(NoInterval::TooFewFolds { folds: n })
+        } else if !(iv.low.is_finite() && iv.high.is_finite()) {
+            Some(NoInterval::NoVariation { folds: n })
+        } else {
+            None
+        };
+        let est = PairedEstimate {
+            delta: iv.mean,
+            low: if no_interval.is_some() {
+                f64::NAN
+            } else {
+                iv.low
+            },
+            high: if no_interval.is_some() {
+                f64::NAN
+            } else {
+                iv.high
+            },
+            p_value: if no_interval.is_some() {
+                f64::NAN
+            } else {
+                iv.p_value
+            },
+            folds: n,
+            no_interval,
+            zero_folds: zero,
+        };
+        (mean, est)
+    }
+
+    /// The method's value and paired estimate of the summary metric `name`.
+    fn estimate(&self, m: usize, p: usize, name: &str) -> (f64, PairedEstimate) {
+        match POOLED_NAMES.iter().position(|n| *n == name) {
+            Some(j) => self
+                .pooled(m, p, j)
+                .map(|(v, e)| (v, e.clone()))
+                .unwrap_or_else(|| self.fold_level(m, p, name)),
+            None => self.fold_level(m, p, name),
+        }
     }
 
     /// One row per method, probe and metric.
@@ -81,17 +192,18 @@ impl<'a> Aggregate<'a> {
                 .unwrap_or_default();
             for m in 0..self.methods.len() {
                 for name in &metric_names {
-                    let (mean, iv) = self.compare(m, p, |r| metric(r, name));
+                    let (mean, iv) = self.estimate(m, p, name);
                     rows.push(SummaryRow {
                         method: self.methods[m].clone(),
                         probe: self.probes[p].clone(),
                         metric: name.clone(),
                         mean,
-                        delta_mean: iv.mean,
+                        delta_mean: iv.delta,
                         delta_ci_low: iv.low,
                         delta_ci_high: iv.high,
                         p_value: iv.p_value,
-                        folds: self.records(m, p).len(),
+                        folds: iv.folds,
+                        no_interval: iv.no_interval.as_ref().map(|r| r.to_string()),
                     });
                 }
             }
@@ -101,23 +213,30 @@ impl<'a> Aggregate<'a> {
 
     /// One row per method, probe and class: the class's recall and its paired difference.
     pub fn per_class(&self) -> Vec<ClassRow> {
+        let c_n = self.classes.len();
         let mut rows = Vec::new();
         for p in 0..self.probes.len() {
             for m in 0..self.methods.len() {
                 for (c, name) in self.classes.iter().enumerate() {
-                    let (mean, iv) =
-                        self.compare(m, p, |r| r.class_recall.get(c).copied().unwrap_or(f64::NAN));
+                    let (recall, iv) = self
+                        .pooled(m, p, POOLED_NAMES.len() + c)
+                        .map(|(v, e)| (v, e.clone()))
+                        .unwrap_or_else(|| (f64::NAN, missing()));
+                    let value = |j: usize| self.pooled(m, p, j).map_or(f64::NAN, |(v, _)| v);
                     rows.push(ClassRow {
                         method: self.methods[m].clone(),
                         probe: self.probes[p].clone(),
                         class: name.clone(),
                         grown: self.grown.contains(&(c as u32)),
-                        recall_mean: mean,
-                        delta_mean: iv.mean,
+                        recall_mean: recall,
+                        precision_pooled: value(POOLED_NAMES.len() + c_n + c),
+                        f1_pooled: value(POOLED_NAMES.len() + 2 * c_n + c),
+                        delta_mean: iv.delta,
                         delta_ci_low: iv.low,
                         delta_ci_high: iv.high,
                         p_value: iv.p_value,
-                        folds: iv.n,
+                        folds: iv.folds,
+                        no_interval: iv.no_interval.as_ref().map(|r| r.to_string()),
                     });
                 }
             }
@@ -125,29 +244,50 @@ impl<'a> Aggregate<'a> {
         rows
     }
 
+    /// Warnings about figures whose fold differences are mostly exactly zero: their interval
+    /// (if any) rests on a handful of test rows.
+    pub fn warnings(&self) -> Vec<String> {
+        let mut out = Vec::new();
+        for (&(m, p), c) in &self.compared {
+            if m == 0 {
+                continue;
+            }
+            let labels = POOLED_NAMES
+                .iter()
+                .map(|n| n.replace('_', " "))
+                .chain(self.classes.iter().map(|n| format!("recall of class {n}")));
+            for (label, e) in labels.zip(&c.estimates) {
+                if e.folds > 0 && e.zero_folds as f64 > MOSTLY_ZERO * e.folds as f64 {
+                    out.push(format!(
+                        "{} with the {} probe: {} of {} fold differences in {} are exactly zero; the estimate rests on very few test rows",
+                        self.methods[m], self.probes[p], e.zero_folds, e.folds, label
+                    ));
+                }
+            }
+        }
+        out
+    }
+
     /// One plain sentence per method and probe.
     pub fn sentences(&self) -> Vec<String> {
         let mut out = Vec::new();
         for p in 0..self.probes.len() {
             for m in 1..self.methods.len() {
-                let (_, ba) = self.compare(m, p, |r| metric(r, "balanced_accuracy"));
-                let (_, gr) = self.compare(m, p, |r| metric(r, "grown_class_recall"));
+                let (_, ba) = self.estimate(m, p, "balanced_accuracy");
+                let (_, gr) = self.estimate(m, p, "grown_class_recall");
                 let mut s = format!(
-                    "With the {} probe, {} changed balanced accuracy by {} (95% interval {} to {}, p {}, {} folds)",
+                    "With the {} probe, {} changed balanced accuracy by {} ({}, {} folds)",
                     self.probes[p],
                     self.methods[m],
-                    signed(ba.mean),
-                    signed(ba.low),
-                    signed(ba.high),
-                    p_text(ba.p_value),
-                    ba.n
+                    signed(ba.delta),
+                    interval_text(&ba),
+                    ba.folds
                 );
-                if gr.n > 0 {
+                if gr.folds > 0 {
                     s += &format!(
-                        " and recall on the grown classes by {} ({} to {})",
-                        signed(gr.mean),
-                        signed(gr.low),
-                        signed(gr.high)
+                        " and recall on the grown classes by {} ({})",
+                        signed(gr.delta),
+                        interval_text(&gr)
                     );
                 }
                 s += &format!("; {}.", verdict(&ba));
@@ -158,6 +298,55 @@ impl<'a> Aggregate<'a> {
             out.push("Synthetic rows are not observations: these estimates come from real held-out rows only, and any probe trained with synthetic rows must be validated on real held-out data before use.".to_string());
         }
         out
+    }
+}
+
+/// The pooled metrics computed for every method × probe: the four summary scores, then recall,
+/// precision and F1 of each class.
+fn pooled_metrics(n_classes: usize, grown: &BTreeSet<u32>) -> Vec<PooledMetric> {
+    let c = 0..n_classes as u32;
+    [
+        PooledMetric::Accuracy,
+        PooledMetric::BalancedAccuracy,
+        PooledMetric::MacroF1,
+        PooledMetric::Recall(grown.iter().copied().collect()),
+    ]
+    .into_iter()
+    .chain(c.clone().map(|c| PooledMetric::Recall(vec![c])))
+    .chain(c.clone().map(PooledMetric::Precision))
+    .chain(c.map(PooledMetric::F1))
+    .collect()
+}
+
+fn missing() -> PairedEstimate {
+    PairedEstimate {
+        delta: f64::NAN,
+        low: f64::NAN,
+        high: f64::NAN,
+        p_value: f64::NAN,
+        folds: 0,
+        no_interval: Some(NoInterval::TooFewFolds { folds: 0 }),
+        zero_folds: 0,
+    }
+}
+
+fn mean(v: &[f64]) -> f64 {
+    if v.is_empty() {
+        f64::NAN
+    } else {
+        v.iter().sum::<f64>() / v.len() as f64
+    }
+}
+
+fn interval_text(e: &PairedEstimate) -> String {
+    match &e.no_interval {
+        Some(why) => why.to_string(),
+        None => format!(
+            "95% interval {} to {}, p {}",
+            signed(e.low),
+            signed(e.high),
+            p_text(e.p_value)
+        ),
     }
 }
 
@@ -186,9 +375,9 @@ fn p_text(p: f64) -> String {
     }
 }
 
-fn verdict(iv: &Interval) -> &'static str {
-    if !(iv.low.is_finite() && iv.high.is_finite()) {
-        "too few folds to judge"
+fn verdict(iv: &PairedEstimate) -> &'static str {
+    if iv.no_interval.is_some() {
+        "no interval, so no judgement"
     } else if iv.low > 0.0 {
         "the interval lies above zero"
     } else if iv.high < 0.0 {
@@ -235,4 +424,25 @@ pub fn average_diagnostics(rows: &[DiagnosticRow]) -> Vec<DiagnosticRow> {
             }
         })
         .collect()
+}
+
+/// The summary rows of a finished assessment with intervals of another kind: the same fold
+/// records, re-summarised (what a comparison of interval methods needs, without refitting).
+pub fn summary_with(results: &AssessResults, kind: IntervalKind) -> Vec<SummaryRow> {
+    let classes = &results.input.classes;
+    let grown: BTreeSet<u32> = results
+        .grown_classes
+        .iter()
+        .filter_map(|g| classes.iter().position(|c| c == g).map(|c| c as u32))
+        .collect();
+    Aggregate::new(
+        &results.folds,
+        &results.methods,
+        &results.probes,
+        classes,
+        &grown,
+        kind,
+        results.seed,
+    )
+    .summary()
 }

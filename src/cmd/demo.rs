@@ -91,6 +91,7 @@ pub fn demo(out: &Path, force: bool, quiet: bool) -> Result<()> {
         unit_norm: UnitNorm::Auto,
         knn: KnnParams::default(),
         linear: LinearParams::default(),
+        interval: crate::eval::IntervalKind::default(),
         seed: DEMO_SEED,
         diagnostics: true,
         progress: show_progress(quiet),

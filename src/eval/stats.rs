@@ -29,8 +29,9 @@ pub struct Interval {
 /// Edge cases, chosen so a report can always print something honest:
 /// - J < 2: `mean` is the mean of what there is (NaN if nothing), `low`, `high` and `p_value`
 ///   are NaN — one fold says nothing about spread.
-/// - s² = 0 (every fold moved by exactly the same amount): the interval collapses to the mean
-///   and p = 1 if the mean is 0, else 0 (the limit of the test as the spread vanishes).
+/// - s² = 0 (every fold moved by exactly the same amount): no interval either (NaN bounds and
+///   p). A zero spread is not evidence of a certain effect: it is what two or three test rows
+///   per fold produce, and a limit of p = 0 or 1 from it would be printed as a finding.
 /// - `level` outside (0, 1), or n_train ≤ 0, n_test < 0, or non-finite inputs: NaN bounds.
 pub fn corrected_paired_t(diffs: &[f64], n_train: f64, n_test: f64, level: f64) -> Interval {
     let j = diffs.len();
@@ -52,13 +53,7 @@ pub fn corrected_paired_t(diffs: &[f64], n_train: f64, n_test: f64, level: f64) 
     }
     let var = diffs.iter().map(|d| (d - mean) * (d - mean)).sum::<f64>() / (j - 1) as f64;
     if var == 0.0 {
-        return Interval {
-            mean,
-            low: mean,
-            high: mean,
-            p_value: if mean == 0.0 { 1.0 } else { 0.0 },
-            n: j,
-        };
+        return nan;
     }
     let se = ((1.0 / j as f64 + n_test / n_train) * var).sqrt();
     let df = (j - 1) as f64;

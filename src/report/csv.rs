@@ -30,6 +30,7 @@ pub fn summary_csv(r: &AssessResults) -> String {
             "delta_ci_high",
             "p_value",
             "folds",
+            "no_interval",
         ]
         .map(Cow::from),
     );
@@ -46,6 +47,7 @@ pub fn summary_csv(r: &AssessResults) -> String {
                 num(s.delta_ci_high),
                 num(s.p_value),
                 s.folds.to_string().into(),
+                text(s.no_interval.as_deref().unwrap_or_default()),
             ],
         );
     }
@@ -63,11 +65,14 @@ pub fn per_class_csv(r: &AssessResults) -> String {
             "class",
             "grown",
             "recall_mean",
+            "precision_pooled",
+            "f1_pooled",
             "delta_mean",
             "delta_ci_low",
             "delta_ci_high",
             "p_value",
             "folds",
+            "no_interval",
         ]
         .map(Cow::from),
     );
@@ -80,11 +85,14 @@ pub fn per_class_csv(r: &AssessResults) -> String {
                 text(&c.class),
                 c.grown.to_string().into(),
                 num(c.recall_mean),
+                num(c.precision_pooled),
+                num(c.f1_pooled),
                 num(c.delta_mean),
                 num(c.delta_ci_low),
                 num(c.delta_ci_high),
                 num(c.p_value),
                 c.folds.to_string().into(),
+                text(c.no_interval.as_deref().unwrap_or_default()),
             ],
         );
     }

@@ -47,6 +47,12 @@ pub fn summary_cell(row: Option<&SummaryRow>) -> String {
     match row {
         None => MISSING.to_string(),
         Some(s) if s.method == BASELINE => value(s.mean),
+        Some(s) if s.delta_mean.is_finite() && s.no_interval.is_some() => format!(
+            "{} (Δ {} {})",
+            value(s.mean),
+            signed(s.delta_mean),
+            s.no_interval.as_deref().unwrap_or_default()
+        ),
         Some(s) => interval_cell(s.mean, s.delta_mean, s.delta_ci_low, s.delta_ci_high),
     }
 }
