@@ -8,7 +8,6 @@
 
 pub mod assess;
 pub mod augment;
-pub mod cmd;
 pub mod data;
 pub mod demo;
 pub mod error;

@@ -4,9 +4,9 @@ use std::path::Path;
 
 use serde::Serialize;
 
-use crate::data::{Dataset, DatasetStats};
-use crate::error::Result;
-use crate::io::{self, ReadOptions};
+use embloom::data::{Dataset, DatasetStats};
+use embloom::error::Result;
+use embloom::io::{self, ReadOptions};
 
 #[derive(Debug, Serialize)]
 pub struct ClassCount {

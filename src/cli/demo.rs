@@ -5,23 +5,15 @@ use std::path::Path;
 use super::assess::AssessOptions;
 use super::grow::GrowOptions;
 use super::inspect::Inspection;
-use super::options::{UnitNorm, show_progress};
-use crate::assess::AssessConfig;
-use crate::augment::{AugmentParams, MethodKind, Target};
-use crate::demo::street_signs;
-use crate::error::{Error, Result};
-use crate::io::{self, AugmentedSet, ReadOptions};
-use crate::probe::KnnParams;
-use crate::probe::LinearParams;
-use crate::probe::ProbeKind;
-
-/// Seed of the shipped demo file `data/street-signs.npz`.
-pub const DEMO_SEED: u64 = 7;
-
-/// The demo dataset as an exportable set (every row real).
-pub fn demo_set() -> AugmentedSet {
-    AugmentedSet::all_real(street_signs(DEMO_SEED))
-}
+use super::progress::show_progress;
+use embloom::assess::AssessConfig;
+use embloom::augment::{AugmentParams, MethodKind, Target, UnitNorm};
+use embloom::demo::{DEMO_SEED, demo_set};
+use embloom::error::{Error, Result};
+use embloom::io::{self, ReadOptions};
+use embloom::probe::KnnParams;
+use embloom::probe::LinearParams;
+use embloom::probe::ProbeKind;
 
 /// Write the demo data to `out` and run the three commands on it.
 pub fn demo(out: &Path, force: bool, quiet: bool) -> Result<()> {
@@ -59,7 +51,7 @@ pub fn demo(out: &Path, force: bool, quiet: bool) -> Result<()> {
         data.display(),
         grown.display()
     );
-    let summary = super::grow::grow(&GrowOptions {
+    let summary = super::grow::execute(&GrowOptions {
         input: data.clone(),
         output: grown,
         read: read.clone(),
@@ -70,7 +62,6 @@ pub fn demo(out: &Path, force: bool, quiet: bool) -> Result<()> {
         unit_norm: UnitNorm::Auto,
         seed: DEMO_SEED,
         force: false,
-        json: false,
         max_memory: None,
     })?;
     print!("{}", summary.render());
@@ -100,17 +91,19 @@ pub fn demo(out: &Path, force: bool, quiet: bool) -> Result<()> {
         linear: LinearParams::default(),
         seed: DEMO_SEED,
         diagnostics: true,
-        progress: show_progress(quiet),
     };
-    let results = super::assess::run(&AssessOptions {
-        input: data,
-        read,
-        config,
-        report: Some(report.clone()),
-        force: false,
-        max_memory: None,
-    })?;
-    print!("{}", crate::report::terminal_table(&results));
+    let results = super::assess::execute(
+        &AssessOptions {
+            input: data,
+            read,
+            config,
+            report: Some(report.clone()),
+            force: false,
+            max_memory: None,
+        },
+        show_progress(quiet),
+    )?;
+    print!("{}", embloom::report::terminal_table(&results));
     println!("\nreport: {}", report.join("report.html").display());
     Ok(())
 }

@@ -1,57 +1,13 @@
-//! Command-line arguments, and their translation into the library's typed options.
+//! Arguments shared by several commands: where the data is, how rows are made, and the
+//! parsers that turn flag text into the library's typed values.
 
 use std::path::PathBuf;
 
-use anyhow::Result;
-use clap::{Args, Parser, Subcommand};
+use clap::Args;
 
-use embloom::augment::{AugmentParams, MethodKind, Target};
-use embloom::cmd::{self, options::UnitNorm};
+use embloom::augment::{AugmentParams, MethodKind, Target, UnitNorm};
 use embloom::io::ReadOptions;
 use embloom::neighbors::{IndexKind, Metric};
-
-/// Feature-space augmentation for embedding matrices: grow rare classes by interpolating,
-/// extrapolating or adding principal-direction noise among same-class rows, and measure
-/// without leakage how each method moves a k-NN or linear probe.
-#[derive(Parser, Debug)]
-#[command(name = "embloom", version, about, long_about = None)]
-pub struct Cli {
-    #[command(subcommand)]
-    pub command: Command,
-    /// Worker threads (default: all cores). Results do not depend on it.
-    #[arg(long, global = true, value_name = "N")]
-    pub threads: Option<usize>,
-    /// No progress bars or summaries on stderr (errors are still printed).
-    #[arg(long, short, global = true)]
-    pub quiet: bool,
-}
-
-#[derive(Subcommand, Debug)]
-pub enum Command {
-    /// Show what is in an embedding file: rows, dims, classes, norms, NaN/Inf, duplicates.
-    Inspect {
-        #[command(flatten)]
-        input: InputArgs,
-        /// Print one JSON object on stdout.
-        #[arg(long)]
-        json: bool,
-    },
-    /// Write an augmented set: every real row, then synthetic rows with provenance.
-    Grow(GrowArgs),
-    /// Compare methods under a leakage-free cross-validation protocol (see `assess --help`).
-    Assess(Box<crate::cli_assess::AssessArgs>),
-    /// Assess one method at several values of one knob, each against `none`.
-    Sweep(Box<crate::cli_assess::SweepArgs>),
-    /// Make the invented street-sign demo data and run inspect, grow and assess on it.
-    Demo {
-        /// Folder for the demo's outputs.
-        #[arg(long, short, default_value = "embloom-demo-out")]
-        out: PathBuf,
-        /// Replace an existing output folder.
-        #[arg(long)]
-        force: bool,
-    },
-}
 
 /// Where the data is and which keys hold it.
 #[derive(Args, Debug, Clone)]
@@ -141,30 +97,6 @@ impl MethodArgs {
     }
 }
 
-#[derive(Args, Debug)]
-pub struct GrowArgs {
-    #[command(flatten)]
-    pub input: InputArgs,
-    /// Output file; its extension picks the format (.npz, .csv, .tsv, .safetensors, .h5).
-    #[arg(long, short)]
-    pub output: PathBuf,
-    /// none, interpolate (SMOTE), extrapolate, principal-noise, gaussian-noise.
-    #[arg(long, value_parser = parse_method)]
-    pub method: MethodKind,
-    #[command(flatten)]
-    pub how: MethodArgs,
-    /// Replace an existing output file.
-    #[arg(long)]
-    pub force: bool,
-    /// Print the summary as JSON on stdout.
-    #[arg(long)]
-    pub json: bool,
-    /// Refuse the job when its estimated peak memory exceeds SIZE (e.g. 4G, 512M); it is
-    /// always refused when it exceeds the memory the system has available.
-    #[arg(long, value_name = "SIZE", value_parser = parse_size)]
-    pub max_memory: Option<u64>,
-}
-
 pub fn parse_size(s: &str) -> Result<u64, String> {
     embloom::memory::parse_size(s).map_err(|e| e.to_string())
 }
@@ -194,56 +126,4 @@ pub fn parse_index(s: &str) -> Result<IndexKind, String> {
             "'{s}' is not a neighbour index; use exact or kdtree"
         )),
     }
-}
-
-/// Run one parsed command.
-pub fn run(cli: Cli) -> Result<()> {
-    if let Some(n) = cli.threads {
-        if n == 0 {
-            anyhow::bail!(
-                "invalid --threads: 0\n  fix: use 1 or more, or leave it out to use all cores"
-            );
-        }
-        rayon::ThreadPoolBuilder::new()
-            .num_threads(n)
-            .build_global()?;
-    }
-    let quiet = cli.quiet;
-    match cli.command {
-        Command::Inspect { input, json } => {
-            cmd::inspect::inspect(&input.file, &input.read_options(), json)?
-        }
-        Command::Grow(g) => {
-            let opts = cmd::grow::GrowOptions {
-                input: g.input.file.clone(),
-                output: g.output.clone(),
-                read: g.input.read_options(),
-                method: g.method,
-                target: g.how.target,
-                classes: g.how.classes.clone(),
-                params: g.how.params(),
-                unit_norm: g.how.unit_norm,
-                seed: g.how.seed,
-                force: g.force,
-                json: g.json,
-                max_memory: g.max_memory,
-            };
-            let summary = cmd::grow::grow(&opts)?;
-            if g.json {
-                println!("{}", serde_json::to_string_pretty(&summary)?);
-            } else if !quiet {
-                eprint!("{}", summary.render());
-            }
-        }
-        Command::Assess(a) => crate::cli_assess::run(*a, quiet)?,
-        Command::Sweep(a) => crate::cli_assess::run_sweep(*a, quiet)?,
-        Command::Demo { out, force } => cmd::demo::demo(&out, force, quiet)?,
-    }
-    // For tests/hardening_memory.rs: the measured peak, to hold the estimate against.
-    if std::env::var_os("EMBLOOM_REPORT_PEAK").is_some()
-        && let Some(peak) = embloom::memory::peak_resident()
-    {
-        eprintln!("embloom-peak-bytes: {peak}");
-    }
-    Ok(())
 }
