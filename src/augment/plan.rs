@@ -140,7 +140,7 @@ mod tests {
 
     #[test]
     fn targets() {
-        // common practice, no source: "grow to the median/largest class" as defined in DESIGN.md.
+        // common practice, no source: "grow to the median/largest class" (median: the upper median class count; largest: the largest count; Nx: a factor of the class's own count).
         let counts = [100, 10, 40, 3];
         assert_eq!(
             Plan::new(&counts, Target::Median, None).add,
