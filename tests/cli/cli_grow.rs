@@ -1,6 +1,6 @@
 //! `embloom grow` end to end: output layout, provenance, determinism, warnings and refusals.
 
-mod common;
+use crate::common;
 
 use common::*;
 
