@@ -4,7 +4,7 @@
 //! The model counts the large buffers each stage holds at once (matrices of f32, parsed CSV
 //! fields, the export image) and takes the largest stage; small per-row bookkeeping is folded
 //! into a per-row allowance and a fixed runtime allowance. It is checked against the measured
-//! peak (VmHWM) in tests/hardening_memory.rs.
+//! peak (VmHWM) in tests/cli/hardening_memory.rs.
 
 use std::path::Path;
 

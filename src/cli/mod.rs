@@ -83,7 +83,7 @@ pub fn run(cli: Cli) -> Result<()> {
         Command::Sweep(a) => sweep::run(*a, quiet)?,
         Command::Demo { out, force } => demo::demo(&out, force, quiet)?,
     }
-    // For tests/hardening_memory.rs: the measured peak, to hold the estimate against.
+    // For tests/cli/hardening_memory.rs: the measured peak, to hold the estimate against.
     if std::env::var_os("EMBLOOM_REPORT_PEAK").is_some()
         && let Some(peak) = embloom::memory::peak_resident()
     {
