@@ -18,6 +18,7 @@ pub mod neighbors;
 pub mod pca;
 pub mod probe;
 pub mod report;
+pub mod rounding;
 pub mod seed;
 
 pub use data::Dataset;

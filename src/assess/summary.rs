@@ -4,6 +4,7 @@ use std::collections::{BTreeMap, BTreeSet};
 
 use super::results::{ClassRow, DiagnosticRow, FoldRecord, SummaryRow};
 use crate::eval::stats::{Interval, corrected_paired_t};
+use crate::rounding::signed;
 
 /// Confidence level of every interval embloom reports.
 pub const LEVEL: f64 = 0.95;
@@ -166,14 +167,6 @@ fn metric(r: &FoldRecord, name: &str) -> f64 {
         .iter()
         .find(|(n, _)| n == name)
         .map_or(f64::NAN, |(_, v)| *v)
-}
-
-fn signed(v: f64) -> String {
-    if v.is_finite() {
-        format!("{v:+.3}")
-    } else {
-        "n/a".to_string()
-    }
 }
 
 fn p_text(p: f64) -> String {
