@@ -1,6 +1,7 @@
 //! The k-nearest-neighbour probe: each test row takes the class its k nearest training rows
 //! vote for.
 
+use super::softmax_loss::lowest_argmax;
 use ndarray::ArrayView2;
 use serde::{Deserialize, Serialize};
 
@@ -129,7 +130,8 @@ impl KnnProbe {
                 let (idx, dist) = knn.row(q);
                 votes.iter_mut().for_each(|v| *v = 0.0);
                 self.accumulate(&idx[..take], &dist[..take], train_y, &mut votes);
-                lowest_argmax(&votes)
+                // The linear probe's rule: the lowest class index among exact ties.
+                lowest_argmax(ndarray::ArrayView1::from(votes.as_slice()))
             })
             .collect()
     }
@@ -167,17 +169,6 @@ impl KnnProbe {
             }
         }
     }
-}
-
-/// Index of the largest value; the lowest index among exact ties (and 0 for an empty slice).
-fn lowest_argmax(values: &[f64]) -> u32 {
-    let mut best = 0usize;
-    for (c, &v) in values.iter().enumerate().skip(1) {
-        if v > values[best] {
-            best = c;
-        }
-    }
-    best as u32
 }
 
 #[cfg(test)]
