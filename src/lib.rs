@@ -8,7 +8,6 @@
 
 pub mod assess;
 pub mod augment;
-pub mod cmd;
 pub mod data;
 pub mod demo;
 pub mod error;
@@ -19,6 +18,7 @@ pub mod neighbors;
 pub mod pca;
 pub mod probe;
 pub mod report;
+pub mod rounding;
 pub mod seed;
 
 pub use data::Dataset;

@@ -1,7 +1,6 @@
 //! The embloom binary: parse arguments into typed options, then make one library call.
 
 mod cli;
-mod cli_assess;
 mod signals;
 
 use std::process::ExitCode;

@@ -4,7 +4,7 @@
 //! The model counts the large buffers each stage holds at once (matrices of f32, parsed CSV
 //! fields, the export image) and takes the largest stage; small per-row bookkeeping is folded
 //! into a per-row allowance and a fixed runtime allowance. It is checked against the measured
-//! peak (VmHWM) in tests/hardening_memory.rs.
+//! peak (VmHWM) in tests/cli/hardening_memory.rs.
 
 use std::path::Path;
 
@@ -119,7 +119,8 @@ pub fn for_grow(
 }
 
 /// Peak of `assess`: the matrix, one fold's train/test copies, the synthetic rows of the
-/// biggest method in that fold, and the linear probe's stacked and standardised copies.
+/// biggest method in that fold, and the linear probe's standardised copy of the real and
+/// synthetic training rows (it reads the two parts in place, so there is no stacked copy).
 pub fn for_assess(
     input: &Path,
     rows: usize,
@@ -131,11 +132,7 @@ pub fn for_assess(
     let folds = folds.max(2);
     let train = rows - rows / folds;
     let syn = synthetic - synthetic / folds;
-    let probe = if linear {
-        2 * matrix(train + syn, dims)
-    } else {
-        0
-    };
+    let probe = if linear { matrix(train + syn, dims) } else { 0 };
     let assess = Estimate::of(vec![
         ("runtime".into(), RUNTIME),
         ("matrix".into(), matrix(rows, dims)),

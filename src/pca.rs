@@ -1,7 +1,7 @@
 //! Principal component analysis by a symmetric eigendecomposition (linfa-linalg's `eigh`),
 //! on whichever of the covariance (d × d) or Gram (n × n) matrix is smaller. Exact, so the
-//! full spectrum is available for "keep 95% of the variance"; linfa-reduction's iterative
-//! truncated SVD is kept for the 2-D report projections.
+//! full spectrum is available for "keep 95% of the variance"; the report's 2-D scatter
+//! projections use the leading two components of the same decomposition.
 
 use linfa_linalg::eigh::Eigh;
 use ndarray::{Array1, Array2, ArrayView2, Axis, s};

@@ -2,8 +2,7 @@
 
 use serde::Serialize;
 
-use crate::augment::{AugmentParams, MethodKind, Target};
-use crate::cmd::options::UnitNorm;
+use crate::augment::{AugmentParams, MethodKind, Target, UnitNorm};
 use crate::error::{Error, Result};
 use crate::eval::interval::IntervalKind;
 use crate::probe::KnnParams;
@@ -32,9 +31,6 @@ pub struct AssessConfig {
     pub interval: IntervalKind,
     /// Compute intrusion / distance / PRDC diagnostics.
     pub diagnostics: bool,
-    /// Draw a progress bar on stderr.
-    #[serde(skip)]
-    pub progress: bool,
 }
 
 impl AssessConfig {

@@ -2,6 +2,7 @@
 //! splits for all (a paired design).
 
 mod config;
+mod input;
 pub mod results;
 mod run;
 mod scatter;
@@ -10,7 +11,8 @@ mod summary;
 mod sweep;
 
 pub use config::AssessConfig;
+pub use input::sha256_of;
 pub use results::{AssessResults, InputInfo};
-pub use run::{assess, assess_with};
+pub use run::{Progress, assess, assess_observed, assess_with, assess_with_observed};
 pub use summary::{LEVEL, summary_with};
 pub use sweep::{Knob, SweepPoint, SweepResults, sweep};

@@ -5,15 +5,12 @@
 use std::collections::BTreeSet;
 use std::time::Instant;
 
-use indicatif::{ProgressBar, ProgressStyle};
 use ndarray::Array2;
 
 use super::config::AssessConfig;
 use super::results::{AssessResults, DiagnosticRow, FoldRecord, InputInfo, WorkCounters};
 use super::{scatter, shared_knn, summary};
-use crate::augment::{self, Augmenter, Grown, MethodKind, Plan};
-use crate::cmd::grow::describe_notes;
-use crate::cmd::options::class_indices;
+use crate::augment::{self, Augmenter, Grown, MethodKind, Plan, class_indices, describe_notes};
 use crate::data::{Dataset, RowIndex};
 use crate::error::{Error, Result};
 use crate::eval::diagnostics::{TrainingRows, class_diagnostics};
@@ -29,14 +26,40 @@ use crate::seed;
 /// Bins of the expected calibration error (Guo et al. 2017 use 15).
 const ECE_BINS: usize = 15;
 
+/// Where the fold loop is, reported before each (fold, method) step so a caller can draw a
+/// bar; the library itself never draws one.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Progress {
+    /// Steps finished so far.
+    pub done: usize,
+    /// Steps in all: folds × methods.
+    pub total: usize,
+    /// The fold about to run, counted from 1.
+    pub fold: usize,
+    /// Folds in all (repeats × folds).
+    pub folds: usize,
+    /// The method about to run on that fold.
+    pub method: MethodKind,
+}
+
 /// Assess the methods of `cfg` on `ds`.
 pub fn assess(ds: &Dataset, cfg: &AssessConfig, input: InputInfo) -> Result<AssessResults> {
+    assess_observed(ds, cfg, input, &mut |_| {})
+}
+
+/// [`assess`], calling `on_progress` before each (fold, method) step.
+pub fn assess_observed(
+    ds: &Dataset,
+    cfg: &AssessConfig,
+    input: InputInfo,
+    on_progress: &mut dyn FnMut(Progress),
+) -> Result<AssessResults> {
     let augmenters = cfg
         .methods
         .iter()
         .map(|&m| augment::build(m, &cfg.augment))
         .collect::<Result<Vec<_>>>()?;
-    assess_with(ds, cfg, input, &augmenters)
+    assess_with_observed(ds, cfg, input, &augmenters, on_progress)
 }
 
 /// Assess with augmenters supplied by the caller (the first must be the `none` baseline);
@@ -46,6 +69,17 @@ pub fn assess_with(
     cfg: &AssessConfig,
     input: InputInfo,
     augmenters: &[Box<dyn Augmenter>],
+) -> Result<AssessResults> {
+    assess_with_observed(ds, cfg, input, augmenters, &mut |_| {})
+}
+
+/// [`assess_with`], calling `on_progress` before each (fold, method) step.
+pub fn assess_with_observed(
+    ds: &Dataset,
+    cfg: &AssessConfig,
+    input: InputInfo,
+    augmenters: &[Box<dyn Augmenter>],
+    on_progress: &mut dyn FnMut(Progress),
 ) -> Result<AssessResults> {
     let started = Instant::now();
     if augmenters.first().map(|a| a.kind()) != Some(MethodKind::None) {
@@ -74,7 +108,8 @@ pub fn assess_with(
     let knn_probe = KnnProbe::new(cfg.knn)?;
     let linear_probe = LinearProbe::new(cfg.linear)?;
 
-    let bar = progress_bar(cfg.progress, folds.len() * augmenters.len());
+    let total = folds.len() * augmenters.len();
+    let mut done = 0;
     let mut records = Vec::new();
     let mut diagnostics = Vec::new();
     let mut scatters = Vec::new();
@@ -95,7 +130,13 @@ pub fn assess_with(
         let mut baseline_linear: Option<LinearModel> = None;
         for augmenter in augmenters {
             let kind = augmenter.kind();
-            bar.set_message(format!("fold {}/{} {}", fi + 1, folds.len(), kind.name()));
+            on_progress(Progress {
+                done,
+                total,
+                fold: fi + 1,
+                folds: folds.len(),
+                method: kind,
+            });
             let grown = ctx.grow(augmenter.as_ref(), unit_norm, cfg.seed)?;
             guard.check(&grown.x, kind)?;
             warnings.extend(describe_notes(&grown.notes, &ds.classes, kind));
@@ -172,11 +213,9 @@ pub fn assess_with(
                     &ctx.train, &grown, &ctx.grown, kind,
                 ));
             }
-            bar.inc(1);
+            done += 1;
         }
     }
-    bar.finish_and_clear();
-
     let methods: Vec<String> = cfg.methods.iter().map(|m| m.name().to_string()).collect();
     let probes: Vec<String> = cfg.probes.iter().map(|p| p.name().to_string()).collect();
     let (summary_rows, per_class, sentences) = {
@@ -367,15 +406,4 @@ impl<'a> LeakGuard<'a> {
         }
         Ok(())
     }
-}
-
-fn progress_bar(show: bool, len: usize) -> ProgressBar {
-    if !show {
-        return ProgressBar::hidden();
-    }
-    let bar = ProgressBar::new(len as u64);
-    if let Ok(style) = ProgressStyle::with_template("{bar:30} {pos}/{len} {msg} [{elapsed}]") {
-        bar.set_style(style);
-    }
-    bar
 }

@@ -17,6 +17,7 @@ use crate::eval::interval::{
 };
 use crate::eval::stats::corrected_paired_t;
 use crate::seed;
+use crate::rounding::signed;
 
 /// Confidence level of every interval embloom reports.
 pub const LEVEL: f64 = 0.95;
@@ -355,14 +356,6 @@ fn metric(r: &FoldRecord, name: &str) -> f64 {
         .iter()
         .find(|(n, _)| n == name)
         .map_or(f64::NAN, |(_, v)| *v)
-}
-
-fn signed(v: f64) -> String {
-    if v.is_finite() {
-        format!("{v:+.3}")
-    } else {
-        "n/a".to_string()
-    }
 }
 
 fn p_text(p: f64) -> String {

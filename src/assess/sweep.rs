@@ -148,7 +148,6 @@ pub fn sweep(
             let mut c = knob.apply(base, v)?;
             c.methods = vec![MethodKind::None, method];
             c.diagnostics = false;
-            c.progress = false;
             c.validated()
         })
         .collect::<Result<Vec<_>>>()?;

@@ -118,3 +118,32 @@ fn renormalise(x: &mut Array2<f32>) {
         }
     }
 }
+
+/// Human-readable warnings for what a fit clamped or skipped.
+pub fn describe_notes(
+    notes: &[FitNote],
+    classes: &[String],
+    method: super::MethodKind,
+) -> Vec<String> {
+    let mut skipped = Vec::new();
+    let mut out = Vec::new();
+    for n in notes {
+        match n {
+            FitNote::Clamped { class, k } => out.push(format!(
+                "class '{}' has too few rows for the requested neighbours; {method} used K = {k}",
+                classes[*class as usize]
+            )),
+            FitNote::Skipped { class, reason } => {
+                skipped.push(format!("'{}' ({reason})", classes[*class as usize]))
+            }
+        }
+    }
+    if !skipped.is_empty() {
+        out.push(format!(
+            "{method} cannot grow {} and left {} as they are; use another method for them, or --strict to make this an error",
+            skipped.join(", "),
+            if skipped.len() == 1 { "it" } else { "them" }
+        ));
+    }
+    out
+}

@@ -2,6 +2,7 @@
 //! real training rows, then asked for `n` rows of a class with a seeded generator. Every
 //! synthetic row carries its provenance.
 
+mod assemble;
 mod class_fit;
 mod class_neighbours;
 mod extrapolate;
@@ -11,9 +12,12 @@ mod interpolate;
 mod none;
 mod plan;
 mod principal_noise;
+mod unit_norm;
 
-pub use grow::{Grown, grow};
-pub use plan::{Plan, Target};
+pub use assemble::{assemble, grow_dataset};
+pub use grow::{Grown, describe_notes, grow};
+pub use plan::{Plan, Target, class_indices, plan_for};
+pub use unit_norm::UnitNorm;
 
 use std::fmt;
 use std::str::FromStr;

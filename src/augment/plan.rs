@@ -107,13 +107,40 @@ impl Plan {
     }
 }
 
+/// Class indices for the names in `--classes`; an unknown name is an error listing the classes.
+pub fn class_indices(names: &[String], ds: &crate::data::Dataset) -> Result<Vec<u32>> {
+    names
+        .iter()
+        .map(|n| {
+            ds.class_index(n).ok_or_else(|| {
+                Error::param(
+                    "--classes",
+                    format!("no class named '{n}'"),
+                    format!("the classes are: {}", ds.classes.join(", ")),
+                )
+            })
+        })
+        .collect()
+}
+
+/// The growth plan for a whole dataset: `target` for the classes named in `--classes` (all
+/// classes when none are named).
+pub fn plan_for(
+    ds: &crate::data::Dataset,
+    target: Target,
+    classes: Option<&[String]>,
+) -> Result<Plan> {
+    let only = classes.map(|names| class_indices(names, ds)).transpose()?;
+    Ok(Plan::new(&ds.class_counts(), target, only.as_deref()))
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
 
     #[test]
     fn targets() {
-        // common practice, no source: "grow to the median/largest class" as defined in DESIGN.md.
+        // common practice, no source: "grow to the median/largest class" (median: the upper median class count; largest: the largest count; Nx: a factor of the class's own count).
         let counts = [100, 10, 40, 3];
         assert_eq!(
             Plan::new(&counts, Target::Median, None).add,

@@ -9,3 +9,13 @@
 pub mod generate;
 
 pub use generate::{SIGN_TYPES, SignType, street_signs};
+
+use crate::io::AugmentedSet;
+
+/// Seed of the shipped demo file `data/street-signs.npz`.
+pub const DEMO_SEED: u64 = 7;
+
+/// The demo dataset as an exportable set (every row real).
+pub fn demo_set() -> AugmentedSet {
+    AugmentedSet::all_real(street_signs(DEMO_SEED))
+}

@@ -13,33 +13,7 @@ pub const MAIN_METRICS: [(&str, &str); 3] = [
     ("grown_class_recall", "grown-class recall"),
 ];
 
-/// Text shown where a figure is missing or not a number.
-pub const MISSING: &str = "n/a";
-
-/// Round to three decimals, folding −0.000 into 0.000 so a tiny negative never prints a sign
-/// that suggests a loss.
-fn round3(v: f64) -> f64 {
-    let r = (v * 1000.0).round() / 1000.0;
-    if r == 0.0 { 0.0 } else { r }
-}
-
-/// A level such as a mean accuracy: `0.812`, or `n/a`.
-pub fn value(v: f64) -> String {
-    if v.is_finite() {
-        format!("{:.3}", round3(v))
-    } else {
-        MISSING.to_string()
-    }
-}
-
-/// A difference, always signed: `+0.034`, `-0.012`, or `n/a`.
-pub fn signed(v: f64) -> String {
-    if v.is_finite() {
-        format!("{:+.3}", round3(v))
-    } else {
-        MISSING.to_string()
-    }
-}
+pub use crate::rounding::{MISSING, signed, value};
 
 /// One summary cell: `mean (Δ +d.ddd [lo, hi])`, only the mean for the baseline, `n/a` when
 /// the assessment produced no row.

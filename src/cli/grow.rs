@@ -2,14 +2,65 @@
 
 use std::path::PathBuf;
 
-use ndarray::{Axis, concatenate};
+use clap::Args;
 use serde::Serialize;
 
-use super::options::{UnitNorm, plan_for};
-use crate::augment::{self, AugmentParams, FitNote, Grown, MethodKind, Plan, Target};
-use crate::data::Dataset;
-use crate::error::{Error, Result};
-use crate::io::{self, AugmentedSet, ReadOptions};
+use super::args::{InputArgs, MethodArgs, parse_method, parse_size};
+use embloom::augment::{
+    AugmentParams, MethodKind, Plan, Target, UnitNorm, assemble, describe_notes, grow_dataset,
+    plan_for,
+};
+use embloom::error::Result;
+use embloom::io::{self, ReadOptions};
+
+/// Arguments of `embloom grow`.
+#[derive(Args, Debug)]
+pub struct GrowArgs {
+    #[command(flatten)]
+    pub input: InputArgs,
+    /// Output file; its extension picks the format (.npz, .csv, .tsv, .safetensors, .h5).
+    #[arg(long, short)]
+    pub output: PathBuf,
+    /// none, interpolate (SMOTE), extrapolate, principal-noise, gaussian-noise.
+    #[arg(long, value_parser = parse_method)]
+    pub method: MethodKind,
+    #[command(flatten)]
+    pub how: MethodArgs,
+    /// Replace an existing output file.
+    #[arg(long)]
+    pub force: bool,
+    /// Print the summary as JSON on stdout.
+    #[arg(long)]
+    pub json: bool,
+    /// Refuse the job when its estimated peak memory exceeds SIZE (e.g. 4G, 512M); it is
+    /// always refused when it exceeds the memory the system has available.
+    #[arg(long, value_name = "SIZE", value_parser = parse_size)]
+    pub max_memory: Option<u64>,
+}
+
+/// Run `embloom grow` and print its summary (or JSON).
+pub fn run(g: GrowArgs, quiet: bool) -> anyhow::Result<()> {
+    let opts = GrowOptions {
+        input: g.input.file.clone(),
+        output: g.output.clone(),
+        read: g.input.read_options(),
+        method: g.method,
+        target: g.how.target,
+        classes: g.how.classes.clone(),
+        params: g.how.params(),
+        unit_norm: g.how.unit_norm,
+        seed: g.how.seed,
+        force: g.force,
+        max_memory: g.max_memory,
+    };
+    let summary = execute(&opts)?;
+    if g.json {
+        println!("{}", serde_json::to_string_pretty(&summary)?);
+    } else if !quiet {
+        eprint!("{}", summary.render());
+    }
+    Ok(())
+}
 
 /// Everything `grow` needs.
 #[derive(Debug, Clone)]
@@ -24,7 +75,6 @@ pub struct GrowOptions {
     pub unit_norm: UnitNorm,
     pub seed: u64,
     pub force: bool,
-    pub json: bool,
     /// Refuse when the estimated peak memory exceeds this many bytes (and always when it
     /// exceeds what the system has available).
     pub max_memory: Option<u64>,
@@ -102,122 +152,23 @@ impl GrowSummary {
             s += &format!("  ({untouched} classes left as they were)\n");
         }
         for w in &self.warnings {
-            s += &format!("warning: {}\n", crate::report::display_text(w, 400, 20));
+            s += &format!("warning: {}\n", embloom::report::display_text(w, 400, 20));
         }
         s += "note: synthetic rows are not observations; validate any probe trained on them on real held-out data.\n";
         s
     }
 }
 
-/// Human-readable warnings for what a fit clamped or skipped.
-pub fn describe_notes(notes: &[FitNote], classes: &[String], method: MethodKind) -> Vec<String> {
-    let mut skipped = Vec::new();
-    let mut out = Vec::new();
-    for n in notes {
-        match n {
-            FitNote::Clamped { class, k } => out.push(format!(
-                "class '{}' has too few rows for the requested neighbours; {method} used K = {k}",
-                classes[*class as usize]
-            )),
-            FitNote::Skipped { class, reason } => {
-                skipped.push(format!("'{}' ({reason})", classes[*class as usize]))
-            }
-        }
-    }
-    if !skipped.is_empty() {
-        out.push(format!(
-            "{method} cannot grow {} and left {} as they are; use another method for them, or --strict to make this an error",
-            skipped.join(", "),
-            if skipped.len() == 1 { "it" } else { "them" }
-        ));
-    }
-    out
-}
-
-/// Grow `ds` with one method as `plan` says; returns the synthetic rows.
-pub fn grow_dataset(ds: &Dataset, plan: &Plan, opts: &GrowOptions) -> Result<Grown> {
-    let method = augment::build(opts.method, &opts.params)?;
-    let unit_norm = opts.unit_norm.resolve(ds.view());
-    augment::grow(
-        ds,
-        method.as_ref(),
-        plan,
-        unit_norm,
-        opts.seed,
-        &[crate::seed::tag(opts.method.name())],
-    )
-}
-
-/// Real rows first (bit-identical, in input order), then the synthetic rows, with provenance.
-pub fn assemble(ds: &Dataset, grown: &Grown, method: MethodKind) -> Result<AugmentedSet> {
-    let n_real = ds.n_rows();
-    let n_syn = grown.x.nrows();
-    let x = concatenate(Axis(0), &[ds.view(), grown.x.view()]).map_err(|e| {
-        Error::data(
-            format!("cannot stack synthetic rows: {e}"),
-            "report this as a bug",
-        )
-    })?;
-    let mut labels = ds.labels.clone();
-    labels.extend_from_slice(&grown.labels);
-    let inherit = |v: &Option<Vec<String>>| {
-        v.as_ref().map(|v| {
-            let mut out = v.clone();
-            out.extend(grown.provenance.iter().map(|p| v[p.parent].clone()));
-            out
-        })
-    };
-    let ids = ds.ids.as_ref().map(|ids| {
-        let mut out = ids.clone();
-        out.extend((0..n_syn).map(|i| format!("synthetic-{i}")));
-        out
-    });
-    let folds = ds.folds.as_ref().map(|f| {
-        let mut out = f.clone();
-        out.extend(grown.provenance.iter().map(|p| f[p.parent]));
-        out
-    });
-    let data = Dataset {
-        x,
-        labels,
-        classes: ds.classes.clone(),
-        ids,
-        groups: inherit(&ds.groups),
-        folds,
-        stored_dtype: "f32".into(),
-    };
-    let mut origin = vec!["real".to_string(); n_real];
-    origin.extend(std::iter::repeat_n(method.name().to_string(), n_syn));
-    let mut parent: Vec<i64> = (0..n_real as i64).collect();
-    parent.extend(grown.provenance.iter().map(|p| p.parent as i64));
-    let mut partner = vec![-1i64; n_real];
-    partner.extend(
-        grown
-            .provenance
-            .iter()
-            .map(|p| p.partner.map_or(-1, |q| q as i64)),
-    );
-    let mut weight = vec![0.0f32; n_real];
-    weight.extend(grown.provenance.iter().map(|p| p.weight));
-    Ok(AugmentedSet {
-        data,
-        origin,
-        parent,
-        partner,
-        weight,
-    })
-}
-
 /// Refuses before growing when the job would not fit in memory.
-fn check_memory(ds: &Dataset, plan: &Plan, opts: &GrowOptions) -> Result<()> {
-    let est = crate::memory::for_grow(
+fn check_memory(ds: &embloom::Dataset, plan: &Plan, opts: &GrowOptions) -> Result<()> {
+    let est = embloom::memory::for_grow(
         &opts.input,
         ds.n_rows(),
         ds.dims(),
         plan.total(),
         &opts.output,
     );
-    crate::memory::check(
+    embloom::memory::check(
         &est,
         opts.max_memory,
         &format!(
@@ -229,8 +180,8 @@ fn check_memory(ds: &Dataset, plan: &Plan, opts: &GrowOptions) -> Result<()> {
     )
 }
 
-/// Run `grow`.
-pub fn grow(opts: &GrowOptions) -> Result<GrowSummary> {
+/// Grow the file and describe what was done.
+pub fn execute(opts: &GrowOptions) -> Result<GrowSummary> {
     let inputs = io::output_target::inputs_of(&opts.input, &opts.read);
     io::output_target::check_file(&opts.output, opts.force, &inputs, None)?;
     io::output_format(&opts.output)?;
@@ -241,7 +192,14 @@ pub fn grow(opts: &GrowOptions) -> Result<GrowSummary> {
         io::output_target::output_bytes(&opts.output, ds.n_rows() + plan.total(), ds.dims());
     io::output_target::check_file(&opts.output, opts.force, &inputs, Some(bytes))?;
     check_memory(ds, &plan, opts)?;
-    let grown = grow_dataset(ds, &plan, opts)?;
+    let grown = grow_dataset(
+        ds,
+        &plan,
+        opts.method,
+        &opts.params,
+        opts.unit_norm,
+        opts.seed,
+    )?;
     let set = assemble(ds, &grown, opts.method)?;
     io::write(&opts.output, &set, opts.force)?;
     let counts = ds.class_counts();
@@ -277,5 +235,5 @@ pub fn grow(opts: &GrowOptions) -> Result<GrowSummary> {
 
 /// A class name as the table shows it: control characters escaped, at most 60 characters.
 fn shown(name: &str) -> String {
-    crate::report::display_name(name, 60)
+    embloom::report::display_name(name, 60)
 }

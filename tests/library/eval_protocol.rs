@@ -207,7 +207,7 @@ fn impossible_requests_are_errors() {
 
 #[test]
 fn split_kind_serialises_kebab_case() {
-    // DESIGN.md convention (kebab-case names in machine-readable output).
+    // common practice, no source: machine-readable output spells names in kebab-case.
     let names: HashMap<&str, SplitKind> = [
         ("\"stratified\"", SplitKind::Stratified),
         ("\"stratified-group\"", SplitKind::StratifiedGroup),

@@ -1,14 +1,10 @@
-//! Arguments of `embloom assess`.
+//! The cross-validation protocol's arguments, shared by `assess` and `sweep`.
 
-use std::path::PathBuf;
-
-use anyhow::Result;
 use clap::Args;
 
-use crate::cli::{InputArgs, MethodArgs, parse_method, parse_metric};
-use embloom::assess::{AssessConfig, Knob};
+use super::args::{MethodArgs, parse_metric};
+use embloom::assess::AssessConfig;
 use embloom::augment::MethodKind;
-use embloom::cmd;
 use embloom::eval::IntervalKind;
 use embloom::neighbors::Metric;
 use embloom::probe::ProbeKind;
@@ -67,7 +63,6 @@ impl ProtocolArgs {
         methods: Vec<MethodKind>,
         how: &MethodArgs,
         diagnostics: bool,
-        quiet: bool,
     ) -> AssessConfig {
         AssessConfig {
             methods,
@@ -94,76 +89,8 @@ impl ProtocolArgs {
             interval: self.interval,
             seed: how.seed,
             diagnostics,
-            progress: cmd::options::show_progress(quiet),
         }
     }
-}
-
-/// Compare methods on k-NN and linear probes under stratified (or grouped, or given) k-fold
-/// cross-validation: each augmenter is fitted on a fold's real training rows only, and
-/// probes are scored on real held-out rows only. Differences against `none` are paired per
-/// fold, with 95% intervals (see --interval).
-#[derive(Args, Debug)]
-pub struct AssessArgs {
-    #[command(flatten)]
-    pub input: InputArgs,
-    /// Methods to compare (none, the baseline, is always included).
-    #[arg(long, value_delimiter = ',', default_value = "none,interpolate,extrapolate,principal-noise", value_parser = parse_method)]
-    pub methods: Vec<MethodKind>,
-    #[command(flatten)]
-    pub protocol: ProtocolArgs,
-    #[command(flatten)]
-    pub how: MethodArgs,
-    /// Skip the intrusion, distance and precision/recall/density/coverage diagnostics.
-    #[arg(long)]
-    pub no_diagnostics: bool,
-    /// Write results.json, CSV tables and report.html to this folder.
-    #[arg(long, value_name = "DIR")]
-    pub report: Option<PathBuf>,
-    /// Replace an existing report folder.
-    #[arg(long)]
-    pub force: bool,
-    /// Print results.json on stdout instead of the table.
-    #[arg(long)]
-    pub json: bool,
-    /// Refuse the job when its estimated peak memory exceeds SIZE (e.g. 4G, 512M); it is
-    /// always refused when it exceeds the memory the system has available.
-    #[arg(long, value_name = "SIZE", value_parser = crate::cli::parse_size)]
-    pub max_memory: Option<u64>,
-}
-
-/// Assess one method at several values of one knob (same folds and seed at every value),
-/// each against `none`.
-#[derive(Args, Debug)]
-pub struct SweepArgs {
-    #[command(flatten)]
-    pub input: InputArgs,
-    /// The method whose knob is turned.
-    #[arg(long, value_parser = parse_method)]
-    pub method: MethodKind,
-    /// magnitude, neighbours, target or variance-kept.
-    #[arg(long, value_parser = parse_knob)]
-    pub knob: Knob,
-    /// The values to try, comma-separated (e.g. 0.25,0.5,1 or median,largest).
-    #[arg(long, value_delimiter = ',', required = true)]
-    pub values: Vec<String>,
-    #[command(flatten)]
-    pub protocol: ProtocolArgs,
-    #[command(flatten)]
-    pub how: MethodArgs,
-    /// Also write the points as CSV to this file.
-    #[arg(long, value_name = "FILE")]
-    pub csv: Option<PathBuf>,
-    /// Replace an existing CSV file.
-    #[arg(long)]
-    pub force: bool,
-    /// Print the results as JSON on stdout instead of the table.
-    #[arg(long)]
-    pub json: bool,
-}
-
-fn parse_knob(s: &str) -> Result<Knob, String> {
-    s.parse().map_err(|e: embloom::Error| e.to_string())
 }
 
 fn parse_interval(s: &str) -> Result<IntervalKind, String> {
@@ -172,6 +99,7 @@ fn parse_interval(s: &str) -> Result<IntervalKind, String> {
         format!("'{s}' is not an interval; use one of {}", names.join(", "))
     })
 }
+
 fn parse_probe(s: &str) -> Result<ProbeKind, String> {
     s.parse().map_err(|e: embloom::Error| e.to_string())
 }
@@ -195,53 +123,4 @@ fn parse_class_weight(s: &str) -> Result<ClassWeight, String> {
         "balanced" => Ok(ClassWeight::Balanced),
         _ => Err(format!("'{s}': use none or balanced")),
     }
-}
-
-pub fn run(a: AssessArgs, quiet: bool) -> Result<()> {
-    let config = a
-        .protocol
-        .config(a.methods.clone(), &a.how, !a.no_diagnostics, quiet);
-    let opts = cmd::assess::AssessOptions {
-        input: a.input.file.clone(),
-        read: a.input.read_options(),
-        config,
-        report: a.report.clone(),
-        force: a.force,
-        max_memory: a.max_memory,
-    };
-    let results = cmd::assess::run(&opts)?;
-    if a.json {
-        println!("{}", serde_json::to_string_pretty(&results)?);
-    } else {
-        print!("{}", embloom::report::terminal_table(&results));
-        if let Some(dir) = &a.report
-            && !quiet
-        {
-            eprintln!("report written to {}", dir.display());
-        }
-    }
-    Ok(())
-}
-
-pub fn run_sweep(a: SweepArgs, quiet: bool) -> Result<()> {
-    let config = a
-        .protocol
-        .config(vec![MethodKind::None, a.method], &a.how, false, quiet);
-    let opts = cmd::sweep::SweepOptions {
-        input: a.input.file.clone(),
-        read: a.input.read_options(),
-        config,
-        method: a.method,
-        knob: a.knob,
-        values: a.values.clone(),
-        csv: a.csv.clone(),
-        force: a.force,
-    };
-    let results = cmd::sweep::run(&opts)?;
-    if a.json {
-        println!("{}", serde_json::to_string_pretty(&results)?);
-    } else {
-        print!("{}", embloom::report::sweep_table(&results));
-    }
-    Ok(())
 }

@@ -1,6 +1,6 @@
 //! `embloom inspect` on small files whose facts are known by construction.
 
-mod common;
+use crate::common;
 
 use common::*;
 

@@ -6,7 +6,7 @@ use embloom::io::{self, ReadOptions};
 fn shipped_demo_file_is_the_generators_output() {
     let dir = tempfile::tempdir().unwrap();
     let fresh = dir.path().join("street-signs.npz");
-    io::write(&fresh, &embloom::cmd::demo::demo_set(), false).unwrap();
+    io::write(&fresh, &embloom::demo::demo_set(), false).unwrap();
     let shipped = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("data/street-signs.npz");
     assert_eq!(
         std::fs::read(&fresh).unwrap(),

@@ -3,7 +3,7 @@
 //! per-fold accuracy equals that of scikit-learn's KNeighborsClassifier predictions, and the
 //! linear probe is within 1 point of accuracy and 2% of log-loss of LogisticRegression(lbfgs).
 
-mod common;
+use crate::common;
 
 use common::*;
 use serde_json::Value;

@@ -4,9 +4,9 @@ use std::path::Path;
 
 use serde::Serialize;
 
-use crate::data::{Dataset, DatasetStats};
-use crate::error::Result;
-use crate::io::{self, ReadOptions};
+use embloom::data::{Dataset, DatasetStats};
+use embloom::error::Result;
+use embloom::io::{self, ReadOptions};
 
 #[derive(Debug, Serialize)]
 pub struct ClassCount {
@@ -80,7 +80,7 @@ impl Inspection {
     /// A human-readable rendering.
     pub fn render(&self) -> String {
         let mut s = String::new();
-        s += &format!("{}\n", crate::report::display_name(&self.file, 4096));
+        s += &format!("{}\n", embloom::report::display_name(&self.file, 4096));
         s += &format!(
             "  rows {}  dims {}  stored as {}\n",
             self.rows, self.dims, self.dtype
@@ -161,5 +161,5 @@ pub fn inspect(path: &Path, read: &ReadOptions, json: bool) -> Result<()> {
 
 /// A class name as the table shows it: control characters escaped, at most 60 characters.
 fn shown(name: &str) -> String {
-    crate::report::display_name(name, 60)
+    embloom::report::display_name(name, 60)
 }

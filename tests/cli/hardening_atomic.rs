@@ -2,7 +2,7 @@
 //! job; no partial file or report folder may appear under the target name, and an earlier
 //! output at that path must stay byte-identical.
 
-mod common;
+use crate::common;
 
 use std::path::{Path, PathBuf};
 use std::process::{Child, Command, Stdio};

@@ -1,6 +1,6 @@
 //! `embloom sweep`: each point is exactly the assessment of that setting against `none`.
 
-mod common;
+use crate::common;
 
 use common::*;
 use serde_json::Value;

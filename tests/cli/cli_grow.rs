@@ -1,6 +1,6 @@
 //! `embloom grow` end to end: output layout, provenance, determinism, warnings and refusals.
 
-mod common;
+use crate::common;
 
 use common::*;
 
@@ -45,7 +45,7 @@ fn real_rows_first_and_bit_identical_then_synthetic_with_provenance() {
     assert!(o.status.success(), "{}", stderr(&o));
     let (_, in_rows) = read_csv(&input);
     let (header, rows) = read_csv(&out);
-    // Target largest: 30 + 30 + 30 rows (definition of --target largest in DESIGN.md).
+    // Target largest: 30 + 30 + 30 rows (--target largest brings every class up to the largest class's count).
     assert_eq!(rows.len(), 90);
     let col = |name: &str| {
         header

@@ -5,30 +5,22 @@ use std::path::Path;
 use super::assess::AssessOptions;
 use super::grow::GrowOptions;
 use super::inspect::Inspection;
-use super::options::{UnitNorm, show_progress};
-use crate::assess::AssessConfig;
-use crate::augment::{AugmentParams, MethodKind, Target};
-use crate::demo::street_signs;
-use crate::error::Result;
-use crate::io::{self, AugmentedSet, ReadOptions};
-use crate::probe::KnnParams;
-use crate::probe::LinearParams;
-use crate::probe::ProbeKind;
-
-/// Seed of the shipped demo file `data/street-signs.npz`.
-pub const DEMO_SEED: u64 = 7;
+use super::progress::show_progress;
+use embloom::assess::AssessConfig;
+use embloom::augment::{AugmentParams, MethodKind, Target, UnitNorm};
+use embloom::demo::{DEMO_SEED, demo_set};
+use embloom::error::Result;
+use embloom::io::{self, ReadOptions};
+use embloom::probe::KnnParams;
+use embloom::probe::LinearParams;
+use embloom::probe::ProbeKind;
 
 /// What the demo writes in its folder (listed in the folder's manifest).
 const DEMO_FILES: [&str; 3] = ["street-signs.npz", "street-signs-grown.npz", "report"];
 
-/// The demo dataset as an exportable set (every row real).
-pub fn demo_set() -> AugmentedSet {
-    AugmentedSet::all_real(street_signs(DEMO_SEED))
-}
-
 /// Write the demo data to `out` and run the three commands on it.
 pub fn demo(out: &Path, force: bool, quiet: bool) -> Result<()> {
-    crate::io::output_target::prepare_own_dir(out, force, &DEMO_FILES)?;
+    embloom::io::output_target::prepare_own_dir(out, force, &DEMO_FILES)?;
     println!(
         "embloom demo — INVENTED DATA: street-sign crops from a fictional survey of the city of Lanterbury,"
     );
@@ -52,7 +44,7 @@ pub fn demo(out: &Path, force: bool, quiet: bool) -> Result<()> {
         data.display(),
         grown.display()
     );
-    let summary = super::grow::grow(&GrowOptions {
+    let summary = super::grow::execute(&GrowOptions {
         input: data.clone(),
         output: grown,
         read: read.clone(),
@@ -63,7 +55,6 @@ pub fn demo(out: &Path, force: bool, quiet: bool) -> Result<()> {
         unit_norm: UnitNorm::Auto,
         seed: DEMO_SEED,
         force: false,
-        json: false,
         max_memory: None,
     })?;
     print!("{}", summary.render());
@@ -91,21 +82,23 @@ pub fn demo(out: &Path, force: bool, quiet: bool) -> Result<()> {
         unit_norm: UnitNorm::Auto,
         knn: KnnParams::default(),
         linear: LinearParams::default(),
-        interval: crate::eval::IntervalKind::default(),
+        interval: embloom::eval::IntervalKind::default(),
         seed: DEMO_SEED,
         diagnostics: true,
-        progress: show_progress(quiet),
     };
-    let results = super::assess::run(&AssessOptions {
-        input: data,
-        read,
-        config,
-        report: Some(report.clone()),
-        force: false,
-        max_memory: None,
-    })?;
-    print!("{}", crate::report::terminal_table(&results));
-    crate::io::output_target::write_manifest(out, "demo", &DEMO_FILES.map(String::from))?;
+    let results = super::assess::execute(
+        &AssessOptions {
+            input: data,
+            read,
+            config,
+            report: Some(report.clone()),
+            force: false,
+            max_memory: None,
+        },
+        show_progress(quiet),
+    )?;
+    print!("{}", embloom::report::terminal_table(&results));
+    embloom::io::output_target::write_manifest(out, "demo", &DEMO_FILES.map(String::from))?;
     println!("\nreport: {}", report.join("report.html").display());
     Ok(())
 }

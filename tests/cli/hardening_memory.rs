@@ -7,7 +7,7 @@
 //! growth slack vary by platform and thread count, and the point of the estimate is to
 //! refuse jobs that are off by far more than 2× the machine, not to predict RSS to the byte.
 
-mod common;
+use crate::common;
 
 use std::path::Path;
 use std::process::Command;

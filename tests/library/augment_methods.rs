@@ -214,7 +214,7 @@ fn principal_noise_offsets_follow_the_kept_class_covariance() {
         })
         .collect();
     let got = covariance(&offsets);
-    // Definition (DESIGN.md, principal-noise): offsets ~ N(0, m²·V_k diag(s²) V_kᵀ).
+    // Definition of principal-noise (Gaussian noise along the class's principal directions, each scaled by that direction's standard deviation times the magnitude): offsets ~ N(0, m²·V_k diag(s²) V_kᵀ).
     // Monte-Carlo standard error of a sample covariance entry of N Gaussian draws is
     // sqrt((Σ_ii Σ_jj + Σ_ij²) / N); allow 5 standard errors (25 entries, so a false alarm
     // is very unlikely, while a wrong scale, e.g. variance instead of sd, is far outside).
@@ -276,7 +276,7 @@ fn gaussian_noise_offsets_have_the_class_spread() {
         })
         .collect();
     let got = covariance(&offsets);
-    // Definition (DESIGN.md, gaussian-noise: isotropic, scale magnitude·σ): Var = (mσ)², Cov = 0.
+    // Definition of gaussian-noise (isotropic, scale magnitude·σ): Var = (mσ)², Cov = 0.
     // Monte-Carlo se of a variance is sqrt(2/N)·Var, of a zero covariance Var/sqrt(N); 5 se.
     let mut worst = 0.0f64;
     for (a, row) in got.iter().enumerate() {

@@ -4,11 +4,11 @@
 use std::sync::{Arc, Mutex};
 
 use embloom::assess::{AssessConfig, InputInfo, assess_with};
+use embloom::augment::UnitNorm;
 use embloom::augment::{
     self, AugmentParams, Augmenter, FitNote, FittedAugmenter, MethodKind, Provenance, Synthetic,
     Target,
 };
-use embloom::cmd::options::UnitNorm;
 use embloom::eval::protocol::make_folds;
 use embloom::probe::KnnParams;
 use embloom::probe::LinearParams;
@@ -52,7 +52,6 @@ fn config() -> AssessConfig {
         interval: embloom::eval::IntervalKind::default(),
         seed: 5,
         diagnostics: true,
-        progress: false,
     }
 }
 

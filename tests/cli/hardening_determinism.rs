@@ -1,7 +1,7 @@
 //! Determinism: grow and assess give byte-identical outputs with 1 and 2 threads and with
 //! the same seed twice (results.json compared without its timing field).
 
-mod common;
+use crate::common;
 
 use std::path::Path;
 

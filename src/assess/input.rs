@@ -1,0 +1,44 @@
+//! What an assessment says about its input: the path, a SHA-256 of the file, its shape and
+//! classes, so a report names exactly the data it was computed on.
+
+use std::io::Read;
+use std::path::Path;
+
+use sha2::{Digest, Sha256};
+
+use super::InputInfo;
+use crate::data::Dataset;
+use crate::error::{Error, Result};
+
+impl InputInfo {
+    /// Describe `ds`, read from `path`, for the results.
+    pub fn of(path: &Path, ds: &Dataset) -> Result<InputInfo> {
+        Ok(InputInfo {
+            path: path.display().to_string(),
+            sha256: sha256_of(path)?,
+            rows: ds.n_rows(),
+            dims: ds.dims(),
+            classes: ds.classes.clone(),
+            class_counts: ds.class_counts(),
+        })
+    }
+}
+
+/// Hex SHA-256 of a file, so a report names exactly the data it was computed on.
+pub fn sha256_of(path: &Path) -> Result<String> {
+    let mut file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
+    let mut hasher = Sha256::new();
+    let mut buf = vec![0u8; 1 << 20];
+    loop {
+        let n = file.read(&mut buf).map_err(|e| Error::io(path, e))?;
+        if n == 0 {
+            break;
+        }
+        hasher.update(&buf[..n]);
+    }
+    Ok(hasher
+        .finalize()
+        .iter()
+        .map(|b| format!("{b:02x}"))
+        .collect())
+}

@@ -1,0 +1,90 @@
+//! An augmented set for export: the real rows unchanged, then one method's synthetic rows,
+//! with the provenance columns every output carries.
+
+use ndarray::{Axis, concatenate};
+
+use super::{AugmentParams, Grown, MethodKind, Plan, UnitNorm};
+use crate::data::Dataset;
+use crate::error::{Error, Result};
+use crate::io::AugmentedSet;
+
+/// Grow `ds` with one method as `plan` says; returns the synthetic rows.
+pub fn grow_dataset(
+    ds: &Dataset,
+    plan: &Plan,
+    method: MethodKind,
+    params: &AugmentParams,
+    unit_norm: UnitNorm,
+    seed: u64,
+) -> Result<Grown> {
+    let augmenter = super::build(method, params)?;
+    let unit_norm = unit_norm.resolve(ds.view());
+    super::grow(
+        ds,
+        augmenter.as_ref(),
+        plan,
+        unit_norm,
+        seed,
+        &[crate::seed::tag(method.name())],
+    )
+}
+
+/// Real rows first (bit-identical, in input order), then the synthetic rows, with provenance.
+pub fn assemble(ds: &Dataset, grown: &Grown, method: MethodKind) -> Result<AugmentedSet> {
+    let n_real = ds.n_rows();
+    let n_syn = grown.x.nrows();
+    let x = concatenate(Axis(0), &[ds.view(), grown.x.view()]).map_err(|e| {
+        Error::data(
+            format!("cannot stack synthetic rows: {e}"),
+            "report this as a bug",
+        )
+    })?;
+    let mut labels = ds.labels.clone();
+    labels.extend_from_slice(&grown.labels);
+    let inherit = |v: &Option<Vec<String>>| {
+        v.as_ref().map(|v| {
+            let mut out = v.clone();
+            out.extend(grown.provenance.iter().map(|p| v[p.parent].clone()));
+            out
+        })
+    };
+    let ids = ds.ids.as_ref().map(|ids| {
+        let mut out = ids.clone();
+        out.extend((0..n_syn).map(|i| format!("synthetic-{i}")));
+        out
+    });
+    let folds = ds.folds.as_ref().map(|f| {
+        let mut out = f.clone();
+        out.extend(grown.provenance.iter().map(|p| f[p.parent]));
+        out
+    });
+    let data = Dataset {
+        x,
+        labels,
+        classes: ds.classes.clone(),
+        ids,
+        groups: inherit(&ds.groups),
+        folds,
+        stored_dtype: "f32".into(),
+    };
+    let mut origin = vec!["real".to_string(); n_real];
+    origin.extend(std::iter::repeat_n(method.name().to_string(), n_syn));
+    let mut parent: Vec<i64> = (0..n_real as i64).collect();
+    parent.extend(grown.provenance.iter().map(|p| p.parent as i64));
+    let mut partner = vec![-1i64; n_real];
+    partner.extend(
+        grown
+            .provenance
+            .iter()
+            .map(|p| p.partner.map_or(-1, |q| q as i64)),
+    );
+    let mut weight = vec![0.0f32; n_real];
+    weight.extend(grown.provenance.iter().map(|p| p.weight));
+    Ok(AugmentedSet {
+        data,
+        origin,
+        parent,
+        partner,
+        weight,
+    })
+}

@@ -1,0 +1,129 @@
+//! Arguments shared by several commands: where the data is, how rows are made, and the
+//! parsers that turn flag text into the library's typed values.
+
+use std::path::PathBuf;
+
+use clap::Args;
+
+use embloom::augment::{AugmentParams, MethodKind, Target, UnitNorm};
+use embloom::io::ReadOptions;
+use embloom::neighbors::{IndexKind, Metric};
+
+/// Where the data is and which keys hold it.
+#[derive(Args, Debug, Clone)]
+pub struct InputArgs {
+    /// Embedding file: .npy, .npz, .csv, .tsv, .safetensors, .h5/.hdf5 (with the hdf5 feature).
+    pub file: PathBuf,
+    /// Labels for a .npy embedding file (a second .npy).
+    #[arg(long, value_name = "FILE")]
+    pub labels: Option<PathBuf>,
+    /// npz member, safetensors tensor or HDF5 dataset path of the embeddings.
+    #[arg(long, default_value = "embeddings", value_name = "KEY")]
+    pub embeddings_key: String,
+    /// npz member, safetensors tensor or HDF5 dataset path of the labels.
+    #[arg(long, default_value = "labels", value_name = "KEY")]
+    pub labels_key: String,
+    /// CSV/TSV column holding the labels.
+    #[arg(long, default_value = "label", value_name = "NAME")]
+    pub label_column: String,
+    /// Member or column holding a fold assignment (used by assess when present).
+    #[arg(long, default_value = "fold", value_name = "NAME")]
+    pub fold_key: String,
+    /// Skip rows with NaN/Inf instead of refusing the file.
+    #[arg(long)]
+    pub drop_nonfinite: bool,
+}
+
+impl InputArgs {
+    pub fn read_options(&self) -> ReadOptions {
+        ReadOptions {
+            labels_file: self.labels.clone(),
+            embeddings_key: self.embeddings_key.clone(),
+            labels_key: self.labels_key.clone(),
+            label_column: self.label_column.clone(),
+            fold_key: self.fold_key.clone(),
+            drop_nonfinite: self.drop_nonfinite,
+            ..ReadOptions::default()
+        }
+    }
+}
+
+/// How synthetic rows are made (shared by grow and assess).
+#[derive(Args, Debug, Clone)]
+pub struct MethodArgs {
+    /// Grow each class to: largest, median, a count N, or a factor xF of its own size.
+    #[arg(long, default_value = "median", value_parser = parse_target)]
+    pub target: Target,
+    /// Grow only these classes (comma-separated names).
+    #[arg(long, value_delimiter = ',', value_name = "A,B")]
+    pub classes: Option<Vec<String>>,
+    /// K nearest same-class neighbours for interpolate/extrapolate.
+    #[arg(long, default_value_t = 5, value_name = "K")]
+    pub neighbours: usize,
+    /// λ for extrapolate, noise scale for principal-noise and gaussian-noise (default 0.5).
+    #[arg(long, value_name = "X")]
+    pub magnitude: Option<f32>,
+    /// Share of a class's variance the principal-noise directions must explain.
+    #[arg(long, default_value_t = 0.95, value_name = "FRAC")]
+    pub variance_kept: f64,
+    /// Metric for same-class neighbours.
+    #[arg(long, default_value = "euclidean", value_parser = parse_metric)]
+    pub neighbour_metric: Metric,
+    /// Renormalise synthetic rows to unit norm: auto (when the input rows are), on, off.
+    #[arg(long, default_value = "auto", value_parser = parse_unit_norm)]
+    pub unit_norm: UnitNorm,
+    /// Same-class neighbour search: exact, or kdtree (approximate: a k-d tree over the leading
+    /// principal components, for very large classes).
+    #[arg(long, default_value = "exact", value_parser = parse_index)]
+    pub neighbour_index: IndexKind,
+    /// Make classes a method cannot grow (e.g. a single row) an error instead of a warning.
+    #[arg(long)]
+    pub strict: bool,
+    /// Seed for every random choice; the same seed gives the same output on any thread count.
+    #[arg(long, default_value_t = 0)]
+    pub seed: u64,
+}
+
+impl MethodArgs {
+    pub fn params(&self) -> AugmentParams {
+        AugmentParams {
+            neighbours: self.neighbours,
+            magnitude: self.magnitude,
+            variance_kept: self.variance_kept,
+            metric: self.neighbour_metric,
+            strict: self.strict,
+            index: self.neighbour_index,
+        }
+    }
+}
+
+pub fn parse_size(s: &str) -> Result<u64, String> {
+    embloom::memory::parse_size(s).map_err(|e| e.to_string())
+}
+
+pub fn parse_target(s: &str) -> Result<Target, String> {
+    s.parse().map_err(|e: embloom::Error| e.to_string())
+}
+pub fn parse_method(s: &str) -> Result<MethodKind, String> {
+    s.parse().map_err(|e: embloom::Error| e.to_string())
+}
+pub fn parse_unit_norm(s: &str) -> Result<UnitNorm, String> {
+    s.parse().map_err(|e: embloom::Error| e.to_string())
+}
+pub fn parse_metric(s: &str) -> Result<Metric, String> {
+    match s {
+        "cosine" => Ok(Metric::Cosine),
+        "euclidean" => Ok(Metric::Euclidean),
+        _ => Err(format!("'{s}' is not a metric; use cosine or euclidean")),
+    }
+}
+
+pub fn parse_index(s: &str) -> Result<IndexKind, String> {
+    match s {
+        "exact" => Ok(IndexKind::Exact),
+        "kdtree" => Ok(IndexKind::KdTree),
+        _ => Err(format!(
+            "'{s}' is not a neighbour index; use exact or kdtree"
+        )),
+    }
+}

@@ -1,0 +1,192 @@
+//! `embloom assess`: read, assess, write the report folder, print the table.
+
+use std::path::{Path, PathBuf};
+
+use clap::Args;
+
+use super::args::{InputArgs, MethodArgs, parse_method, parse_size};
+use super::progress::{FoldBar, show_progress};
+use super::protocol::ProtocolArgs;
+use embloom::assess::{AssessConfig, AssessResults, InputInfo, assess_observed};
+use embloom::augment::MethodKind;
+use embloom::error::Result;
+use embloom::io::{self, Loaded, ReadOptions};
+
+/// Compare methods on k-NN and linear probes under stratified (or grouped, or given) k-fold
+/// cross-validation: each augmenter is fitted on a fold's real training rows only, and
+/// probes are scored on real held-out rows only. Differences against `none` are paired per
+/// fold, with 95% intervals (see --interval).
+#[derive(Args, Debug)]
+pub struct AssessArgs {
+    #[command(flatten)]
+    pub input: InputArgs,
+    /// Methods to compare (none, the baseline, is always included).
+    #[arg(long, value_delimiter = ',', default_value = "none,interpolate,extrapolate,principal-noise", value_parser = parse_method)]
+    pub methods: Vec<MethodKind>,
+    #[command(flatten)]
+    pub protocol: ProtocolArgs,
+    #[command(flatten)]
+    pub how: MethodArgs,
+    /// Skip the intrusion, distance and precision/recall/density/coverage diagnostics.
+    #[arg(long)]
+    pub no_diagnostics: bool,
+    /// Write results.json, CSV tables and report.html to this folder.
+    #[arg(long, value_name = "DIR")]
+    pub report: Option<PathBuf>,
+    /// Replace an existing report folder.
+    #[arg(long)]
+    pub force: bool,
+    /// Print results.json on stdout instead of the table.
+    #[arg(long)]
+    pub json: bool,
+    /// Refuse the job when its estimated peak memory exceeds SIZE (e.g. 4G, 512M); it is
+    /// always refused when it exceeds the memory the system has available.
+    #[arg(long, value_name = "SIZE", value_parser = parse_size)]
+    pub max_memory: Option<u64>,
+}
+
+/// Run `embloom assess` and print its table (or JSON).
+pub fn run(a: AssessArgs, quiet: bool) -> anyhow::Result<()> {
+    let config = a
+        .protocol
+        .config(a.methods.clone(), &a.how, !a.no_diagnostics);
+    let opts = AssessOptions {
+        input: a.input.file.clone(),
+        read: a.input.read_options(),
+        config,
+        report: a.report.clone(),
+        force: a.force,
+        max_memory: a.max_memory,
+    };
+    let results = execute(&opts, show_progress(quiet))?;
+    if a.json {
+        println!("{}", serde_json::to_string_pretty(&results)?);
+    } else {
+        print!("{}", embloom::report::terminal_table(&results));
+        if let Some(dir) = &a.report
+            && !quiet
+        {
+            eprintln!("report written to {}", dir.display());
+        }
+    }
+    Ok(())
+}
+
+#[derive(Debug, Clone)]
+pub struct AssessOptions {
+    pub input: PathBuf,
+    pub read: ReadOptions,
+    pub config: AssessConfig,
+    pub report: Option<PathBuf>,
+    pub force: bool,
+    /// Refuse when the estimated peak memory exceeds this many bytes (and always when it
+    /// exceeds what the system has available).
+    pub max_memory: Option<u64>,
+}
+
+/// Run an assessment and write its report folder when asked.
+pub fn execute(opts: &AssessOptions, show_progress: bool) -> Result<AssessResults> {
+    let inputs = io::output_target::inputs_of(&opts.input, &opts.read);
+    if let Some(dir) = &opts.report {
+        io::output_target::check_dir(dir, opts.force, &inputs)?;
+    }
+    let mut config = opts.config.clone().validated()?;
+    let (loaded, input) = load(&opts.input, &opts.read)?;
+    let ds = &loaded.dataset;
+    let clamped = clamp_knn_k(&mut config, ds.n_rows());
+    check_memory(ds, &config, opts)?;
+    let bar = FoldBar::new(show_progress);
+    let results = assess_observed(ds, &config, input, &mut |p| bar.update(p));
+    bar.finish();
+    let mut results = results?;
+    results.warnings.extend(clamped);
+    results
+        .warnings
+        .extend(thin_class_warning(ds, config.folds));
+    if loaded.dropped_nonfinite > 0 {
+        results.warnings.push(format!(
+            "{} input rows with NaN/Inf were skipped",
+            loaded.dropped_nonfinite
+        ));
+    }
+    if let Some(dir) = &opts.report {
+        embloom::report::write_report_dir_guarded(dir, &results, opts.force, &inputs)?;
+    }
+    Ok(results)
+}
+
+/// Read the input and describe it for the results (path, SHA-256, shape, classes).
+pub fn load(path: &Path, read: &ReadOptions) -> Result<(Loaded, InputInfo)> {
+    let loaded = io::read(path, read)?;
+    let input = InputInfo::of(path, &loaded.dataset)?;
+    Ok((loaded, input))
+}
+
+/// Clamps the k-NN probe's k to the training rows of a fold (more neighbours than rows is
+/// meaningless, and a huge k would size buffers by it), saying so.
+pub fn clamp_knn_k(config: &mut AssessConfig, rows: usize) -> Option<String> {
+    let train = rows - rows / config.folds.max(2);
+    if config.knn.k <= train.max(1) {
+        return None;
+    }
+    let asked = config.knn.k;
+    config.knn.k = train.max(1);
+    Some(format!(
+        "--knn-k {asked} is more than the {} training rows of a fold; using k = {}",
+        train, config.knn.k
+    ))
+}
+
+/// A warning, with a short list, when classes have fewer rows (or groups) than folds: such a
+/// class is missing from some test folds and some training folds, so its recall is near zero
+/// whatever the method, and many such classes drag every balanced figure toward 0.
+pub fn thin_class_warning(ds: &embloom::Dataset, folds: usize) -> Option<String> {
+    let thin = embloom::eval::thin_classes(ds, folds);
+    if thin.is_empty() {
+        return None;
+    }
+    let shown: Vec<String> = thin
+        .iter()
+        .take(5)
+        .map(|&c| embloom::report::display_name(&ds.classes[c as usize], 40))
+        .collect();
+    let more = if thin.len() > 5 {
+        format!(" and {} more", thin.len() - 5)
+    } else {
+        String::new()
+    };
+    Some(format!(
+        "{} of {} classes have fewer rows than the {folds} folds ({}{more}): they cannot be in every fold, so their recall says little; merge or drop rare classes, or use fewer folds (--folds)",
+        thin.len(),
+        ds.n_classes(),
+        shown.join(", ")
+    ))
+}
+
+/// Refuses before the fold loop when one fold's work would not fit in memory.
+fn check_memory(ds: &embloom::Dataset, config: &AssessConfig, opts: &AssessOptions) -> Result<()> {
+    let plan = embloom::augment::plan_for(ds, config.target, config.classes.as_deref())?;
+    let synthetic = if config
+        .methods
+        .iter()
+        .any(|m| *m != embloom::augment::MethodKind::None)
+    {
+        plan.total()
+    } else {
+        0
+    };
+    let est = embloom::memory::for_assess(
+        &opts.input,
+        ds.n_rows(),
+        ds.dims(),
+        synthetic,
+        config.folds,
+        config.probes.contains(&embloom::probe::ProbeKind::Linear),
+    );
+    embloom::memory::check(
+        &est,
+        opts.max_memory,
+        &format!("assessing {}", opts.input.display()),
+        "assess fewer classes (--classes A,B), a smaller --target (e.g. median), fewer folds (--folds 3), the knn probe alone (--probes knn), or raise --max-memory",
+    )
+}

@@ -1,0 +1,122 @@
+//! `embloom sweep`: one method, one knob, several values, each assessed against `none`.
+
+use std::path::PathBuf;
+
+use clap::Args;
+use indicatif::ProgressBar;
+
+use super::args::{InputArgs, MethodArgs, parse_method};
+use super::assess::load;
+use super::progress::show_progress;
+use super::protocol::ProtocolArgs;
+use embloom::assess::{AssessConfig, Knob, SweepResults, sweep};
+use embloom::augment::MethodKind;
+use embloom::error::{Error, Result};
+use embloom::io::{self, ReadOptions, write_atomically};
+
+/// Assess one method at several values of one knob (same folds and seed at every value),
+/// each against `none`.
+#[derive(Args, Debug)]
+pub struct SweepArgs {
+    #[command(flatten)]
+    pub input: InputArgs,
+    /// The method whose knob is turned.
+    #[arg(long, value_parser = parse_method)]
+    pub method: MethodKind,
+    /// magnitude, neighbours, target or variance-kept.
+    #[arg(long, value_parser = parse_knob)]
+    pub knob: Knob,
+    /// The values to try, comma-separated (e.g. 0.25,0.5,1 or median,largest).
+    #[arg(long, value_delimiter = ',', required = true)]
+    pub values: Vec<String>,
+    #[command(flatten)]
+    pub protocol: ProtocolArgs,
+    #[command(flatten)]
+    pub how: MethodArgs,
+    /// Also write the points as CSV to this file.
+    #[arg(long, value_name = "FILE")]
+    pub csv: Option<PathBuf>,
+    /// Replace an existing CSV file.
+    #[arg(long)]
+    pub force: bool,
+    /// Print the results as JSON on stdout instead of the table.
+    #[arg(long)]
+    pub json: bool,
+}
+
+fn parse_knob(s: &str) -> std::result::Result<Knob, String> {
+    s.parse().map_err(|e: embloom::Error| e.to_string())
+}
+
+/// Run `embloom sweep` and print its table (or JSON).
+pub fn run(a: SweepArgs, quiet: bool) -> anyhow::Result<()> {
+    let config = a
+        .protocol
+        .config(vec![MethodKind::None, a.method], &a.how, false);
+    let opts = SweepOptions {
+        input: a.input.file.clone(),
+        read: a.input.read_options(),
+        config,
+        method: a.method,
+        knob: a.knob,
+        values: a.values.clone(),
+        csv: a.csv.clone(),
+        force: a.force,
+    };
+    let results = execute(&opts, show_progress(quiet))?;
+    if a.json {
+        println!("{}", serde_json::to_string_pretty(&results)?);
+    } else {
+        print!("{}", embloom::report::sweep_table(&results));
+    }
+    Ok(())
+}
+
+#[derive(Debug, Clone)]
+pub struct SweepOptions {
+    pub input: PathBuf,
+    pub read: ReadOptions,
+    pub config: AssessConfig,
+    pub method: MethodKind,
+    pub knob: Knob,
+    pub values: Vec<String>,
+    pub csv: Option<PathBuf>,
+    pub force: bool,
+}
+
+/// Run a sweep and write its CSV when asked.
+pub fn execute(opts: &SweepOptions, show_progress: bool) -> Result<SweepResults> {
+    if let Some(csv) = &opts.csv {
+        let inputs = io::output_target::inputs_of(&opts.input, &opts.read);
+        io::output_target::check_file(csv, opts.force, &inputs, None)?;
+    }
+    let (loaded, input) = load(&opts.input, &opts.read)?;
+    let mut config = opts.config.clone();
+    let clamped = super::assess::clamp_knn_k(&mut config, loaded.dataset.n_rows());
+    let bar = if show_progress {
+        ProgressBar::new(opts.values.len() as u64)
+    } else {
+        ProgressBar::hidden()
+    };
+    let mut results = sweep(
+        &loaded.dataset,
+        &config,
+        opts.method,
+        opts.knob,
+        &opts.values,
+        input,
+        |done, value| {
+            bar.set_position(done as u64);
+            bar.set_message(format!("{} = {value}", opts.knob));
+        },
+    )?;
+    bar.finish_and_clear();
+    results.warnings.extend(clamped);
+    if let Some(csv) = &opts.csv {
+        let text = embloom::report::sweep_csv(&results);
+        write_atomically(csv, opts.force, |tmp| {
+            std::fs::write(tmp, text.as_bytes()).map_err(|e| Error::io(tmp, e))
+        })?;
+    }
+    Ok(results)
+}

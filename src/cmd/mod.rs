@@ -1,8 +1,0 @@
-//! One function per command; the binary parses arguments into these options and calls them.
-
-pub mod assess;
-pub mod demo;
-pub mod grow;
-pub mod inspect;
-pub mod options;
-pub mod sweep;

@@ -1,0 +1,15 @@
+//! The command-line tests, linked as one binary: each module runs the embloom binary (or
+//! checks what it writes) for one area.
+
+#[path = "../common/mod.rs"]
+mod common;
+
+mod cli_grow;
+mod cli_inspect;
+mod cli_sweep;
+mod demo_data;
+mod hardening_atomic;
+mod hardening_catalogue;
+mod hardening_determinism;
+mod hardening_fuzz;
+mod hardening_memory;

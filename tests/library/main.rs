@@ -1,0 +1,19 @@
+//! The library tests, linked as one binary: each module checks one library area against
+//! a named reference.
+
+#[path = "../common/mod.rs"]
+mod common;
+
+mod assess_digits;
+mod assess_leakage;
+mod augment_methods;
+mod eval_diagnostics;
+mod eval_metrics;
+mod eval_protocol;
+mod eval_stats;
+mod io_bad;
+mod io_roundtrip;
+mod neighbors_exact;
+mod pca_iris;
+mod probe_digits;
+mod report_render;
