@@ -53,6 +53,7 @@ pub fn run(opts: &AssessOptions) -> Result<AssessResults> {
 pub fn load(path: &Path, read: &ReadOptions) -> Result<(Loaded, InputInfo)> {
     let loaded = io::read(path, read)?;
     let ds = &loaded.dataset;
+    crate::neighbors::magnitude::check(path, ds.x.view())?;
     let input = InputInfo {
         path: path.display().to_string(),
         sha256: sha256_of(path)?,

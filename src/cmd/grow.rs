@@ -236,6 +236,7 @@ pub fn grow(opts: &GrowOptions) -> Result<GrowSummary> {
     io::output_format(&opts.output)?;
     let loaded = io::read(&opts.input, &opts.read)?;
     let ds = &loaded.dataset;
+    crate::neighbors::magnitude::check(&opts.input, ds.x.view())?;
     let plan = plan_for(ds, opts.target, opts.classes.as_deref())?;
     let bytes =
         io::output_target::output_bytes(&opts.output, ds.n_rows() + plan.total(), ds.dims());
