@@ -86,3 +86,29 @@ fn rows_overflowing_f32_distances_are_refused_by_row() {
     assert!(stderr(&o).contains("row 7"), "{}", stderr(&o));
     assert!(!out.exists());
 }
+
+#[test]
+fn classes_smaller_than_the_fold_count_are_warned_about() {
+    let dir = common::tempdir();
+    let input = dir.path().join("in.csv");
+    write_csv(&input, &[20, 20, 1, 1, 1], 5, 4);
+    let o = embloom(
+        &[
+            "assess",
+            input.to_str().unwrap(),
+            "--probes",
+            "knn",
+            "--methods",
+            "none",
+            "--folds",
+            "5",
+        ],
+        &[],
+    );
+    let all = stdout(&o) + &stderr(&o);
+    assert!(o.status.success(), "{all}");
+    assert!(
+        all.contains("3 of 5 classes have fewer rows than the 5 folds"),
+        "{all}"
+    );
+}

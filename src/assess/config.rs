@@ -9,10 +9,10 @@ use crate::probe::KnnParams;
 use crate::probe::LinearParams;
 use crate::probe::ProbeKind;
 
-/// Everything an assessment needs besides the data.
-
 /// The most repeats of the fold split an assessment accepts.
 pub const MAX_REPEATS: usize = 1000;
+
+/// Everything an assessment needs besides the data.
 #[derive(Debug, Clone, Serialize)]
 pub struct AssessConfig {
     /// Methods to compare; `none` (the baseline) is always first.

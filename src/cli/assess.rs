@@ -118,6 +118,7 @@ pub fn execute(opts: &AssessOptions, show_progress: bool) -> Result<AssessResult
 /// Read the input and describe it for the results (path, SHA-256, shape, classes).
 pub fn load(path: &Path, read: &ReadOptions) -> Result<(Loaded, InputInfo)> {
     let loaded = io::read(path, read)?;
+    embloom::neighbors::magnitude::check(path, loaded.dataset.x.view())?;
     let input = InputInfo::of(path, &loaded.dataset)?;
     Ok((loaded, input))
 }

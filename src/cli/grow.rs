@@ -187,6 +187,7 @@ pub fn execute(opts: &GrowOptions) -> Result<GrowSummary> {
     io::output_format(&opts.output)?;
     let loaded = io::read(&opts.input, &opts.read)?;
     let ds = &loaded.dataset;
+    embloom::neighbors::magnitude::check(&opts.input, ds.x.view())?;
     let plan = plan_for(ds, opts.target, opts.classes.as_deref())?;
     let bytes =
         io::output_target::output_bytes(&opts.output, ds.n_rows() + plan.total(), ds.dims());

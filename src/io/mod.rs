@@ -205,24 +205,7 @@ pub fn read(path: &Path, opts: &ReadOptions) -> Result<Loaded> {
         #[cfg(not(feature = "hdf5"))]
         Format::Hdf5 => return Err(no_hdf5(path)),
     };
-    let loaded = assemble::finish(path, parts, opts.drop_nonfinite, opts.keep_nonfinite)?;
-    // inspect (which keeps non-finite rows) describes such a file; the commands that search
-    // neighbours refuse it.
-    if !opts.keep_nonfinite
-        && let Some((row, norm)) =
-            crate::neighbors::magnitude::first_oversized_row(loaded.dataset.x.view())
-    {
-        return Err(Error::input_at(
-            path,
-            format!("row {row}"),
-            format!(
-                "row norm {norm:.3e} is too large for float32 distance arithmetic (limit {:.1e})",
-                crate::neighbors::magnitude::MAX_ROW_NORM
-            ),
-            "rescale the embeddings (e.g. divide every value by 1e10) or unit-normalise them",
-        ));
-    }
-    Ok(loaded)
+    assemble::finish(path, parts, opts.drop_nonfinite, opts.keep_nonfinite)
 }
 
 /// Runs a stream writer on a buffered file at `tmp`.

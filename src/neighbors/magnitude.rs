@@ -23,6 +23,23 @@ pub fn first_oversized_row(x: ArrayView2<f32>) -> Option<(usize, f64)> {
     })
 }
 
+/// Refuses a dataset read from `path` when a row's norm is too large for the neighbour
+/// search, naming the first such row. Called by the commands that search neighbours; a file
+/// can still be inspected.
+pub fn check(path: &std::path::Path, x: ArrayView2<f32>) -> crate::Result<()> {
+    match first_oversized_row(x) {
+        None => Ok(()),
+        Some((row, norm)) => Err(crate::Error::input_at(
+            path,
+            format!("row {row}"),
+            format!(
+                "row norm {norm:.3e} is too large for float32 distance arithmetic (limit {MAX_ROW_NORM:.1e})"
+            ),
+            "rescale the embeddings (e.g. divide every value by 1e10) or unit-normalise them",
+        )),
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -58,7 +58,7 @@ fn is_bidi_override(c: char) -> bool {
 
 #[cfg(test)]
 mod tests {
-    use super::display_name;
+    use super::{display_name, display_text};
 
     #[test]
     fn escapes_controls_and_cuts_long_names() {

@@ -496,7 +496,9 @@ fn report_dir_is_written_atomically() {
         v.sort();
         v
     };
-    assert_eq!(listing(&dir).len(), files.len());
+    // The six files and embloom's manifest (which lets --force recognise the folder).
+    assert_eq!(listing(&dir).len(), files.len() + 1);
+    assert!(dir.join(".embloom-manifest").is_file());
     assert_eq!(
         listing(base.path()),
         vec!["run1".to_string()],
@@ -520,10 +522,16 @@ fn report_dir_is_written_atomically() {
     assert!(dir.join("marker.txt").exists());
     assert_eq!(listing(base.path()), vec!["run1".to_string()]);
 
-    // With force the old folder is replaced as a whole.
+    // With force, a folder holding a file embloom did not write is refused and kept ...
+    let err = write_report_dir(&dir, &r, true).unwrap_err().to_string();
+    assert!(err.contains("marker.txt"), "{err}");
+    assert!(dir.join("marker.txt").exists());
+    // ... and embloom's own report is replaced as a whole.
+    std::fs::remove_file(dir.join("marker.txt")).unwrap();
     write_report_dir(&dir, &r, true).unwrap();
-    assert!(!dir.join("marker.txt").exists());
-    assert_eq!(listing(&dir).len(), files.len());
+    // The six files and embloom's manifest (which lets --force recognise the folder).
+    assert_eq!(listing(&dir).len(), files.len() + 1);
+    assert!(dir.join(".embloom-manifest").is_file());
     assert_eq!(
         listing(base.path()),
         vec!["run1".to_string()],

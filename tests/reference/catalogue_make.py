@@ -174,6 +174,40 @@ def make_bad():
     case("not_a_zip.npz", b"PK\x03\x04" + b"\x00" * 60, "a zip header and nothing else",
          "not a readable .npz")
 
+    def npy_with_shape(shape_text, data):
+        head = "{'descr': '<f4', 'fortran_order': False, 'shape': %s, }" % shape_text
+        head += " " * ((64 - (10 + len(head) + 1) % 64) % 64) + "\n"
+        return b"\x93NUMPY\x01\x00" + len(head).to_bytes(2, "little") + head.encode() + data
+
+    def bomb(p):
+        # A deflated member whose header says 8 x 3 but which inflates to 4 MiB more.
+        body = npy_with_shape("(8, 3)", X.astype("<f4").tobytes() + b"\x00" * (4 << 20))
+        with zipfile.ZipFile(p, "w") as z:
+            info = zipfile.ZipInfo("embeddings.npy", date_time=(2020, 1, 1, 0, 0, 0))
+            info.compress_type = zipfile.ZIP_DEFLATED
+            z.writestr(info, body)
+            z.writestr(zipfile.ZipInfo("labels.npy", date_time=(2020, 1, 1, 0, 0, 0)),
+                       npy_bytes(Y))
+
+    case("bomb.npz", bomb,
+         "a deflated member inflating 4 MiB past what its 8 x 3 header implies",
+         "decompression bomb")
+
+    def trillion(p):
+        with zipfile.ZipFile(p, "w", zipfile.ZIP_STORED) as z:
+            z.writestr(zipfile.ZipInfo("embeddings.npy", date_time=(2020, 1, 1, 0, 0, 0)),
+                       npy_with_shape("(1000000000000, 3)", X.astype("<f4").tobytes()))
+            z.writestr(zipfile.ZipInfo("labels.npy", date_time=(2020, 1, 1, 0, 0, 0)),
+                       npy_bytes(Y))
+
+    case("trillion_rows.npz", trillion, "a header claiming 10^12 rows over 96 data bytes",
+         "(1000000000000, 3)")
+    huge = [r[:] for r in rows]
+    huge[4][1] = "1e19"
+    case("huge_norm.csv", csv_text(huge),
+         "a value of 1e19, whose square overflows float32 distances",
+         "too large for float32", commands=("grow", "assess"))
+
     header = json.dumps({"embeddings": {"dtype": "F32", "shape": [8, 3], "data_offsets": [0, 96]}})
     case("short_data.safetensors",
          len(header).to_bytes(8, "little") + header.encode() + X.tobytes()[:50],
