@@ -317,8 +317,8 @@ fn table_columns_are_aligned() {
 fn csv_files_parse_back_with_consistent_shape() {
     let r = results();
     for (text, records, cols) in [
-        (summary_csv(&r), r.summary.len(), 9),
-        (per_class_csv(&r), r.per_class.len(), 10),
+        (summary_csv(&r), r.summary.len(), 10),
+        (per_class_csv(&r), r.per_class.len(), 13),
         (diagnostics_csv(&r), r.diagnostics.len(), 10),
         // 8 fixed columns + 6 metrics (4 shared, log_loss and ece for linear) + 4 classes.
         (folds_csv(&r), r.folds.len(), 8 + 6 + 4),
