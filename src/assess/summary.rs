@@ -256,8 +256,13 @@ impl<'a> Aggregate<'a> {
                 .iter()
                 .map(|n| n.replace('_', " "))
                 .chain(self.classes.iter().map(|n| format!("recall of class {n}")));
-            for (label, e) in labels.zip(&c.estimates) {
-                if e.folds > 0 && e.zero_folds as f64 > MOSTLY_ZERO * e.folds as f64 {
+            // Per class only for the grown classes: a class every probe always gets right has
+            // all-zero differences too, and that is no news.
+            let relevant = (0..POOLED_NAMES.len() + self.classes.len()).map(|j| {
+                j < POOLED_NAMES.len() || self.grown.contains(&((j - POOLED_NAMES.len()) as u32))
+            });
+            for ((label, e), keep) in labels.zip(&c.estimates).zip(relevant) {
+                if keep && e.folds > 0 && e.zero_folds as f64 > MOSTLY_ZERO * e.folds as f64 {
                     out.push(format!(
                         "{} with the {} probe: {} of {} fold differences in {} are exactly zero; the estimate rests on very few test rows",
                         self.methods[m], self.probes[p], e.zero_folds, e.folds, label
