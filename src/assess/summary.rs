@@ -1,7 +1,8 @@
 //! From per-fold records to paired differences against `none`, per metric and per class.
 //!
 //! Accuracy, balanced accuracy, macro-F1, grown-class recall and the per-class figures are
-//! computed from the test rows pooled over each repeat's folds (for F1 the pooled confusion
+//! computed from the test rows pooled over each repeat's folds under the row-level intervals
+//! (under `corrected-t`, a fold-level method, they are fold averages) (for F1 the pooled confusion
 //! counts, as Forman & Scholz 2010 recommend: fold-averaged F1 is biased on small folds), and
 //! their intervals come from the chosen [`IntervalKind`]. Log loss and ECE stay fold averages
 //! with the corrected t over folds (they need the per-row probabilities, which are not kept).
@@ -11,10 +12,10 @@ use std::collections::{BTreeMap, BTreeSet};
 use rand::RngCore;
 
 use super::results::{AssessResults, ClassRow, DiagnosticRow, FoldRecord, SummaryRow};
-use crate::eval::interval::counts_pooled;
 use crate::eval::interval::{
     self, IntervalKind, NoInterval, PairedEstimate, PairedFold, PooledMetric,
 };
+use crate::eval::interval::{ClassCounts, counts_pooled};
 use crate::eval::stats::corrected_paired_t;
 use crate::seed;
 use crate::rounding::signed;
@@ -91,10 +92,26 @@ impl<'a> Aggregate<'a> {
             .next_u64();
             let estimates =
                 interval::paired(kind, &folds, &metrics, classes.len(), LEVEL, stream_seed);
-            let values = counts_pooled(&folds, &metrics, classes.len())
-                .into_iter()
-                .map(|v| v.method)
-                .collect();
+            // The corrected t is a fold-level method: its level column is the fold average,
+            // so that level − baseline level equals the printed difference.
+            let values = if kind == IntervalKind::CorrectedT {
+                metrics
+                    .iter()
+                    .map(|metric| {
+                        let v: Vec<f64> = folds
+                            .iter()
+                            .map(|f| metric.value(&ClassCounts::of(f.method, classes.len())))
+                            .filter(|v| v.is_finite())
+                            .collect();
+                        mean(&v)
+                    })
+                    .collect()
+            } else {
+                counts_pooled(&folds, &metrics, classes.len())
+                    .into_iter()
+                    .map(|v| v.method)
+                    .collect()
+            };
             compared.insert((m, p), Compared { values, estimates });
         }
         Aggregate {
@@ -257,8 +274,13 @@ impl<'a> Aggregate<'a> {
                 .iter()
                 .map(|n| n.replace('_', " "))
                 .chain(self.classes.iter().map(|n| format!("recall of class {n}")));
-            for (label, e) in labels.zip(&c.estimates) {
-                if e.folds > 0 && e.zero_folds as f64 > MOSTLY_ZERO * e.folds as f64 {
+            // Per class only for the grown classes: a class every probe always gets right has
+            // all-zero differences too, and that is no news.
+            let relevant = (0..POOLED_NAMES.len() + self.classes.len()).map(|j| {
+                j < POOLED_NAMES.len() || self.grown.contains(&((j - POOLED_NAMES.len()) as u32))
+            });
+            for ((label, e), keep) in labels.zip(&c.estimates).zip(relevant) {
+                if keep && e.folds > 0 && e.zero_folds as f64 > MOSTLY_ZERO * e.folds as f64 {
                     out.push(format!(
                         "{} with the {} probe: {} of {} fold differences in {} are exactly zero; the estimate rests on very few test rows",
                         self.methods[m], self.probes[p], e.zero_folds, e.folds, label

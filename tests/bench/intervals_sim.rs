@@ -246,6 +246,9 @@ pub fn wilson(k: usize, n: usize) -> (f64, f64) {
     (centre - half, centre + half)
 }
 
+/// What one summary row printed: estimate, bounds, p-value, whether it has an interval.
+type Printed = (f64, f64, f64, f64, bool);
+
 /// Assess `datasets` simulated data sets of `w` and tally every interval kind against `truth`.
 pub fn run(
     w: &World,
@@ -275,7 +278,7 @@ pub fn run(
     .validated()
     .unwrap();
     let method = w.method.name().to_string();
-    let per_dataset: Vec<Vec<(f64, f64, f64, f64, bool)>> = (0..datasets)
+    let per_dataset: Vec<Vec<Printed>> = (0..datasets)
         .into_par_iter()
         .map(|i| {
             let mut rng = ChaCha8Rng::seed_from_u64(seed.wrapping_add(1_000_003 * i as u64 + 17));
@@ -335,7 +338,7 @@ pub fn run(
                     }
                     continue;
                 }
-                if !(hi > lo) || p <= 0.0 {
+                if hi.partial_cmp(&lo) != Some(std::cmp::Ordering::Greater) || p <= 0.0 {
                     t.degenerate_printed += 1;
                 }
                 t.with_interval += 1;

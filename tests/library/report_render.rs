@@ -65,6 +65,7 @@ fn results() -> AssessResults {
                     metrics,
                     class_recall,
                     converged: (probe == "linear").then_some(fold != 2),
+                    outcome: Default::default(),
                 });
             }
             for (j, metric) in METRICS.iter().enumerate() {
@@ -81,6 +82,7 @@ fn results() -> AssessResults {
                     delta_ci_high: if base { 0.0 } else { d + 0.02 },
                     p_value: if base { f64::NAN } else { 0.04 },
                     folds: 5,
+                    no_interval: None,
                 });
             }
             for (c, class) in CLASSES.iter().enumerate() {
@@ -100,11 +102,14 @@ fn results() -> AssessResults {
                     class: class.to_string(),
                     grown,
                     recall_mean: 0.6 + 0.05 * c as f64 + d,
+                    precision_pooled: f64::NAN,
+                    f1_pooled: f64::NAN,
                     delta_mean: d,
                     delta_ci_low: d - 0.03,
                     delta_ci_high: d + 0.03,
                     p_value: 0.2,
                     folds: 5,
+                    no_interval: None,
                 });
             }
         }
@@ -312,8 +317,8 @@ fn table_columns_are_aligned() {
 fn csv_files_parse_back_with_consistent_shape() {
     let r = results();
     for (text, records, cols) in [
-        (summary_csv(&r), r.summary.len(), 9),
-        (per_class_csv(&r), r.per_class.len(), 10),
+        (summary_csv(&r), r.summary.len(), 10),
+        (per_class_csv(&r), r.per_class.len(), 13),
         (diagnostics_csv(&r), r.diagnostics.len(), 10),
         // 8 fixed columns + 6 metrics (4 shared, log_loss and ece for linear) + 4 classes.
         (folds_csv(&r), r.folds.len(), 8 + 6 + 4),
