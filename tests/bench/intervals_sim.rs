@@ -14,7 +14,7 @@
 use embloom::Dataset;
 use embloom::assess::{AssessConfig, InputInfo, assess, summary_with};
 use embloom::augment::{self, AugmentParams, MethodKind, Plan, Target};
-use embloom::cmd::options::UnitNorm;
+use embloom::augment::UnitNorm;
 use embloom::eval::IntervalKind;
 use embloom::neighbors::{self, Metric};
 use embloom::probe::{KnnParams, KnnProbe, LinearParams, ProbeKind};
@@ -273,7 +273,6 @@ pub fn run(
         interval: IntervalKind::default(),
         seed,
         diagnostics: false,
-        progress: false,
     }
     .validated()
     .unwrap();

@@ -13,3 +13,7 @@ mod hardening_catalogue;
 mod hardening_determinism;
 mod hardening_fuzz;
 mod hardening_memory;
+mod input_bounds;
+mod output_safety;
+mod resource_bounds;
+mod terminal_names;

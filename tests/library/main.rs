@@ -5,9 +5,11 @@
 mod common;
 
 mod assess_digits;
+mod assess_intervals;
 mod assess_leakage;
 mod augment_methods;
 mod eval_diagnostics;
+mod eval_interval;
 mod eval_metrics;
 mod eval_protocol;
 mod eval_stats;

@@ -5,7 +5,7 @@
 use embloom::Dataset;
 use embloom::assess::{AssessConfig, InputInfo, assess};
 use embloom::augment::{AugmentParams, MethodKind, Target};
-use embloom::cmd::options::UnitNorm;
+use embloom::augment::UnitNorm;
 use embloom::eval::IntervalKind;
 use embloom::neighbors::Metric;
 use embloom::probe::{KnnParams, LinearParams, ProbeKind};
@@ -54,7 +54,6 @@ fn config(interval: IntervalKind) -> AssessConfig {
         interval,
         seed: 3,
         diagnostics: false,
-        progress: false,
     }
 }
 

@@ -4,7 +4,7 @@
 //! remove temporaries and exit 130/143; every output target is checked before any work.
 //! (Expected behaviour: common practice for a tool that writes into user folders, no source.)
 
-mod common;
+use crate::common;
 
 use std::path::Path;
 use std::process::{Command, Stdio};

@@ -2,7 +2,7 @@
 //! 70,000 characters, no ESC/CR/backspace/newline passed through to drive the terminal.
 //! (ECMA-48 control characters; expected behaviour common practice, no source.)
 
-mod common;
+use crate::common;
 
 use common::{embloom, stderr, stdout};
 

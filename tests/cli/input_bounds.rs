@@ -3,7 +3,7 @@
 //! numpy unicode labels. (numpy's .npy format: NEP 1 / numpy.lib.format; the zip format:
 //! PKWARE APPNOTE. Expected behaviour otherwise common practice, no source.)
 
-mod common;
+use crate::common;
 
 use std::io::Write;
 use std::path::Path;

@@ -4,7 +4,7 @@
 //! naming the first such row. (f32::MAX ≈ 3.4e38, IEEE 754 binary32; the rest common
 //! practice, no source.)
 
-mod common;
+use crate::common;
 
 use common::{embloom, stderr, stdout, write_csv};
 
