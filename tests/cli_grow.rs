@@ -322,3 +322,56 @@ fn kdtree_neighbour_index_gives_same_class_partners() {
         assert_eq!(rows[partner][col("label")], r[col("label")]);
     }
 }
+
+#[test]
+fn synthetic_rows_carry_no_fold_and_no_group() {
+    // A synthetic row mixes a parent with a partner that may sit in another fold or group, so
+    // it takes neither (fold -1, empty group); real rows keep theirs. Common practice, no source.
+    let dir = tempdir();
+    let input = p(dir.path(), "in.csv");
+    let mut text = String::from("label,group,fold,f0,f1\n");
+    for i in 0..12 {
+        let label = if i < 8 { "a" } else { "b" };
+        text.push_str(&format!(
+            "{label},g{},{},{}.5,{}\n",
+            i % 3,
+            i % 2,
+            i,
+            12 - i
+        ));
+    }
+    std::fs::write(&input, text).unwrap();
+    let out = p(dir.path(), "out.csv");
+    let o = embloom(
+        &[
+            "grow",
+            input.to_str().unwrap(),
+            "-o",
+            out.to_str().unwrap(),
+            "--method",
+            "interpolate",
+            "--seed",
+            "1",
+        ],
+        &[],
+    );
+    assert!(o.status.success(), "{}", stderr(&o));
+    let (header, rows) = read_csv(&out);
+    let col = |name: &str| header.iter().position(|h| h == name).unwrap();
+    let (origin, group, fold) = (col("origin"), col("group"), col("fold"));
+    assert!(rows.len() > 12);
+    for (i, r) in rows.iter().enumerate() {
+        if i < 12 {
+            assert_eq!(r[origin], "real");
+            assert_eq!(r[fold], (i % 2).to_string());
+            assert_eq!(r[group], format!("g{}", i % 3));
+        } else {
+            assert_ne!(r[origin], "real");
+            assert_eq!(r[fold], "-1", "row {i}");
+            assert_eq!(r[group], "\"\"", "row {i}");
+        }
+    }
+    // The export reads back (an empty group is allowed on an export's synthetic rows).
+    let o = embloom(&["inspect", out.to_str().unwrap()], &[]);
+    assert!(o.status.success(), "{}", stderr(&o));
+}

@@ -228,7 +228,9 @@ pub fn read(path: &Path, sep: char, opts: &ReadOptions) -> Result<Parts> {
         }
         for ((raw, role), name) in rec.fields.iter().zip(&roles).zip(&names) {
             let v = raw.trim();
-            if v.is_empty() && *role != Role::Provenance {
+            // An export leaves the group of synthetic rows empty (they belong to no group).
+            let may_be_empty = *role == Role::Provenance || (is_export && *role == Role::Group);
+            if v.is_empty() && !may_be_empty {
                 return Err(missing(path, rec.line, name));
             }
             match role {
