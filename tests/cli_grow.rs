@@ -375,3 +375,57 @@ fn synthetic_rows_carry_no_fold_and_no_group() {
     let o = embloom(&["inspect", out.to_str().unwrap()], &[]);
     assert!(o.status.success(), "{}", stderr(&o));
 }
+
+#[test]
+fn assessing_a_grown_file_uses_only_its_real_rows() {
+    // Synthetic rows are not observations: a grown file assessed with `--methods none` must
+    // give the baseline of its real rows alone (common practice, no source).
+    let dir = tempdir();
+    let input = p(dir.path(), "in.csv");
+    write_csv(&input, &[30, 6, 12], 4, 1);
+    for ext in ["csv", "npz", "safetensors"] {
+        let grown = p(dir.path(), &format!("grown.{ext}"));
+        let o = embloom(
+            &[
+                "grow",
+                input.to_str().unwrap(),
+                "-o",
+                grown.to_str().unwrap(),
+                "--method",
+                "interpolate",
+                "--target",
+                "largest",
+            ],
+            &[],
+        );
+        assert!(o.status.success(), "{}", stderr(&o));
+        let summary = |f: &std::path::Path| {
+            let o = embloom(
+                &[
+                    "assess",
+                    f.to_str().unwrap(),
+                    "--methods",
+                    "none",
+                    "--probes",
+                    "knn",
+                    "--folds",
+                    "3",
+                    "--no-diagnostics",
+                    "--json",
+                ],
+                &[],
+            );
+            assert!(o.status.success(), "{}", stderr(&o));
+            let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+            (v["summary"].clone(), v["warnings"].to_string())
+        };
+        let (base, _) = summary(&input);
+        let (from_grown, warnings) = summary(&grown);
+        assert!(base.as_array().is_some_and(|a| !a.is_empty()), "{base}");
+        assert_eq!(base, from_grown, "{ext}");
+        assert!(
+            warnings.contains("synthetic rows were left out"),
+            "{ext}: {warnings}"
+        );
+    }
+}

@@ -38,6 +38,14 @@ pub fn run(opts: &AssessOptions) -> Result<AssessResults> {
     let ds = &loaded.dataset;
     check_memory(ds, &config, opts)?;
     let mut results = assess(ds, &config, input)?;
+    if let Some(origin) = &loaded.origin {
+        let synthetic = origin.iter().filter(|o| *o != "real").count();
+        if synthetic > 0 {
+            results.warnings.push(format!(
+                "the input is a grown file: its {synthetic} synthetic rows were left out and only its real rows assessed"
+            ));
+        }
+    }
     if loaded.dropped_nonfinite > 0 {
         results.warnings.push(format!(
             "{} input rows with NaN/Inf were skipped",
@@ -51,8 +59,17 @@ pub fn run(opts: &AssessOptions) -> Result<AssessResults> {
 }
 
 /// Read the input and describe it for the results (path, SHA-256, shape, classes).
+///
+/// A file embloom grew carries an `origin` per row: only its `real` rows are data, so its
+/// synthetic rows can never be scored as if they were observations.
 pub fn load(path: &Path, read: &ReadOptions) -> Result<(Loaded, InputInfo)> {
-    let loaded = io::read(path, read)?;
+    let mut loaded = io::read(path, read)?;
+    if let Some(origin) = &loaded.origin {
+        let real: Vec<usize> = (0..origin.len()).filter(|&i| origin[i] == "real").collect();
+        if real.len() < origin.len() {
+            loaded.dataset = loaded.dataset.select(&real);
+        }
+    }
     let ds = &loaded.dataset;
     let input = InputInfo {
         path: path.display().to_string(),

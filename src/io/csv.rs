@@ -213,6 +213,7 @@ pub fn read(path: &Path, sep: char, opts: &ReadOptions) -> Result<Parts> {
     let mut ids = has(Role::Id).then(Vec::new);
     let mut groups = has(Role::Group).then(Vec::new);
     let mut folds = has(Role::Fold).then(Vec::new);
+    let mut origin = is_export.then(Vec::new);
     for rec in recs {
         if rec.fields.len() != names.len() {
             return Err(Error::input_at(
@@ -261,6 +262,10 @@ pub fn read(path: &Path, sep: char, opts: &ReadOptions) -> Result<Parts> {
                     })?;
                     folds.as_mut().into_iter().for_each(|x| x.push(f));
                 }
+                Role::Provenance if name == "origin" => origin
+                    .as_mut()
+                    .into_iter()
+                    .for_each(|o| o.push(v.to_string())),
                 Role::Provenance => {}
             }
         }
@@ -283,6 +288,7 @@ pub fn read(path: &Path, sep: char, opts: &ReadOptions) -> Result<Parts> {
         groups: groups.map(|v| ("column 'group'".into(), v)),
         folds: folds.map(|v| (format!("column '{}'", opts.fold_key), v)),
         row_lines: Some(lines),
+        origin,
     })
 }
 
