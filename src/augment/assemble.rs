@@ -41,10 +41,12 @@ pub fn assemble(ds: &Dataset, grown: &Grown, method: MethodKind) -> Result<Augme
     })?;
     let mut labels = ds.labels.clone();
     labels.extend_from_slice(&grown.labels);
-    let inherit = |v: &Option<Vec<String>>| {
+    // A synthetic row mixes its parent with a partner that may sit in another fold or group,
+    // so it belongs to neither: fold -1 and an empty group.
+    let no_group = |v: &Option<Vec<String>>| {
         v.as_ref().map(|v| {
             let mut out = v.clone();
-            out.extend(grown.provenance.iter().map(|p| v[p.parent].clone()));
+            out.extend(std::iter::repeat_n(String::new(), n_syn));
             out
         })
     };
@@ -55,7 +57,7 @@ pub fn assemble(ds: &Dataset, grown: &Grown, method: MethodKind) -> Result<Augme
     });
     let folds = ds.folds.as_ref().map(|f| {
         let mut out = f.clone();
-        out.extend(grown.provenance.iter().map(|p| f[p.parent]));
+        out.extend(std::iter::repeat_n(-1, n_syn));
         out
     });
     let data = Dataset {
@@ -63,7 +65,7 @@ pub fn assemble(ds: &Dataset, grown: &Grown, method: MethodKind) -> Result<Augme
         labels,
         classes: ds.classes.clone(),
         ids,
-        groups: inherit(&ds.groups),
+        groups: no_group(&ds.groups),
         folds,
         stored_dtype: "f32".into(),
     };

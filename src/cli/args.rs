@@ -51,7 +51,8 @@ impl InputArgs {
 /// How synthetic rows are made (shared by grow and assess).
 #[derive(Args, Debug, Clone)]
 pub struct MethodArgs {
-    /// Grow each class to: largest, median, a count N, or a factor xF of its own size.
+    /// Grow each class to: largest, median (the upper median for an even number of classes),
+    /// a count N, or a factor xF of its own size.
     #[arg(long, default_value = "median", value_parser = parse_target)]
     pub target: Target,
     /// Grow only these classes (comma-separated names).

@@ -99,6 +99,14 @@ pub fn execute(opts: &AssessOptions, show_progress: bool) -> Result<AssessResult
     let results = assess_observed(ds, &config, input, &mut |p| bar.update(p));
     bar.finish();
     let mut results = results?;
+    if let Some(origin) = &loaded.origin {
+        let synthetic = origin.iter().filter(|o| *o != "real").count();
+        if synthetic > 0 {
+            results.warnings.push(format!(
+                "the input is a grown file: its {synthetic} synthetic rows were left out and only its real rows assessed"
+            ));
+        }
+    }
     results.warnings.extend(clamped);
     results
         .warnings
@@ -116,8 +124,17 @@ pub fn execute(opts: &AssessOptions, show_progress: bool) -> Result<AssessResult
 }
 
 /// Read the input and describe it for the results (path, SHA-256, shape, classes).
+///
+/// A file embloom grew carries an `origin` per row: only its `real` rows are data, so its
+/// synthetic rows can never be scored as if they were observations.
 pub fn load(path: &Path, read: &ReadOptions) -> Result<(Loaded, InputInfo)> {
-    let loaded = io::read(path, read)?;
+    let mut loaded = io::read(path, read)?;
+    if let Some(origin) = &loaded.origin {
+        let real: Vec<usize> = (0..origin.len()).filter(|&i| origin[i] == "real").collect();
+        if real.len() < origin.len() {
+            loaded.dataset = loaded.dataset.select(&real);
+        }
+    }
     embloom::neighbors::magnitude::check(path, loaded.dataset.x.view())?;
     let input = InputInfo::of(path, &loaded.dataset)?;
     Ok((loaded, input))

@@ -149,7 +149,12 @@ impl GrowSummary {
         }
         let untouched = self.classes.iter().filter(|c| c.added == 0).count();
         if untouched > 0 {
-            s += &format!("  ({untouched} classes left as they were)\n");
+            let what = if untouched == 1 {
+                "class left as it was"
+            } else {
+                "classes left as they were"
+            };
+            s += &format!("  ({untouched} {what})\n");
         }
         for w in &self.warnings {
             s += &format!("warning: {}\n", embloom::report::display_text(w, 400, 20));

@@ -21,7 +21,7 @@ pub struct Inspection {
     pub rows: usize,
     pub dims: usize,
     pub dtype: String,
-    /// Largest first; ties in first-seen order.
+    /// Largest first; ties in class order.
     pub classes: Vec<ClassCount>,
     /// Largest class count ÷ smallest.
     pub imbalance_ratio: f64,

@@ -27,7 +27,7 @@ impl RawLabels {
     }
 }
 
-/// Class indices (first-seen order) and class names for a label column read from `path` at
+/// Class indices (numpy `unique` order, see [`sorted_codes`]) and class names for a label column read from `path` at
 /// `key`. Non-integral or NaN float labels are refused, naming the first offending row.
 pub fn encode_labels(raw: RawLabels, path: &Path, key: &str) -> Result<(Vec<u32>, Vec<String>)> {
     let names: Vec<String> = match raw {
@@ -51,18 +51,34 @@ pub fn encode_labels(raw: RawLabels, path: &Path, key: &str) -> Result<(Vec<u32>
             out
         }
     };
-    let mut classes: Vec<String> = Vec::new();
-    let mut index = std::collections::HashMap::<String, u32>::new();
-    let mut labels = Vec::with_capacity(names.len());
-    for name in names {
-        let next = classes.len() as u32;
-        let id = *index.entry(name.clone()).or_insert_with(|| {
-            classes.push(name);
-            next
-        });
-        labels.push(id);
-    }
+    let (labels, classes) = sorted_codes(names);
     Ok((labels, classes))
+}
+
+/// The canonical integer a name spells, if it spells one (`"7"`, `"-3"`; not `"07"`).
+fn as_integer(name: &str) -> Option<i64> {
+    name.parse::<i64>().ok().filter(|i| i.to_string() == name)
+}
+
+/// Class indices in the order numpy's `unique` gives: numeric order when every name is an
+/// integer, lexicographic (code point) order otherwise. The order decides which class wins a
+/// tied k-NN vote (the lowest index), so it must not depend on which class a file lists first.
+fn sorted_codes(names: Vec<String>) -> (Vec<u32>, Vec<String>) {
+    let mut classes: Vec<String> = names.clone();
+    classes.sort_unstable();
+    classes.dedup();
+    let ints: Option<Vec<i64>> = classes.iter().map(|c| as_integer(c)).collect();
+    if let Some(mut keyed) = ints.map(|v| v.into_iter().zip(classes.clone()).collect::<Vec<_>>()) {
+        keyed.sort_unstable_by_key(|(i, _)| *i);
+        classes = keyed.into_iter().map(|(_, c)| c).collect();
+    }
+    let index: std::collections::HashMap<&str, u32> = classes
+        .iter()
+        .enumerate()
+        .map(|(i, c)| (c.as_str(), i as u32))
+        .collect();
+    let labels = names.iter().map(|n| index[n.as_str()]).collect();
+    (labels, classes)
 }
 
 #[cfg(test)]
@@ -70,17 +86,42 @@ mod tests {
     use super::*;
 
     #[test]
-    fn first_seen_order_and_integral_floats() {
-        // common practice, no source: class order is the order of first appearance.
+    fn numpy_unique_order_and_integral_floats() {
+        // numpy.unique([2, 0, 2, 10]) -> [0, 2, 10] (from memory; numeric, not first-seen).
         let (l, c) = encode_labels(
-            RawLabels::Float(vec![2.0, 0.0, 2.0]),
+            RawLabels::Float(vec![2.0, 0.0, 2.0, 10.0]),
             Path::new("f"),
             "labels",
         )
         .unwrap();
-        assert_eq!(l, vec![0, 1, 0]);
-        assert_eq!(c, vec!["2", "0"]);
+        assert_eq!(l, vec![1, 0, 1, 2]);
+        assert_eq!(c, vec!["0", "2", "10"]);
         assert!(encode_labels(RawLabels::Float(vec![1.5]), Path::new("f"), "labels").is_err());
         assert!(encode_labels(RawLabels::Float(vec![f64::NAN]), Path::new("f"), "labels").is_err());
+    }
+
+    #[test]
+    fn integer_labels_sort_numerically_text_lexicographically() {
+        // numpy.unique([9, -1, 10, 3]) -> [-1, 3, 9, 10]; numpy.unique(['b', 'B', 'a', 'ab'])
+        // -> ['B', 'a', 'ab', 'b'] (from memory: code point order).
+        let (l, c) =
+            encode_labels(RawLabels::Int(vec![9, -1, 10, 3]), Path::new("f"), "l").unwrap();
+        assert_eq!(
+            (l, c),
+            (
+                vec![2, 0, 3, 1],
+                vec!["-1".into(), "3".into(), "9".into(), "10".into()]
+            )
+        );
+        let text = |v: &[&str]| RawLabels::Text(v.iter().map(|s| s.to_string()).collect());
+        let (l, c) = encode_labels(text(&["b", "B", "a", "ab"]), Path::new("f"), "l").unwrap();
+        assert_eq!(l, vec![3, 0, 1, 2]);
+        assert_eq!(c, vec!["B", "a", "ab", "b"]);
+        // A CSV label column of integers is text to the reader but numeric to pandas/numpy.
+        let (_, c) = encode_labels(text(&["9", "10", "3"]), Path::new("f"), "l").unwrap();
+        assert_eq!(c, vec!["3", "9", "10"]);
+        // "07" is not an integer spelling, so the column stays text: lexicographic.
+        let (_, c) = encode_labels(text(&["9", "07"]), Path::new("f"), "l").unwrap();
+        assert_eq!(c, vec!["07", "9"]);
     }
 }

@@ -20,7 +20,7 @@ pub struct Dataset {
     pub x: Array2<f32>,
     /// Class index per row, into `classes`.
     pub labels: Vec<u32>,
-    /// Class names in first-seen order.
+    /// Class names in numpy `unique` order (numeric for integer labels, else lexicographic).
     pub classes: Vec<String>,
     /// Optional row identifiers (carried to outputs).
     pub ids: Option<Vec<String>>,

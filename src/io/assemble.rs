@@ -24,6 +24,8 @@ pub struct Parts {
     pub folds: Option<(String, Vec<i64>)>,
     /// Text-file line number of each row, so messages can point into the file.
     pub row_lines: Option<Vec<usize>>,
+    /// The `origin` provenance of a file embloom grew (`real` or a method name per row).
+    pub origin: Option<Vec<String>>,
 }
 
 fn row_name(lines: &Option<Vec<usize>>, row: usize) -> String {
@@ -66,6 +68,7 @@ pub fn finish(
         groups,
         folds,
         row_lines,
+        origin,
     } = parts;
     let n = x.nrows();
     if labels.len() != n {
@@ -123,8 +126,18 @@ pub fn finish(
         .map(|r| r.iter().all(|v| v.is_finite()))
         .collect();
     let dropped = finite.iter().filter(|f| !**f).count();
-    let (x, labels, ids, groups, folds) = if dropped == 0 || keep_nonfinite {
-        (x, labels, ids, groups, folds)
+    if let Some(o) = &origin
+        && o.len() != n
+    {
+        return Err(Error::input_at(
+            path,
+            format!("origin vs {x_source}"),
+            format!("{} values for {n} embedding rows", o.len()),
+            "give exactly one origin per row, or remove the origin column",
+        ));
+    }
+    let (x, labels, ids, groups, folds, origin) = if dropped == 0 || keep_nonfinite {
+        (x, labels, ids, groups, folds, origin)
     } else if !drop_nonfinite {
         let first = finite.iter().position(|f| !*f).unwrap_or(0);
         return Err(Error::input_at(
@@ -149,6 +162,7 @@ pub fn finish(
             ids.map(|(k, v)| (k, keep(v, &finite))),
             groups.map(|(k, v)| (k, keep(v, &finite))),
             folds.map(|(k, v)| (k, keep(v, &finite))),
+            origin.map(|v| keep(v, &finite)),
         )
     };
     let (codes, classes) = encode_labels(labels, path, &labels_source)?;
@@ -160,5 +174,6 @@ pub fn finish(
     Ok(Loaded {
         dataset,
         dropped_nonfinite: dropped,
+        origin,
     })
 }

@@ -213,6 +213,7 @@ pub fn read(path: &Path, sep: char, opts: &ReadOptions) -> Result<Parts> {
     let mut ids = has(Role::Id).then(Vec::new);
     let mut groups = has(Role::Group).then(Vec::new);
     let mut folds = has(Role::Fold).then(Vec::new);
+    let mut origin = is_export.then(Vec::new);
     for rec in recs {
         if rec.fields.len() != names.len() {
             return Err(Error::input_at(
@@ -228,7 +229,9 @@ pub fn read(path: &Path, sep: char, opts: &ReadOptions) -> Result<Parts> {
         }
         for ((raw, role), name) in rec.fields.iter().zip(&roles).zip(&names) {
             let v = raw.trim();
-            if v.is_empty() && *role != Role::Provenance {
+            // An export leaves the group of synthetic rows empty (they belong to no group).
+            let may_be_empty = *role == Role::Provenance || (is_export && *role == Role::Group);
+            if v.is_empty() && !may_be_empty {
                 return Err(missing(path, rec.line, name));
             }
             match role {
@@ -259,6 +262,10 @@ pub fn read(path: &Path, sep: char, opts: &ReadOptions) -> Result<Parts> {
                     })?;
                     folds.as_mut().into_iter().for_each(|x| x.push(f));
                 }
+                Role::Provenance if name == "origin" => origin
+                    .as_mut()
+                    .into_iter()
+                    .for_each(|o| o.push(v.to_string())),
                 Role::Provenance => {}
             }
         }
@@ -281,6 +288,7 @@ pub fn read(path: &Path, sep: char, opts: &ReadOptions) -> Result<Parts> {
         groups: groups.map(|v| ("column 'group'".into(), v)),
         folds: folds.map(|v| (format!("column '{}'", opts.fold_key), v)),
         row_lines: Some(lines),
+        origin,
     })
 }
 

@@ -74,6 +74,8 @@ pub struct Loaded {
     pub dataset: Dataset,
     /// Rows skipped because of NaN/Inf (only with `drop_nonfinite`).
     pub dropped_nonfinite: usize,
+    /// Per-row `origin` when the file is one embloom grew (`real` or the method's name).
+    pub origin: Option<Vec<String>>,
 }
 
 /// An augmented set ready to export: real rows first, then synthetic rows, with provenance
@@ -187,6 +189,7 @@ fn read_npy(path: &Path, opts: &ReadOptions) -> Result<assemble::Parts> {
         groups: None,
         folds: None,
         row_lines: None,
+        origin: None,
     })
 }
 

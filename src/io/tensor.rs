@@ -181,6 +181,10 @@ pub fn keyed_parts(
         .get_optional("groups")?
         .map(|t| t.into_strings(path, "groups"))
         .transpose()?;
+    let origin = src
+        .get_optional("origin")?
+        .map(|t| t.into_strings(path, "origin"))
+        .transpose()?;
     let folds = src
         .get_optional(&opts.fold_key)?
         .map(|t| t.into_ints(path, &opts.fold_key))
@@ -195,5 +199,6 @@ pub fn keyed_parts(
         groups: groups.map(|v| ("key 'groups'".into(), v)),
         folds: folds.map(|v| (format!("key '{}'", opts.fold_key), v)),
         row_lines: None,
+        origin,
     })
 }

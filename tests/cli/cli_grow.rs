@@ -322,3 +322,110 @@ fn kdtree_neighbour_index_gives_same_class_partners() {
         assert_eq!(rows[partner][col("label")], r[col("label")]);
     }
 }
+
+#[test]
+fn synthetic_rows_carry_no_fold_and_no_group() {
+    // A synthetic row mixes a parent with a partner that may sit in another fold or group, so
+    // it takes neither (fold -1, empty group); real rows keep theirs. Common practice, no source.
+    let dir = tempdir();
+    let input = p(dir.path(), "in.csv");
+    let mut text = String::from("label,group,fold,f0,f1\n");
+    for i in 0..12 {
+        let label = if i < 8 { "a" } else { "b" };
+        text.push_str(&format!(
+            "{label},g{},{},{}.5,{}\n",
+            i % 3,
+            i % 2,
+            i,
+            12 - i
+        ));
+    }
+    std::fs::write(&input, text).unwrap();
+    let out = p(dir.path(), "out.csv");
+    let o = embloom(
+        &[
+            "grow",
+            input.to_str().unwrap(),
+            "-o",
+            out.to_str().unwrap(),
+            "--method",
+            "interpolate",
+            "--seed",
+            "1",
+        ],
+        &[],
+    );
+    assert!(o.status.success(), "{}", stderr(&o));
+    let (header, rows) = read_csv(&out);
+    let col = |name: &str| header.iter().position(|h| h == name).unwrap();
+    let (origin, group, fold) = (col("origin"), col("group"), col("fold"));
+    assert!(rows.len() > 12);
+    for (i, r) in rows.iter().enumerate() {
+        if i < 12 {
+            assert_eq!(r[origin], "real");
+            assert_eq!(r[fold], (i % 2).to_string());
+            assert_eq!(r[group], format!("g{}", i % 3));
+        } else {
+            assert_ne!(r[origin], "real");
+            assert_eq!(r[fold], "-1", "row {i}");
+            assert_eq!(r[group], "\"\"", "row {i}");
+        }
+    }
+    // The export reads back (an empty group is allowed on an export's synthetic rows).
+    let o = embloom(&["inspect", out.to_str().unwrap()], &[]);
+    assert!(o.status.success(), "{}", stderr(&o));
+}
+
+#[test]
+fn assessing_a_grown_file_uses_only_its_real_rows() {
+    // Synthetic rows are not observations: a grown file assessed with `--methods none` must
+    // give the baseline of its real rows alone (common practice, no source).
+    let dir = tempdir();
+    let input = p(dir.path(), "in.csv");
+    write_csv(&input, &[30, 6, 12], 4, 1);
+    for ext in ["csv", "npz", "safetensors"] {
+        let grown = p(dir.path(), &format!("grown.{ext}"));
+        let o = embloom(
+            &[
+                "grow",
+                input.to_str().unwrap(),
+                "-o",
+                grown.to_str().unwrap(),
+                "--method",
+                "interpolate",
+                "--target",
+                "largest",
+            ],
+            &[],
+        );
+        assert!(o.status.success(), "{}", stderr(&o));
+        let summary = |f: &std::path::Path| {
+            let o = embloom(
+                &[
+                    "assess",
+                    f.to_str().unwrap(),
+                    "--methods",
+                    "none",
+                    "--probes",
+                    "knn",
+                    "--folds",
+                    "3",
+                    "--no-diagnostics",
+                    "--json",
+                ],
+                &[],
+            );
+            assert!(o.status.success(), "{}", stderr(&o));
+            let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+            (v["summary"].clone(), v["warnings"].to_string())
+        };
+        let (base, _) = summary(&input);
+        let (from_grown, warnings) = summary(&grown);
+        assert!(base.as_array().is_some_and(|a| !a.is_empty()), "{base}");
+        assert_eq!(base, from_grown, "{ext}");
+        assert!(
+            warnings.contains("synthetic rows were left out"),
+            "{ext}: {warnings}"
+        );
+    }
+}

@@ -56,8 +56,8 @@ fn npy_dtypes_orders_and_label_types() {
         assert_eq!(l.dataset.x, fixture_x(), "{file}");
         assert_eq!(l.dataset.stored_dtype, dtype, "{file}");
         assert_eq!(names(&l.dataset), strs(&INT_LABELS), "{file}");
-        // data::encode_labels: classes in first-seen order.
-        assert_eq!(l.dataset.classes, strs(&["3", "1", "2"]));
+        // numpy.unique(labels) order (from memory: numeric for integer labels).
+        assert_eq!(l.dataset.classes, strs(&["1", "2", "3"]));
     }
     for (labels, want) in [
         ("labels_u16_be.npy", &INT_LABELS),

@@ -14,6 +14,7 @@ mod eval_metrics;
 mod eval_protocol;
 mod eval_stats;
 mod io_bad;
+mod knn_ties;
 mod io_roundtrip;
 mod neighbors_exact;
 mod pca_iris;

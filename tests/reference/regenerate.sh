@@ -4,7 +4,7 @@
 set -euo pipefail
 cd "$(dirname "$0")"
 for script in io_make_fixtures.py pca_iris.py principal_noise_cov.py probe_digits.py \
-              eval_metrics.py eval_stats.py eval_prdc.py eval_interval.py; do
+              eval_metrics.py eval_stats.py eval_prdc.py eval_interval.py knn_ties.py; do
     echo "reference: $script"
     python3 "$script"
 done
