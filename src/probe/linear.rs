@@ -6,7 +6,7 @@ use serde::{Deserialize, Serialize};
 use super::lbfgs;
 use super::linear_model::LinearModel;
 use super::scaling;
-use super::softmax_loss::SoftmaxLoss;
+use super::softmax_loss::{Precision, SoftmaxLoss};
 use crate::error::{Error, Result};
 
 /// How training rows are weighted in the loss.
@@ -189,12 +189,36 @@ impl LinearProbe {
             Some(m) => warm_start(m, &mean, &scale, c, d)?,
             None => vec![0.0; loss.n_params()],
         };
-        let opts = lbfgs::Options {
-            memory: 10,
-            tol: self.params.tol,
-            max_iter: self.params.max_iter,
+        // Most iterations run on f32 matrix products; once their rounding stops the line
+        // search (or the tolerance is met in f32), the fit finishes in f64 from there, so the
+        // stopping rule is checked on the exact gradient.
+        let mut evaluations = 0usize;
+        let mut eval = |t: &[f64], g: &mut [f64], p: Precision| {
+            evaluations += 1;
+            loss.evaluate(t, g, p)
         };
-        let out = lbfgs::minimize(|t, g| loss.value_and_gradient(t, g), theta0, &opts);
+        let fast = lbfgs::minimize(
+            |t, g| eval(t, g, Precision::Fast),
+            theta0,
+            &lbfgs::Options {
+                memory: 10,
+                tol: self.params.tol,
+                max_iter: self.params.max_iter,
+                stop_on_failed_search: true,
+            },
+        );
+        let mut out = lbfgs::minimize(
+            |t, g| eval(t, g, Precision::Exact),
+            fast.x,
+            &lbfgs::Options {
+                memory: 10,
+                tol: self.params.tol,
+                max_iter: self.params.max_iter - fast.iterations,
+                stop_on_failed_search: false,
+            },
+        );
+        out.iterations += fast.iterations;
+        let exact_evaluations = out.evaluations;
         drop(loss);
         let (w, b) = out.x.split_at(c * d);
         Ok(LinearModel {
@@ -204,6 +228,8 @@ impl LinearProbe {
             scale,
             converged: out.converged,
             iterations: out.iterations,
+            evaluations,
+            exact_evaluations,
             final_loss: out.value,
         })
     }
@@ -393,6 +419,8 @@ mod tests {
             scale: s,
             converged: false,
             iterations: 0,
+            evaluations: 0,
+            exact_evaluations: 0,
             final_loss: 0.0,
         };
         let diff = a.decision_function(x.view()) - b.decision_function(x.view());
