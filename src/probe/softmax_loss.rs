@@ -4,9 +4,9 @@
 //! The training rows stay in f32 (one or more row blocks, e.g. real rows then synthetic rows,
 //! never stacked into a copy). Two evaluations share one definition:
 //!
-//! - [`Precision::Fast`] folds the column transform into the weights
-//!   (`W (x − m)/s + b = (W/s) x + (b − (W/s) m)`), so the raw f32 rows enter two f32 matrix
-//!   products per block with no standardised copy; each block's products are added into f64
+//! - [`Precision::Fast`] folds the column scales into the weights
+//!   (`W (x − m)/s = (W/s)(x − m)`), so each block is only centred in f32 and enters two f32
+//!   matrix products with no standardised copy; each block's products are added into f64
 //!   sums, and the softmax, the loss and the bias terms run in f64. This is where the time goes.
 //! - [`Precision::Exact`] standardises each block into f64 and multiplies in f64. It is slower
 //!   and is used only to finish a fit once f32 rounding stops the line search from making
@@ -142,14 +142,13 @@ impl<'a> SoftmaxLoss<'a> {
                 .map(|blocks| self.group(blocks, w, b))
                 .collect(),
             Precision::Fast => {
-                // Raw-row weights W/s (f32) and biases b − (W/s)·m (f64).
+                // Weights W/s (f32) acting on centred rows x − m; biases unchanged.
                 let mut w_raw = Array2::<f32>::zeros((c, d));
-                let mut b_raw = b.to_vec();
+                let b_raw = b.to_vec();
                 for k in 0..c {
                     for j in 0..d {
                         let v = w[[k, j]] / self.scale[j];
                         w_raw[[k, j]] = v as f32;
-                        b_raw[k] -= v * self.mean[j];
                     }
                 }
                 let mut partials: Vec<Partial> = self
@@ -157,13 +156,10 @@ impl<'a> SoftmaxLoss<'a> {
                     .par_iter()
                     .map(|blocks| self.group_fast(blocks, w_raw.view(), &b_raw))
                     .collect();
-                // Back to standardised coordinates: ∂/∂W_kj = (Σᵢ rᵢₖ xᵢⱼ − gₖ mⱼ) / sⱼ.
+                // Back to standardised coordinates: ∂/∂W_kj = Σᵢ rᵢₖ (xᵢⱼ − mⱼ) / sⱼ.
                 for p in &mut partials {
-                    for (k, mut row) in p.g_w.axis_iter_mut(Axis(0)).enumerate() {
-                        let gb = p.g_b[k];
-                        row.iter_mut()
-                            .zip(self.mean.iter().zip(self.scale))
-                            .for_each(|(g, (m, s))| *g = (*g - gb * m) / s);
+                    for mut row in p.g_w.axis_iter_mut(Axis(0)) {
+                        row.iter_mut().zip(self.scale).for_each(|(g, s)| *g /= s);
                     }
                 }
                 partials
@@ -229,8 +225,8 @@ impl<'a> SoftmaxLoss<'a> {
 }
 
 impl SoftmaxLoss<'_> {
-    /// [`SoftmaxLoss::group`] on raw rows with raw-row weights `w` (f32) and biases `b`:
-    /// the gradient block is `Σᵢ rᵢ xᵢᵀ` over raw rows, mapped back by the caller.
+    /// [`SoftmaxLoss::group`] on centred rows with weights `w = W/s` (f32) and biases `b`:
+    /// the gradient block is `Σᵢ rᵢ (xᵢ − m)ᵀ`, divided by the scales by the caller.
     fn group_fast(&self, blocks: &[Block], w: ArrayView2<f32>, b: &[f64]) -> Partial {
         let (c, d) = (self.n_classes, self.mean.len());
         let mut out = Partial {
@@ -240,13 +236,23 @@ impl SoftmaxLoss<'_> {
         };
         let cap = blocks.iter().map(|b| b.rows.len()).max().unwrap_or(0);
         let mut z_buf = Array2::<f32>::zeros((cap, c));
+        let mut xc_buf = Array2::<f32>::zeros((cap, d));
+        let mean32: Vec<f32> = self.mean.iter().map(|&m| m as f32).collect();
         let mut g_blk = Array2::<f32>::zeros((c, d));
         let mut logits = Array1::<f64>::zeros(c);
         for block in blocks {
             let m = block.rows.len();
             let raw = self.parts[block.part].slice(s![block.rows.clone(), ..]);
+            // Centred in f32 (a subtraction per entry, cheap beside the products) so large
+            // column means do not swamp the logits' rounding.
+            let mut xc = xc_buf.slice_mut(s![..m, ..]);
+            for (mut dst, src) in xc.outer_iter_mut().zip(raw.outer_iter()) {
+                dst.iter_mut()
+                    .zip(src.iter().zip(&mean32))
+                    .for_each(|(o, (&v, &mj))| *o = v - mj);
+            }
             let mut z = z_buf.slice_mut(s![..m, ..]);
-            general_mat_mul(1.0, &raw, &w.t(), 0.0, &mut z);
+            general_mat_mul(1.0, &xc, &w.t(), 0.0, &mut z);
             let rows = block.first..block.first + m;
             for ((mut row, &yi), &ci) in z
                 .axis_iter_mut(Axis(0))
@@ -266,7 +272,7 @@ impl SoftmaxLoss<'_> {
                     .zip(&logits)
                     .for_each(|(r, &g)| *r = g as f32);
             }
-            general_mat_mul(1.0, &z.t(), &raw, 0.0, &mut g_blk);
+            general_mat_mul(1.0, &z.t(), &xc, 0.0, &mut g_blk);
             out.g_w.zip_mut_with(&g_blk, |acc, &v| *acc += f64::from(v));
         }
         out
