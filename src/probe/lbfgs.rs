@@ -20,6 +20,9 @@ pub struct Options {
     pub tol: f64,
     /// Upper bound on iterations (accepted line-search steps).
     pub max_iter: usize,
+    /// Return at the first failed line search instead of restarting from steepest descent:
+    /// for a caller that finishes the minimisation with a more precise objective.
+    pub stop_on_failed_search: bool,
 }
 
 impl Default for Options {
@@ -28,6 +31,7 @@ impl Default for Options {
             memory: 10,
             tol: 1e-6,
             max_iter: 500,
+            stop_on_failed_search: false,
         }
     }
 }
@@ -43,6 +47,8 @@ pub struct Outcome {
     pub grad_max: f64,
     /// Accepted steps taken.
     pub iterations: usize,
+    /// Objective evaluations made (the start and every line-search trial).
+    pub evaluations: usize,
     /// Whether `grad_max <= tol` (false after `max_iter`, a failed line search, or a
     /// non-finite objective at the start).
     pub converged: bool,
@@ -58,10 +64,15 @@ const MAX_TRIALS: usize = 40;
 /// Minimises `objective` from `x0`. The closure writes the gradient at `x` into its second
 /// argument and returns the value; a non-finite value marks `x` as outside the domain (the
 /// line search then steps back).
-pub fn minimize<F>(mut objective: F, x0: Vec<f64>, opts: &Options) -> Outcome
+pub fn minimize<F>(mut inner: F, x0: Vec<f64>, opts: &Options) -> Outcome
 where
     F: FnMut(&[f64], &mut [f64]) -> f64,
 {
+    let mut evaluations = 0;
+    let mut objective = |x: &[f64], g: &mut [f64]| {
+        evaluations += 1;
+        inner(x, g)
+    };
     let n = x0.len();
     let mut x = x0;
     let mut g = vec![0.0; n];
@@ -73,6 +84,7 @@ where
             x,
             value: f,
             iterations,
+            evaluations: 1,
             converged: false,
         };
     }
@@ -93,7 +105,7 @@ where
             1.0
         };
         let Some(step) = line_search(&mut objective, &x, f, &d, slope, first) else {
-            if history.is_empty() {
+            if history.is_empty() || opts.stop_on_failed_search {
                 break; // even steepest descent makes no progress: stop honestly
             }
             history.clear();
@@ -127,6 +139,7 @@ where
         value: f,
         grad_max,
         iterations,
+        evaluations,
         converged: grad_max <= opts.tol,
     }
 }

@@ -17,6 +17,10 @@ pub struct LinearModel {
     pub converged: bool,
     /// L-BFGS iterations taken.
     pub iterations: usize,
+    /// Objective-and-gradient evaluations in all (line-search trials included).
+    pub evaluations: usize,
+    /// Of those, the evaluations in full f64 that finish the fit.
+    pub exact_evaluations: usize,
     /// The objective (weighted mean cross-entropy + λ/2‖W‖²) at the returned weights.
     pub final_loss: f64,
 }

@@ -2,11 +2,19 @@
 //! penalty on the weights (not the biases), with its gradient.
 //!
 //! The training rows stay in f32 (one or more row blocks, e.g. real rows then synthetic rows,
-//! never stacked into a copy) and are standardised into f64 a block of [`BLOCK_ROWS`] rows at
-//! a time, so the objective needs no n × d f64 matrix. Blocks are gathered into a fixed number
-//! of groups that depends only on the problem's shape; groups run in parallel (rayon) and their
-//! partial sums are added in group order, so the value and gradient are bit-identical for any
-//! thread count.
+//! never stacked into a copy). Two evaluations share one definition:
+//!
+//! - [`Precision::Fast`] folds the column scales into the weights
+//!   (`W (x − m)/s = (W/s)(x − m)`), so each block is only centred in f32 and enters two f32
+//!   matrix products with no standardised copy; each block's products are added into f64
+//!   sums, and the softmax, the loss and the bias terms run in f64. This is where the time goes.
+//! - [`Precision::Exact`] standardises each block into f64 and multiplies in f64. It is slower
+//!   and is used only to finish a fit once f32 rounding stops the line search from making
+//!   progress.
+//!
+//! Blocks are gathered into a fixed number of groups that depends only on the problem's shape;
+//! groups run in parallel (rayon) and their partial sums are added in group order, so the value
+//! and gradient are bit-identical for any thread count.
 
 use std::ops::Range;
 
@@ -46,6 +54,13 @@ pub(crate) struct SoftmaxLoss<'a> {
     l2: f64,
     /// Consecutive runs of blocks; one parallel work item each.
     groups: Vec<Vec<Block>>,
+}
+
+/// Which arithmetic an evaluation uses (see the module notes).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(crate) enum Precision {
+    Fast,
+    Exact,
 }
 
 /// Partial sums of one group.
@@ -109,16 +124,47 @@ impl<'a> SoftmaxLoss<'a> {
         self.n_classes * self.mean.len() + self.n_classes
     }
 
-    /// The objective at `theta`, with its gradient written into `grad`.
+    /// The objective at `theta`, with its gradient written into `grad`, in f64 throughout.
+    #[cfg(test)]
     pub(crate) fn value_and_gradient(&self, theta: &[f64], grad: &mut [f64]) -> f64 {
+        self.evaluate(theta, grad, Precision::Exact)
+    }
+
+    /// The objective at `theta`, with its gradient written into `grad`.
+    pub(crate) fn evaluate(&self, theta: &[f64], grad: &mut [f64], precision: Precision) -> f64 {
         let (c, d) = (self.n_classes, self.mean.len());
         let (w_flat, b) = theta.split_at(c * d);
         let w = ArrayView2::from_shape((c, d), w_flat).expect("packed weights match C × d");
-        let partials: Vec<Partial> = self
-            .groups
-            .par_iter()
-            .map(|blocks| self.group(blocks, w, b))
-            .collect();
+        let partials: Vec<Partial> = match precision {
+            Precision::Exact => self
+                .groups
+                .par_iter()
+                .map(|blocks| self.group(blocks, w, b))
+                .collect(),
+            Precision::Fast => {
+                // Weights W/s (f32) acting on centred rows x − m; biases unchanged.
+                let mut w_raw = Array2::<f32>::zeros((c, d));
+                let b_raw = b.to_vec();
+                for k in 0..c {
+                    for j in 0..d {
+                        let v = w[[k, j]] / self.scale[j];
+                        w_raw[[k, j]] = v as f32;
+                    }
+                }
+                let mut partials: Vec<Partial> = self
+                    .groups
+                    .par_iter()
+                    .map(|blocks| self.group_fast(blocks, w_raw.view(), &b_raw))
+                    .collect();
+                // Back to standardised coordinates: ∂/∂W_kj = Σᵢ rᵢₖ (xᵢⱼ − mⱼ) / sⱼ.
+                for p in &mut partials {
+                    for mut row in p.g_w.axis_iter_mut(Axis(0)) {
+                        row.iter_mut().zip(self.scale).for_each(|(g, s)| *g /= s);
+                    }
+                }
+                partials
+            }
+        };
         let (g_w, g_b) = grad.split_at_mut(c * d);
         let mut g_w = ndarray::ArrayViewMut2::from_shape((c, d), g_w).expect("C × d");
         g_w.fill(0.0);
@@ -173,6 +219,61 @@ impl<'a> SoftmaxLoss<'a> {
                 out.g_b += &row;
             }
             general_mat_mul(1.0, &z.t(), &xs, 1.0, &mut out.g_w);
+        }
+        out
+    }
+}
+
+impl SoftmaxLoss<'_> {
+    /// [`SoftmaxLoss::group`] on centred rows with weights `w = W/s` (f32) and biases `b`:
+    /// the gradient block is `Σᵢ rᵢ (xᵢ − m)ᵀ`, divided by the scales by the caller.
+    fn group_fast(&self, blocks: &[Block], w: ArrayView2<f32>, b: &[f64]) -> Partial {
+        let (c, d) = (self.n_classes, self.mean.len());
+        let mut out = Partial {
+            data_loss: 0.0,
+            g_w: Array2::zeros((c, d)),
+            g_b: Array1::zeros(c),
+        };
+        let cap = blocks.iter().map(|b| b.rows.len()).max().unwrap_or(0);
+        let mut z_buf = Array2::<f32>::zeros((cap, c));
+        let mut xc_buf = Array2::<f32>::zeros((cap, d));
+        let mean32: Vec<f32> = self.mean.iter().map(|&m| m as f32).collect();
+        let mut g_blk = Array2::<f32>::zeros((c, d));
+        let mut logits = Array1::<f64>::zeros(c);
+        for block in blocks {
+            let m = block.rows.len();
+            let raw = self.parts[block.part].slice(s![block.rows.clone(), ..]);
+            // Centred in f32 (a subtraction per entry, cheap beside the products) so large
+            // column means do not swamp the logits' rounding.
+            let mut xc = xc_buf.slice_mut(s![..m, ..]);
+            for (mut dst, src) in xc.outer_iter_mut().zip(raw.outer_iter()) {
+                dst.iter_mut()
+                    .zip(src.iter().zip(&mean32))
+                    .for_each(|(o, (&v, &mj))| *o = v - mj);
+            }
+            let mut z = z_buf.slice_mut(s![..m, ..]);
+            general_mat_mul(1.0, &xc, &w.t(), 0.0, &mut z);
+            let rows = block.first..block.first + m;
+            for ((mut row, &yi), &ci) in z
+                .axis_iter_mut(Axis(0))
+                .zip(&self.y[rows.clone()])
+                .zip(&self.coef[rows])
+            {
+                logits
+                    .iter_mut()
+                    .zip(row.iter().zip(b))
+                    .for_each(|(l, (&v, bc))| *l = f64::from(v) + bc);
+                log_softmax_in_place(logits.view_mut());
+                out.data_loss -= ci * logits[yi as usize];
+                logits.mapv_inplace(|lp| ci * lp.exp());
+                logits[yi as usize] -= ci;
+                out.g_b += &logits;
+                row.iter_mut()
+                    .zip(&logits)
+                    .for_each(|(r, &g)| *r = g as f32);
+            }
+            general_mat_mul(1.0, &z.t(), &xc, 0.0, &mut g_blk);
+            out.g_w.zip_mut_with(&g_blk, |acc, &v| *acc += f64::from(v));
         }
         out
     }

@@ -5,7 +5,11 @@ in 512 dims: each class is a random mean direction plus noise confined mostly to
 specific 24-dimensional subspace, plus weak isotropic noise. A `fold` member (0..4) gives
 both pipelines the same stratified folds.
 
-usage: python make_data.py OUT.npz [--rows N] [--dims D] [--classes C] [--seed S]
+With --hard the class means shrink to a quarter of their length, so classes overlap
+(class means close compared with the spread within a class) and the linear probe needs many
+L-BFGS iterations.
+
+usage: python make_data.py OUT.npz [--rows N] [--dims D] [--classes C] [--seed S] [--hard]
 """
 
 import argparse
@@ -21,6 +25,7 @@ def main():
     ap.add_argument("--classes", type=int, default=100)
     ap.add_argument("--folds", type=int, default=5)
     ap.add_argument("--seed", type=int, default=7)
+    ap.add_argument("--hard", action="store_true")
     a = ap.parse_args()
     rng = np.random.default_rng(a.seed)
     c, d = a.classes, a.dims
@@ -35,7 +40,7 @@ def main():
         basis = np.linalg.qr(rng.standard_normal((d, rank)))[0]
         spread = np.linspace(1.0, 0.2, rank) * 1.0
         z = rng.standard_normal((n, rank)) * spread
-        x = mean + z @ basis.T + 0.15 * rng.standard_normal((n, d))
+        x = (0.25 if a.hard else 1.0) * mean + z @ basis.T + 0.15 * rng.standard_normal((n, d))
         xs.append(x)
         ys.append(np.full(n, k))
         # Stratified given folds: a shuffled round robin inside each class.
