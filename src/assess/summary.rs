@@ -17,8 +17,8 @@ use crate::eval::interval::{
 };
 use crate::eval::interval::{ClassCounts, counts_pooled};
 use crate::eval::stats::corrected_paired_t;
-use crate::seed;
 use crate::rounding::signed;
+use crate::seed;
 
 /// Confidence level of every interval embloom reports.
 pub const LEVEL: f64 = 0.95;

@@ -13,8 +13,8 @@
 
 use embloom::Dataset;
 use embloom::assess::{AssessConfig, InputInfo, assess, summary_with};
-use embloom::augment::{self, AugmentParams, MethodKind, Plan, Target};
 use embloom::augment::UnitNorm;
+use embloom::augment::{self, AugmentParams, MethodKind, Plan, Target};
 use embloom::eval::IntervalKind;
 use embloom::neighbors::{self, Metric};
 use embloom::probe::{KnnParams, KnnProbe, LinearParams, ProbeKind};

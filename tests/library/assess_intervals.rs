@@ -4,8 +4,8 @@
 
 use embloom::Dataset;
 use embloom::assess::{AssessConfig, InputInfo, assess};
-use embloom::augment::{AugmentParams, MethodKind, Target};
 use embloom::augment::UnitNorm;
+use embloom::augment::{AugmentParams, MethodKind, Target};
 use embloom::eval::IntervalKind;
 use embloom::neighbors::Metric;
 use embloom::probe::{KnnParams, LinearParams, ProbeKind};
