@@ -31,6 +31,9 @@ const POOLED_NAMES: [&str; 4] = [
     "grown_class_recall",
 ];
 
+/// How many figures a mostly-zero warning names before it says how many more.
+const SHOWN_FIGURES: usize = 4;
+
 /// A warning is given when more than this share of a figure's fold differences is exactly 0.
 const MOSTLY_ZERO: f64 = 0.5;
 
@@ -279,14 +282,30 @@ impl<'a> Aggregate<'a> {
             let relevant = (0..POOLED_NAMES.len() + self.classes.len()).map(|j| {
                 j < POOLED_NAMES.len() || self.grown.contains(&((j - POOLED_NAMES.len()) as u32))
             });
-            for ((label, e), keep) in labels.zip(&c.estimates).zip(relevant) {
-                if keep && e.folds > 0 && e.zero_folds as f64 > MOSTLY_ZERO * e.folds as f64 {
-                    out.push(format!(
-                        "{} with the {} probe: {} of {} fold differences in {} are exactly zero; the estimate rests on very few test rows",
-                        self.methods[m], self.probes[p], e.zero_folds, e.folds, label
-                    ));
-                }
+            // One line per method and probe, however many figures it concerns, so the
+            // warning stays readable on sets with many grown classes.
+            let mostly_zero: Vec<String> = labels
+                .zip(&c.estimates)
+                .zip(relevant)
+                .filter(|((_, e), keep)| {
+                    *keep && e.folds > 0 && e.zero_folds as f64 > MOSTLY_ZERO * e.folds as f64
+                })
+                .map(|((label, e), _)| format!("{label} ({} of {})", e.zero_folds, e.folds))
+                .collect();
+            if mostly_zero.is_empty() {
+                continue;
             }
+            let shown = mostly_zero.len().min(SHOWN_FIGURES);
+            let more = match mostly_zero.len() - shown {
+                0 => String::new(),
+                n => format!(" and {n} more"),
+            };
+            out.push(format!(
+                "{} with the {} probe: most fold differences are exactly zero in {}{more}; those estimates rest on very few test rows",
+                self.methods[m],
+                self.probes[p],
+                mostly_zero[..shown].join(", ")
+            ));
         }
         out
     }

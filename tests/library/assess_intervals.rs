@@ -94,6 +94,17 @@ fn zero_spread_prints_no_interval_and_warns() {
             "{kind}: {:?}",
             r.warnings
         );
+        // One warning per method and probe, naming every figure it concerns.
+        let zero_warnings = r
+            .warnings
+            .iter()
+            .filter(|w| w.contains("exactly zero"))
+            .count();
+        assert!(
+            zero_warnings <= config(kind).probes.len(),
+            "{kind}: {:?}",
+            r.warnings
+        );
         // The single-row class has a recall in one fold only: folds counts that, not 5.
         let single = r
             .per_class
