@@ -40,6 +40,21 @@ impl Knob {
         }
     }
 
+    /// Whether `method` reads this knob. Target is read by every method that makes rows; the
+    /// others only by the methods whose rule contains them, so sweeping an unused knob would
+    /// print the same row at every value.
+    pub fn used_by(self, method: MethodKind) -> bool {
+        match self {
+            Knob::Target => method != MethodKind::None,
+            Knob::Neighbours => method.uses_neighbours(),
+            Knob::Magnitude => matches!(
+                method,
+                MethodKind::Extrapolate | MethodKind::PrincipalNoise | MethodKind::GaussianNoise
+            ),
+            Knob::VarianceKept => method == MethodKind::PrincipalNoise,
+        }
+    }
+
     /// A copy of `cfg` with this knob set to `value`, validated.
     pub fn apply(self, cfg: &AssessConfig, value: &str) -> Result<AssessConfig> {
         let bad = |what: &str| {
@@ -132,6 +147,18 @@ pub fn sweep(
             "--method",
             "none has no knobs",
             "sweep a method that makes rows, such as interpolate",
+        ));
+    }
+    if !knob.used_by(method) {
+        let used: Vec<_> = Knob::ALL
+            .into_iter()
+            .filter(|k| k.used_by(method))
+            .map(|k| k.name())
+            .collect();
+        return Err(Error::param(
+            "--knob",
+            format!("{method} does not use {knob}: every value would give the same rows"),
+            format!("sweep one of the knobs {method} uses: {}", used.join(", ")),
         ));
     }
     if values.is_empty() {

@@ -89,3 +89,31 @@ fn bad_values_are_refused_before_any_work() {
     );
     assert!(!csv.exists());
 }
+
+#[test]
+fn a_knob_the_method_does_not_use_is_refused() {
+    let dir = tempdir();
+    let input = p(dir.path(), "in.csv");
+    write_csv(&input, &[20, 5], 3, 1);
+    let o = embloom(
+        &[
+            "sweep",
+            input.to_str().unwrap(),
+            "--method",
+            "interpolate",
+            "--knob",
+            "variance-kept",
+            "--values",
+            "0.5,0.9",
+            "--quiet",
+        ],
+        &[],
+    );
+    assert!(!o.status.success());
+    let err = stderr(&o);
+    assert!(
+        err.contains("interpolate does not use variance-kept")
+            && err.contains("neighbours, target"),
+        "{err}"
+    );
+}
