@@ -118,7 +118,6 @@ pub fn assess_with_observed(
     let mut work = WorkCounters::default();
     for (fi, fold) in folds.iter().enumerate() {
         let ctx = FoldContext::new(ds, fold, cfg, only.as_deref());
-        grown_anywhere.extend(ctx.grown.iter().copied());
         let real_knn = cfg.probes.contains(&ProbeKind::Knn).then(|| {
             work.test_real_knn_passes += 1;
             neighbors::knn(ctx.test.view(), ctx.train.view(), cfg.knn.k, cfg.knn.metric)
@@ -139,6 +138,9 @@ pub fn assess_with_observed(
             });
             let grown = ctx.grow(augmenter.as_ref(), unit_norm, cfg.seed)?;
             guard.check(&grown.x, kind)?;
+            // Planned is not grown: a class whose method could make no row here (one row and
+            // a neighbour method) must not be marked as grown.
+            grown_anywhere.extend(grown.labels.iter().copied());
             warnings.extend(describe_notes(&grown.notes, &ds.classes, kind));
             let labels: Vec<u32> = ctx
                 .train
