@@ -318,7 +318,8 @@ impl<'a> Aggregate<'a> {
             }
         }
         if !out.is_empty() {
-            out.push("Synthetic rows are not observations: these estimates come from real held-out rows only, and any probe trained with synthetic rows must be validated on real held-out data before use.".to_string());
+            // The one caution, shared with the table and the page, which print it once.
+            out.push(crate::report::CAUTION.to_string());
         }
         out
     }

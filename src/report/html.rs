@@ -331,7 +331,7 @@ fn notes_section(out: &mut String, r: &AssessResults) {
         out.push_str("<p>No sentences were produced.</p>\n");
     } else {
         out.push_str("<ul>\n");
-        for s in &r.sentences {
+        for s in r.sentences.iter().filter(|s| *s != CAUTION) {
             let _ = writeln!(out, "<li>{}</li>", escape(s));
         }
         out.push_str("</ul>\n");

@@ -64,7 +64,7 @@ pub fn terminal_table(r: &AssessResults) -> String {
 
     if !r.sentences.is_empty() {
         out.push('\n');
-        for s in &r.sentences {
+        for s in r.sentences.iter().filter(|s| *s != CAUTION) {
             out.push_str(&wrap(s, MAX_WIDTH, ""));
         }
     }
