@@ -107,20 +107,30 @@ impl Plan {
     }
 }
 
-/// Class indices for the names in `--classes`; an unknown name is an error listing the classes.
+/// Class indices for the values of `--classes`; an unknown name is an error listing the
+/// classes. Each value is one class name when it names a class exactly (so a name holding a
+/// comma can be given), else a comma-separated list of names.
 pub fn class_indices(names: &[String], ds: &crate::data::Dataset) -> Result<Vec<u32>> {
-    names
-        .iter()
-        .map(|n| {
-            ds.class_index(n).ok_or_else(|| {
+    let mut out = Vec::new();
+    for given in names {
+        if let Some(c) = ds.class_index(given) {
+            out.push(c);
+            continue;
+        }
+        for n in given.split(',') {
+            out.push(ds.class_index(n).ok_or_else(|| {
                 Error::param(
                     "--classes",
                     format!("no class named '{n}'"),
-                    format!("the classes are: {}", ds.classes.join(", ")),
+                    format!(
+                        "the classes are: {} (repeat --classes to give a name holding a comma)",
+                        ds.classes.join(", ")
+                    ),
                 )
-            })
-        })
-        .collect()
+            })?);
+        }
+    }
+    Ok(out)
 }
 
 /// The growth plan for a whole dataset: `target` for the classes named in `--classes` (all
@@ -137,6 +147,18 @@ pub fn plan_for(
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn a_class_name_holding_a_comma_is_taken_whole() {
+        let ds = crate::data::Dataset::new(
+            ndarray::Array2::zeros((3, 1)),
+            vec![0, 1, 2],
+            vec!["a".into(), "b, c".into(), "d".into()],
+        );
+        let given = vec!["b, c".to_string(), "a,d".to_string()];
+        assert_eq!(class_indices(&given, &ds).unwrap(), vec![1, 0, 2]);
+        assert!(class_indices(&["b".to_string()], &ds).is_err());
+    }
 
     #[test]
     fn targets() {
