@@ -104,9 +104,13 @@ impl FromStr for Knob {
     }
 }
 
-/// One value of the knob, one probe, one metric.
+/// One value of the knob, one probe, one metric. The `none` baseline is a point of its own,
+/// with value `none` and no difference.
 #[derive(Debug, Clone, Serialize)]
 pub struct SweepPoint {
+    /// The value as given; in JSON a number when it reads as one (`0.25`, `5`), else text
+    /// (`median`, `x2`, `none`).
+    #[serde(serialize_with = "number_or_text")]
     pub value: String,
     pub probe: String,
     pub metric: String,
@@ -115,6 +119,17 @@ pub struct SweepPoint {
     pub delta_ci_low: f64,
     pub delta_ci_high: f64,
     pub p_value: f64,
+}
+
+/// A value that reads as a number is written as one, so a reader of the JSON can plot it.
+fn number_or_text<S: serde::Serializer>(v: &str, s: S) -> std::result::Result<S::Ok, S::Error> {
+    if let Ok(n) = v.parse::<u64>() {
+        s.serialize_u64(n)
+    } else if let Some(x) = v.parse::<f64>().ok().filter(|x| x.is_finite()) {
+        s.serialize_f64(x)
+    } else {
+        s.serialize_str(v)
+    }
 }
 
 /// Everything a sweep found.
@@ -182,6 +197,23 @@ pub fn sweep(
     let mut warnings = Vec::new();
     for (i, (value, cfg)) in values.iter().zip(&configs).enumerate() {
         let r = assess(ds, cfg, input.clone())?;
+        if i == 0 {
+            // Same folds and seed at every value, so the baseline is the same throughout.
+            for row in r.summary.iter().filter(|s| {
+                s.method == MethodKind::None.name() && METRICS.contains(&s.metric.as_str())
+            }) {
+                points.push(SweepPoint {
+                    value: MethodKind::None.name().to_string(),
+                    probe: row.probe.clone(),
+                    metric: row.metric.clone(),
+                    mean: row.mean,
+                    delta_mean: f64::NAN,
+                    delta_ci_low: f64::NAN,
+                    delta_ci_high: f64::NAN,
+                    p_value: f64::NAN,
+                });
+            }
+        }
         for row in r
             .summary
             .iter()

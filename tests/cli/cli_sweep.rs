@@ -52,7 +52,9 @@ fn each_point_equals_assess_at_that_value() {
             .as_array()
             .unwrap()
             .iter()
-            .find(|p| p["value"] == value && p["metric"] == "balanced_accuracy")
+            .find(|p| {
+                p["value"] == value.parse::<f64>().unwrap() && p["metric"] == "balanced_accuracy"
+            })
             .unwrap();
         for key in ["mean", "delta_mean", "delta_ci_low", "delta_ci_high"] {
             assert_eq!(point[key], row[key], "{key} at magnitude {value}");
@@ -116,4 +118,31 @@ fn a_knob_the_method_does_not_use_is_refused() {
             && err.contains("neighbours, target"),
         "{err}"
     );
+}
+
+#[test]
+fn the_baseline_is_a_row_and_values_are_numbers() {
+    let dir = tempdir();
+    let input = p(dir.path(), "in.csv");
+    write_csv(&input, &[30, 8], 4, 2);
+    let f = input.to_str().unwrap();
+    let args = [
+        "sweep", f, "--method", "interpolate", "--knob", "neighbours", "--values", "2,4",
+        "--probes", "knn", "--folds", "3", "--quiet",
+    ];
+    let o = embloom(&[&args[..], &["--json"]].concat(), &[]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let sweep: Value = serde_json::from_str(&stdout(&o)).unwrap();
+    let values: Vec<&Value> = sweep["points"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|p| &p["value"])
+        .collect();
+    assert!(values.contains(&&Value::from("none")), "{values:?}");
+    assert!(values.contains(&&Value::from(2u64)), "{values:?}");
+    assert!(!values.contains(&&Value::from("2")), "{values:?}");
+    let o = embloom(&args, &[]);
+    let table = stdout(&o);
+    assert!(table.lines().any(|l| l.starts_with("none")), "{table}");
 }
