@@ -13,7 +13,7 @@ use super::{scatter, shared_knn, summary};
 use crate::augment::{self, Augmenter, Grown, MethodKind, Plan, class_indices, describe_notes};
 use crate::data::{Dataset, RowIndex};
 use crate::error::{Error, Result};
-use crate::eval::diagnostics::{TrainingRows, class_diagnostics};
+use crate::eval::diagnostics::{TrainingRows, class_diagnostics, ratio_distance_name};
 use crate::eval::interval::TestOutcome;
 use crate::eval::metrics::{ece, grown_class_recall, log_loss, score};
 use crate::eval::protocol::{Fold, make_folds};
@@ -377,6 +377,8 @@ impl<'a> FoldContext<'a> {
                 intrusion_synthetic: d.intrusion_synthetic,
                 intrusion_real: d.intrusion_real,
                 distance_ratio: d.distance_ratio,
+                distance_measure: ratio_distance_name(train.metric).to_string(),
+                prdc_k: d.prdc_k as f64,
                 precision: d.precision,
                 recall: d.recall,
                 density: d.density,

@@ -433,6 +433,8 @@ pub fn average_diagnostics(rows: &[DiagnosticRow]) -> Vec<DiagnosticRow> {
                 intrusion_synthetic: mean(|r| r.intrusion_synthetic),
                 intrusion_real: mean(|r| r.intrusion_real),
                 distance_ratio: mean(|r| r.distance_ratio),
+                distance_measure: g[0].distance_measure.clone(),
+                prdc_k: g.iter().map(|r| r.prdc_k).fold(f64::INFINITY, f64::min),
                 precision: mean(|r| r.precision),
                 recall: mean(|r| r.recall),
                 density: mean(|r| r.density),

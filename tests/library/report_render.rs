@@ -158,6 +158,8 @@ fn results() -> AssessResults {
                 } else {
                     0.8 + 0.2 * mi as f64
                 },
+                distance_measure: "euclidean distance".into(),
+                prdc_k: 5.0,
                 precision: 0.9,
                 recall: 0.5,
                 density: 1.1,
