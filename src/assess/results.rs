@@ -136,6 +136,9 @@ pub struct WorkCounters {
 #[derive(Debug, Clone, Serialize)]
 pub struct AssessResults {
     pub embloom_version: String,
+    /// The command line that produced the results, shell-quoted (empty when the library was
+    /// called directly), so a result can be reproduced.
+    pub command_line: String,
     pub input: InputInfo,
     /// The configuration as run (options after defaults were applied).
     pub config: serde_json::Value,

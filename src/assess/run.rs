@@ -242,8 +242,9 @@ pub fn assess_with_observed(
     };
     Ok(AssessResults {
         embloom_version: env!("CARGO_PKG_VERSION").to_string(),
+        command_line: String::new(),
         input,
-        config: serde_json::to_value(cfg).unwrap_or(serde_json::Value::Null),
+        config: cfg.to_json(),
         seed: cfg.seed,
         split: serde_json::to_value(split)
             .ok()

@@ -7,8 +7,9 @@ use serde::Serialize;
 
 use crate::error::{Error, Result};
 
-/// The count each grown class is brought up to.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+/// The count each grown class is brought up to. Written as the command line spells it
+/// (`"median"`, `"50"`, `"x2"`), so a saved configuration reads back as given.
+#[derive(Debug, Clone, Copy, PartialEq)]
 pub enum Target {
     /// The largest class's count.
     Largest,
@@ -43,6 +44,12 @@ impl FromStr for Target {
             }
             _ => s.parse::<usize>().map(Target::Count).map_err(|_| bad()),
         }
+    }
+}
+
+impl Serialize for Target {
+    fn serialize<S: serde::Serializer>(&self, s: S) -> std::result::Result<S::Ok, S::Error> {
+        s.collect_str(self)
     }
 }
 

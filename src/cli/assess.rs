@@ -115,6 +115,7 @@ pub fn execute_announced(
     let results = assess_observed(ds, &config, input, &mut |p| bar.update(p));
     bar.finish();
     let mut results = results?;
+    results.command_line = command_line();
     if let Some(origin) = &loaded.origin {
         let synthetic = origin.iter().filter(|o| *o != "real").count();
         if synthetic > 0 {
@@ -221,4 +222,28 @@ fn check_memory(ds: &embloom::Dataset, config: &AssessConfig, opts: &AssessOptio
         &format!("assessing {}", opts.input.display()),
         "assess fewer classes (--classes A,B), a smaller --target (e.g. median), fewer folds (--folds 3), the knn probe alone (--probes knn), or raise --max-memory",
     )
+}
+
+/// This process's command line, each argument shell-quoted when it needs it.
+pub fn command_line() -> String {
+    std::env::args_os()
+        .enumerate()
+        .map(|(i, a)| {
+            let a = if i == 0 {
+                "embloom".to_string()
+            } else {
+                a.to_string_lossy().into_owned()
+            };
+            let plain = !a.is_empty()
+                && a
+                    .chars()
+                    .all(|c| c.is_ascii_alphanumeric() || "-_./=,:+@%".contains(c));
+            if plain {
+                a
+            } else {
+                format!("'{}'", a.replace('\'', "'\\''"))
+            }
+        })
+        .collect::<Vec<_>>()
+        .join(" ")
 }

@@ -114,6 +114,12 @@ fn header(out: &mut String, r: &AssessResults) {
     item("seed", r.seed.to_string());
     item("split", escape(&r.split));
     item("embloom version", escape(&r.embloom_version));
+    if !r.command_line.is_empty() {
+        item(
+            "command line",
+            format!("<code>{}</code>", escape(&r.command_line)),
+        );
+    }
     if r.elapsed_seconds.is_finite() {
         item("elapsed", format!("{:.1} s", r.elapsed_seconds));
     }

@@ -62,3 +62,34 @@ fn thin_classes_are_warned_about_before_the_work_and_not_again() {
     assert!(err.contains("1 of 3 classes have fewer rows than the 4 folds"), "{err}");
     assert!(!stdout(&o).contains("fewer rows than"), "{}", stdout(&o));
 }
+
+#[test]
+fn results_config_reads_back_as_the_command_line_spells_it() {
+    let dir = tempdir();
+    let input = p(dir.path(), "in.csv");
+    write_csv(&input, &[30, 10], 4, 7);
+    let f = input.to_str().unwrap();
+    let run = |extra: &[&str]| -> serde_json::Value {
+        let mut args = vec![
+            "assess", f, "--probes", "knn", "--folds", "3", "--no-diagnostics", "--json",
+            "--quiet",
+        ];
+        args.extend(extra);
+        let o = embloom(&args, &[]);
+        assert!(o.status.success(), "{}", stderr(&o));
+        serde_json::from_str(&stdout(&o)).unwrap()
+    };
+    let r = run(&["--methods", "extrapolate", "--magnitude", "0.3", "--target", "x2"]);
+    assert_eq!(r["config"]["target"], "x2");
+    assert_eq!(r["config"]["augment"]["magnitude"], 0.3);
+    let cmd = r["command_line"].as_str().unwrap();
+    assert!(cmd.starts_with("embloom assess ") && cmd.contains("--magnitude 0.3"), "{cmd}");
+    assert_eq!(r["input"]["sha256"].as_str().unwrap().len(), 64);
+    assert!(r["embloom_version"].is_string());
+    let r = run(&["--methods", "interpolate,extrapolate", "--target", "50"]);
+    assert_eq!(r["config"]["target"], "50");
+    // The defaults of the methods that read a magnitude, not null.
+    assert_eq!(r["config"]["augment"]["magnitude"]["extrapolate"], 0.5);
+    let r = run(&["--methods", "interpolate"]);
+    assert_eq!(r["config"]["target"], "median");
+}

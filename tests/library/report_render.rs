@@ -184,6 +184,7 @@ fn results() -> AssessResults {
 
     AssessResults {
         embloom_version: "0.1.0".into(),
+        command_line: "embloom assess 'data/test <scenario>.npz'".into(),
         input: InputInfo {
             path: "data/test <scenario>.npz".into(),
             sha256: "ab".repeat(32),
