@@ -235,8 +235,7 @@ pub fn command_line() -> String {
                 a.to_string_lossy().into_owned()
             };
             let plain = !a.is_empty()
-                && a
-                    .chars()
+                && a.chars()
                     .all(|c| c.is_ascii_alphanumeric() || "-_./=,:+@%".contains(c));
             if plain {
                 a

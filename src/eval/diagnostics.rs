@@ -115,8 +115,18 @@ pub fn class_diagnostics(
                     near.len(),
                 )
             };
-            let den = median(real_near.iter().map(|&(_, d)| ratio_distance(d, metric)).collect());
-            let num = median(synth_near.iter().map(|&(_, d)| ratio_distance(d, metric)).collect());
+            let den = median(
+                real_near
+                    .iter()
+                    .map(|&(_, d)| ratio_distance(d, metric))
+                    .collect(),
+            );
+            let num = median(
+                synth_near
+                    .iter()
+                    .map(|&(_, d)| ratio_distance(d, metric))
+                    .collect(),
+            );
 
             let prdc = prdc(
                 test_x.select(Axis(0), &test_rows).view(),

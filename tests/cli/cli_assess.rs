@@ -35,7 +35,11 @@ fn non_convergence_is_one_warning_with_its_folds_and_names_both_knobs() {
     }
     assert!(out.contains("--linear-max-iter"), "{out}");
     assert!(out.contains("(in every fold)"), "{out}");
-    assert_eq!(out.matches("Synthetic rows are not observations").count(), 1, "{out}");
+    assert_eq!(
+        out.matches("Synthetic rows are not observations").count(),
+        1,
+        "{out}"
+    );
 }
 
 #[test]
@@ -59,7 +63,10 @@ fn thin_classes_are_warned_about_before_the_work_and_not_again() {
     );
     assert!(o.status.success(), "{}", stderr(&o));
     let err = stderr(&o);
-    assert!(err.contains("1 of 3 classes have fewer rows than the 4 folds"), "{err}");
+    assert!(
+        err.contains("1 of 3 classes have fewer rows than the 4 folds"),
+        "{err}"
+    );
     assert!(!stdout(&o).contains("fewer rows than"), "{}", stdout(&o));
 }
 
@@ -71,7 +78,14 @@ fn results_config_reads_back_as_the_command_line_spells_it() {
     let f = input.to_str().unwrap();
     let run = |extra: &[&str]| -> serde_json::Value {
         let mut args = vec![
-            "assess", f, "--probes", "knn", "--folds", "3", "--no-diagnostics", "--json",
+            "assess",
+            f,
+            "--probes",
+            "knn",
+            "--folds",
+            "3",
+            "--no-diagnostics",
+            "--json",
             "--quiet",
         ];
         args.extend(extra);
@@ -79,11 +93,21 @@ fn results_config_reads_back_as_the_command_line_spells_it() {
         assert!(o.status.success(), "{}", stderr(&o));
         serde_json::from_str(&stdout(&o)).unwrap()
     };
-    let r = run(&["--methods", "extrapolate", "--magnitude", "0.3", "--target", "x2"]);
+    let r = run(&[
+        "--methods",
+        "extrapolate",
+        "--magnitude",
+        "0.3",
+        "--target",
+        "x2",
+    ]);
     assert_eq!(r["config"]["target"], "x2");
     assert_eq!(r["config"]["augment"]["magnitude"], 0.3);
     let cmd = r["command_line"].as_str().unwrap();
-    assert!(cmd.starts_with("embloom assess ") && cmd.contains("--magnitude 0.3"), "{cmd}");
+    assert!(
+        cmd.starts_with("embloom assess ") && cmd.contains("--magnitude 0.3"),
+        "{cmd}"
+    );
     assert_eq!(r["input"]["sha256"].as_str().unwrap().len(), 64);
     assert!(r["embloom_version"].is_string());
     let r = run(&["--methods", "interpolate,extrapolate", "--target", "50"]);

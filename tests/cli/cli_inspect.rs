@@ -29,3 +29,40 @@ fn json_fields() {
     let o = embloom(&["inspect", input.to_str().unwrap()], &[]);
     assert!(stdout(&o).contains("first at row 4"), "{}", stdout(&o));
 }
+
+#[test]
+fn a_grown_file_shows_real_and_synthetic_counts_per_class() {
+    let dir = tempdir();
+    let input = p(dir.path(), "in.csv");
+    write_csv(&input, &[20, 6], 3, 8);
+    let grown = p(dir.path(), "grown.npz");
+    let o = embloom(
+        &[
+            "grow",
+            input.to_str().unwrap(),
+            "-o",
+            grown.to_str().unwrap(),
+            "--method",
+            "interpolate",
+            "--target",
+            "largest",
+            "--quiet",
+        ],
+        &[],
+    );
+    assert!(o.status.success(), "{}", stderr(&o));
+    let o = embloom(&["inspect", grown.to_str().unwrap(), "--json"], &[]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+    assert_eq!(v["grown_file"], true);
+    // The grow plan: the 6-row class is brought up to the largest, 20.
+    for c in v["classes"].as_array().unwrap() {
+        assert_eq!(c["count"], 20, "{c}");
+        let expected_real = if c["synthetic"] == 0 { 20 } else { 6 };
+        assert_eq!(c["real"], expected_real, "{c}");
+    }
+    let o = embloom(&["inspect", grown.to_str().unwrap()], &[]);
+    let text = stdout(&o);
+    assert!(text.contains("26 real and 14 synthetic rows"), "{text}");
+    assert!(text.contains("synthetic      14"), "{text}");
+}

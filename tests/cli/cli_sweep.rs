@@ -127,8 +127,19 @@ fn the_baseline_is_a_row_and_values_are_numbers() {
     write_csv(&input, &[30, 8], 4, 2);
     let f = input.to_str().unwrap();
     let args = [
-        "sweep", f, "--method", "interpolate", "--knob", "neighbours", "--values", "2,4",
-        "--probes", "knn", "--folds", "3", "--quiet",
+        "sweep",
+        f,
+        "--method",
+        "interpolate",
+        "--knob",
+        "neighbours",
+        "--values",
+        "2,4",
+        "--probes",
+        "knn",
+        "--folds",
+        "3",
+        "--quiet",
     ];
     let o = embloom(&[&args[..], &["--json"]].concat(), &[]);
     assert!(o.status.success(), "{}", stderr(&o));

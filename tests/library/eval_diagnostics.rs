@@ -150,9 +150,7 @@ fn cosine_distance_ratio_is_taken_in_angles() {
     // synthetic rows 0.15 rad from the nearest real row, so the ratio in angles is 0.5; in
     // 1 − cos it would be about 0.25.
     let at = |a: f32| [a.cos(), a.sin()];
-    let rows = |angles: &[f32]| {
-        Array2::from_shape_fn((angles.len(), 2), |(i, j)| at(angles[i])[j])
-    };
+    let rows = |angles: &[f32]| Array2::from_shape_fn((angles.len(), 2), |(i, j)| at(angles[i])[j]);
     let train_x = rows(&[0.0, 0.3, 0.6, 0.9, 3.0, 3.3]);
     let train_y = vec![0, 0, 0, 0, 1, 1];
     let synth_x = rows(&[0.15, 0.45, 0.75]);
