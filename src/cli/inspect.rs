@@ -43,6 +43,8 @@ pub struct Inspection {
     pub has_folds: bool,
     /// Whether rows carry an `origin` (a file embloom grew); only its real rows are data.
     pub grown_file: bool,
+    /// False for a `.npy` read without --labels: the rows are described, classes are not.
+    pub labelled: bool,
 }
 
 impl Inspection {
@@ -94,6 +96,7 @@ impl Inspection {
             has_ids: ds.ids.is_some(),
             has_folds: ds.folds.is_some(),
             grown_file: origin.is_some(),
+            labelled: true,
         }
     }
 
@@ -138,6 +141,10 @@ impl Inspection {
         if !extras.is_empty() {
             s += &format!("  carries: {}\n", extras.join(", "));
         }
+        if !self.labelled {
+            s += "  labels: not given (pass --labels FILE.npy to describe the classes)\n";
+            return s;
+        }
         s += &format!(
             "  {} classes, imbalance ratio {:.1} (largest ÷ smallest)\n",
             self.classes.len(),
@@ -177,8 +184,23 @@ impl Inspection {
 pub fn inspect(path: &Path, read: &ReadOptions, json: bool) -> Result<()> {
     let mut read = read.clone();
     read.keep_nonfinite = true;
-    let loaded = io::read(path, &read)?;
-    let report = Inspection::of(path, &loaded.dataset, loaded.origin.as_deref());
+    let is_npy = path
+        .extension()
+        .is_some_and(|e| e.eq_ignore_ascii_case("npy"));
+    let report = if is_npy && read.labels_file.is_none() {
+        let (x, dtype) = io::read_unlabelled_npy(path)?;
+        let n = x.nrows();
+        let mut ds = Dataset::new(x, vec![0; n], vec![String::new()]);
+        ds.stored_dtype = dtype;
+        let mut report = Inspection::of(path, &ds, None);
+        report.labelled = false;
+        report.classes.clear();
+        report.imbalance_ratio = f64::NAN;
+        report
+    } else {
+        let loaded = io::read(path, &read)?;
+        Inspection::of(path, &loaded.dataset, loaded.origin.as_deref())
+    };
     if json {
         println!(
             "{}",
