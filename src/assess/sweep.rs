@@ -194,7 +194,8 @@ pub fn sweep(
         })
         .collect::<Result<Vec<_>>>()?;
     let mut points = Vec::new();
-    let mut warnings = Vec::new();
+    // Each warning once, with the values it arose at.
+    let mut warned: Vec<(String, Vec<String>)> = Vec::new();
     for (i, (value, cfg)) in values.iter().zip(&configs).enumerate() {
         let r = assess(ds, cfg, input.clone())?;
         if i == 0 {
@@ -230,13 +231,24 @@ pub fn sweep(
                 p_value: row.p_value,
             });
         }
-        warnings.extend(
-            r.warnings
-                .into_iter()
-                .map(|w| format!("{knob} = {value}: {w}")),
-        );
+        for w in r.warnings {
+            match warned.iter_mut().find(|(seen, _)| *seen == w) {
+                Some((_, at)) => at.push(value.clone()),
+                None => warned.push((w, vec![value.clone()])),
+            }
+        }
         progress(i + 1, value);
     }
+    let warnings = warned
+        .into_iter()
+        .map(|(w, at)| {
+            if at.len() == values.len() && values.len() > 1 {
+                format!("{w} (at every {knob})")
+            } else {
+                format!("{knob} = {}: {w}", at.join(", "))
+            }
+        })
+        .collect();
     Ok(SweepResults {
         embloom_version: env!("CARGO_PKG_VERSION").to_string(),
         input,

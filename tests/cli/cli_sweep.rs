@@ -157,3 +157,48 @@ fn the_baseline_is_a_row_and_values_are_numbers() {
     let table = stdout(&o);
     assert!(table.lines().any(|l| l.starts_with("none")), "{table}");
 }
+
+#[test]
+fn a_warning_at_every_value_is_printed_once() {
+    let dir = tempdir();
+    let input = p(dir.path(), "in.csv");
+    write_csv(&input, &[30, 10], 4, 3);
+    let o = embloom(
+        &[
+            "sweep",
+            input.to_str().unwrap(),
+            "--method",
+            "interpolate",
+            "--knob",
+            "neighbours",
+            "--values",
+            "2,4",
+            "--probes",
+            "linear",
+            "--folds",
+            "3",
+            "--linear-max-iter",
+            "1",
+            "--json",
+            "--quiet",
+        ],
+        &[],
+    );
+    assert!(o.status.success(), "{}", stderr(&o));
+    let v: Value = serde_json::from_str(&stdout(&o)).unwrap();
+    let warnings: Vec<&str> = v["warnings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|w| w.as_str().unwrap())
+        .collect();
+    let baseline: Vec<_> = warnings
+        .iter()
+        .filter(|w| w.contains("did not converge for none "))
+        .collect();
+    assert_eq!(baseline.len(), 1, "{warnings:?}");
+    assert!(
+        baseline[0].ends_with("(at every neighbours)"),
+        "{warnings:?}"
+    );
+}
