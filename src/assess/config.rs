@@ -34,6 +34,31 @@ pub struct AssessConfig {
 }
 
 impl AssessConfig {
+    /// The configuration as results.json records it: the target as spelled on the command
+    /// line, the magnitude written out per method when left to its default, and every number
+    /// that came from an f32 at its shortest f32 spelling (0.3, not 0.30000001192092896).
+    pub fn to_json(&self) -> serde_json::Value {
+        let mut v = serde_json::to_value(self).unwrap_or(serde_json::Value::Null);
+        if self.augment.magnitude.is_none()
+            && let Some(aug) = v.get_mut("augment")
+        {
+            let defaults: serde_json::Map<String, serde_json::Value> = self
+                .methods
+                .iter()
+                .filter(|m| **m != MethodKind::None)
+                .map(|m| {
+                    (
+                        m.name().to_string(),
+                        f32_spelling(f64::from(m.default_magnitude())),
+                    )
+                })
+                .collect();
+            aug["magnitude"] = serde_json::Value::Object(defaults);
+        }
+        shorten_f32(&mut v);
+        v
+    }
+
     /// Check ranges and put `none` first (added when missing, duplicates removed).
     pub fn validated(mut self) -> Result<Self> {
         let mut methods = vec![MethodKind::None];
@@ -80,5 +105,28 @@ impl AssessConfig {
         self.knn.validate()?;
         self.linear.validate()?;
         Ok(self)
+    }
+}
+
+/// A float that is exactly an f32 written as its shortest f32 spelling.
+fn f32_spelling(x: f64) -> serde_json::Value {
+    let short = if x.is_finite() && f64::from(x as f32) == x {
+        format!("{}", x as f32).parse::<f64>().unwrap_or(x)
+    } else {
+        x
+    };
+    serde_json::Number::from_f64(short).map_or(serde_json::Value::Null, serde_json::Value::Number)
+}
+
+fn shorten_f32(v: &mut serde_json::Value) {
+    match v {
+        serde_json::Value::Number(n) if n.is_f64() => {
+            if let Some(x) = n.as_f64() {
+                *v = f32_spelling(x);
+            }
+        }
+        serde_json::Value::Array(a) => a.iter_mut().for_each(shorten_f32),
+        serde_json::Value::Object(o) => o.values_mut().for_each(shorten_f32),
+        _ => {}
     }
 }

@@ -91,8 +91,13 @@ pub struct DiagnosticRow {
     pub intrusion_synthetic: f64,
     /// The same share for the class's real rows (the baseline to compare with).
     pub intrusion_real: f64,
-    /// Median synthetic-to-nearest-real distance ÷ median real-to-nearest-real distance.
+    /// Median synthetic-to-nearest-real distance ÷ median real-to-nearest-real distance, in
+    /// the measure `distance_measure` names (under cosine the angle, not 1 − cos).
     pub distance_ratio: f64,
+    pub distance_measure: String,
+    /// The smallest PRDC k any fold used for the class (k shrinks with few held-out rows);
+    /// below 2 the PRDC figures of that fold are not available.
+    pub prdc_k: f64,
     pub precision: f64,
     pub recall: f64,
     pub density: f64,
@@ -131,6 +136,9 @@ pub struct WorkCounters {
 #[derive(Debug, Clone, Serialize)]
 pub struct AssessResults {
     pub embloom_version: String,
+    /// The command line that produced the results, shell-quoted (empty when the library was
+    /// called directly), so a result can be reproduced.
+    pub command_line: String,
     pub input: InputInfo,
     /// The configuration as run (options after defaults were applied).
     pub config: serde_json::Value,

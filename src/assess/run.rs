@@ -13,7 +13,7 @@ use super::{scatter, shared_knn, summary};
 use crate::augment::{self, Augmenter, Grown, MethodKind, Plan, class_indices, describe_notes};
 use crate::data::{Dataset, RowIndex};
 use crate::error::{Error, Result};
-use crate::eval::diagnostics::{TrainingRows, class_diagnostics};
+use crate::eval::diagnostics::{TrainingRows, class_diagnostics, ratio_distance_name};
 use crate::eval::interval::TestOutcome;
 use crate::eval::metrics::{ece, grown_class_recall, log_loss, score};
 use crate::eval::protocol::{Fold, make_folds};
@@ -114,11 +114,13 @@ pub fn assess_with_observed(
     let mut diagnostics = Vec::new();
     let mut scatters = Vec::new();
     let mut warnings = BTreeSet::new();
+    // Warnings that can arise in any fold, each with the folds it concerns, so a run prints
+    // it once rather than once per fold.
+    let mut fold_warnings = FoldWarnings::default();
     let mut grown_anywhere = BTreeSet::new();
     let mut work = WorkCounters::default();
     for (fi, fold) in folds.iter().enumerate() {
         let ctx = FoldContext::new(ds, fold, cfg, only.as_deref());
-        grown_anywhere.extend(ctx.grown.iter().copied());
         let real_knn = cfg.probes.contains(&ProbeKind::Knn).then(|| {
             work.test_real_knn_passes += 1;
             neighbors::knn(ctx.test.view(), ctx.train.view(), cfg.knn.k, cfg.knn.metric)
@@ -139,7 +141,12 @@ pub fn assess_with_observed(
             });
             let grown = ctx.grow(augmenter.as_ref(), unit_norm, cfg.seed)?;
             guard.check(&grown.x, kind)?;
-            warnings.extend(describe_notes(&grown.notes, &ds.classes, kind));
+            // Planned is not grown: a class whose method could make no row here (one row and
+            // a neighbour method) must not be marked as grown.
+            grown_anywhere.extend(grown.labels.iter().copied());
+            for w in describe_notes(&grown.notes, &ds.classes, kind) {
+                fold_warnings.add(w, fold);
+            }
             let labels: Vec<u32> = ctx
                 .train
                 .labels
@@ -182,13 +189,14 @@ pub fn assess_with_observed(
                             baseline_linear.as_ref(),
                         )?;
                         if !model.converged {
-                            warnings.insert(format!(
-                                "the linear probe did not converge for {} (repeat {}, fold {}) after {} iterations; try a larger --linear-l2",
-                                kind.name(),
-                                fold.repeat + 1,
-                                fold.index + 1,
-                                model.iterations
-                            ));
+                            fold_warnings.add(
+                                format!(
+                                    "the linear probe did not converge for {} within {} iterations; try a larger --linear-l2 or --linear-max-iter",
+                                    kind.name(),
+                                    cfg.linear.max_iter
+                                ),
+                                fold,
+                            );
                         }
                         let proba = model.predict_proba(ctx.test.view());
                         let pred = model.predict(ctx.test.view());
@@ -216,6 +224,7 @@ pub fn assess_with_observed(
             done += 1;
         }
     }
+    warnings.extend(fold_warnings.finish(folds.len()));
     let methods: Vec<String> = cfg.methods.iter().map(|m| m.name().to_string()).collect();
     let probes: Vec<String> = cfg.probes.iter().map(|p| p.name().to_string()).collect();
     let (summary_rows, per_class, sentences) = {
@@ -233,8 +242,9 @@ pub fn assess_with_observed(
     };
     Ok(AssessResults {
         embloom_version: env!("CARGO_PKG_VERSION").to_string(),
+        command_line: String::new(),
         input,
-        config: serde_json::to_value(cfg).unwrap_or(serde_json::Value::Null),
+        config: cfg.to_json(),
         seed: cfg.seed,
         split: serde_json::to_value(split)
             .ok()
@@ -368,6 +378,8 @@ impl<'a> FoldContext<'a> {
                 intrusion_synthetic: d.intrusion_synthetic,
                 intrusion_real: d.intrusion_real,
                 distance_ratio: d.distance_ratio,
+                distance_measure: ratio_distance_name(train.metric).to_string(),
+                prdc_k: d.prdc_k as f64,
                 precision: d.precision,
                 recall: d.recall,
                 density: d.density,
@@ -405,5 +417,36 @@ impl<'a> LeakGuard<'a> {
             }
         }
         Ok(())
+    }
+}
+
+/// Per-fold warnings gathered so that each is reported once with the folds it concerns.
+#[derive(Default)]
+struct FoldWarnings {
+    seen: std::collections::BTreeMap<String, Vec<String>>,
+}
+
+impl FoldWarnings {
+    fn add(&mut self, warning: String, fold: &Fold) {
+        let name = format!("{}.{}", fold.repeat + 1, fold.index + 1);
+        let folds = self.seen.entry(warning).or_default();
+        if !folds.contains(&name) {
+            folds.push(name);
+        }
+    }
+
+    /// Each warning followed by its folds (repeat.fold), or "in every fold".
+    fn finish(self, total: usize) -> Vec<String> {
+        self.seen
+            .into_iter()
+            .map(|(w, folds)| {
+                if folds.len() == total {
+                    format!("{w} (in every fold)")
+                } else {
+                    let label = if folds.len() == 1 { "fold" } else { "folds" };
+                    format!("{w} ({label} {}, as repeat.fold)", folds.join(", "))
+                }
+            })
+            .collect()
     }
 }

@@ -337,7 +337,8 @@ impl<'a> Aggregate<'a> {
             }
         }
         if !out.is_empty() {
-            out.push("Synthetic rows are not observations: these estimates come from real held-out rows only, and any probe trained with synthetic rows must be validated on real held-out data before use.".to_string());
+            // The one caution, shared with the table and the page, which print it once.
+            out.push(crate::report::CAUTION.to_string());
         }
         out
     }
@@ -451,6 +452,8 @@ pub fn average_diagnostics(rows: &[DiagnosticRow]) -> Vec<DiagnosticRow> {
                 intrusion_synthetic: mean(|r| r.intrusion_synthetic),
                 intrusion_real: mean(|r| r.intrusion_real),
                 distance_ratio: mean(|r| r.distance_ratio),
+                distance_measure: g[0].distance_measure.clone(),
+                prdc_k: g.iter().map(|r| r.prdc_k).fold(f64::INFINITY, f64::min),
                 precision: mean(|r| r.precision),
                 recall: mean(|r| r.recall),
                 density: mean(|r| r.density),

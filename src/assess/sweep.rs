@@ -40,6 +40,21 @@ impl Knob {
         }
     }
 
+    /// Whether `method` reads this knob. Target is read by every method that makes rows; the
+    /// others only by the methods whose rule contains them, so sweeping an unused knob would
+    /// print the same row at every value.
+    pub fn used_by(self, method: MethodKind) -> bool {
+        match self {
+            Knob::Target => method != MethodKind::None,
+            Knob::Neighbours => method.uses_neighbours(),
+            Knob::Magnitude => matches!(
+                method,
+                MethodKind::Extrapolate | MethodKind::PrincipalNoise | MethodKind::GaussianNoise
+            ),
+            Knob::VarianceKept => method == MethodKind::PrincipalNoise,
+        }
+    }
+
     /// A copy of `cfg` with this knob set to `value`, validated.
     pub fn apply(self, cfg: &AssessConfig, value: &str) -> Result<AssessConfig> {
         let bad = |what: &str| {
@@ -89,9 +104,13 @@ impl FromStr for Knob {
     }
 }
 
-/// One value of the knob, one probe, one metric.
+/// One value of the knob, one probe, one metric. The `none` baseline is a point of its own,
+/// with value `none` and no difference.
 #[derive(Debug, Clone, Serialize)]
 pub struct SweepPoint {
+    /// The value as given; in JSON a number when it reads as one (`0.25`, `5`), else text
+    /// (`median`, `x2`, `none`).
+    #[serde(serialize_with = "number_or_text")]
     pub value: String,
     pub probe: String,
     pub metric: String,
@@ -100,6 +119,17 @@ pub struct SweepPoint {
     pub delta_ci_low: f64,
     pub delta_ci_high: f64,
     pub p_value: f64,
+}
+
+/// A value that reads as a number is written as one, so a reader of the JSON can plot it.
+fn number_or_text<S: serde::Serializer>(v: &str, s: S) -> std::result::Result<S::Ok, S::Error> {
+    if let Ok(n) = v.parse::<u64>() {
+        s.serialize_u64(n)
+    } else if let Some(x) = v.parse::<f64>().ok().filter(|x| x.is_finite()) {
+        s.serialize_f64(x)
+    } else {
+        s.serialize_str(v)
+    }
 }
 
 /// Everything a sweep found.
@@ -134,6 +164,18 @@ pub fn sweep(
             "sweep a method that makes rows, such as interpolate",
         ));
     }
+    if !knob.used_by(method) {
+        let used: Vec<_> = Knob::ALL
+            .into_iter()
+            .filter(|k| k.used_by(method))
+            .map(|k| k.name())
+            .collect();
+        return Err(Error::param(
+            "--knob",
+            format!("{method} does not use {knob}: every value would give the same rows"),
+            format!("sweep one of the knobs {method} uses: {}", used.join(", ")),
+        ));
+    }
     if values.is_empty() {
         return Err(Error::param(
             "--values",
@@ -152,9 +194,27 @@ pub fn sweep(
         })
         .collect::<Result<Vec<_>>>()?;
     let mut points = Vec::new();
-    let mut warnings = Vec::new();
+    // Each warning once, with the values it arose at.
+    let mut warned: Vec<(String, Vec<String>)> = Vec::new();
     for (i, (value, cfg)) in values.iter().zip(&configs).enumerate() {
         let r = assess(ds, cfg, input.clone())?;
+        if i == 0 {
+            // Same folds and seed at every value, so the baseline is the same throughout.
+            for row in r.summary.iter().filter(|s| {
+                s.method == MethodKind::None.name() && METRICS.contains(&s.metric.as_str())
+            }) {
+                points.push(SweepPoint {
+                    value: MethodKind::None.name().to_string(),
+                    probe: row.probe.clone(),
+                    metric: row.metric.clone(),
+                    mean: row.mean,
+                    delta_mean: f64::NAN,
+                    delta_ci_low: f64::NAN,
+                    delta_ci_high: f64::NAN,
+                    p_value: f64::NAN,
+                });
+            }
+        }
         for row in r
             .summary
             .iter()
@@ -171,13 +231,24 @@ pub fn sweep(
                 p_value: row.p_value,
             });
         }
-        warnings.extend(
-            r.warnings
-                .into_iter()
-                .map(|w| format!("{knob} = {value}: {w}")),
-        );
+        for w in r.warnings {
+            match warned.iter_mut().find(|(seen, _)| *seen == w) {
+                Some((_, at)) => at.push(value.clone()),
+                None => warned.push((w, vec![value.clone()])),
+            }
+        }
         progress(i + 1, value);
     }
+    let warnings = warned
+        .into_iter()
+        .map(|(w, at)| {
+            if at.len() == values.len() && values.len() > 1 {
+                format!("{w} (at every {knob})")
+            } else {
+                format!("{knob} = {}: {w}", at.join(", "))
+            }
+        })
+        .collect();
     Ok(SweepResults {
         embloom_version: env!("CARGO_PKG_VERSION").to_string(),
         input,

@@ -140,7 +140,7 @@ pub fn describe_notes(
     }
     if !skipped.is_empty() {
         out.push(format!(
-            "{method} cannot grow {} and left {} as they are; use another method for them, or --strict to make this an error",
+            "{method} cannot grow {} and left {} unchanged; use another method for them, or --strict to make this an error",
             skipped.join(", "),
             if skipped.len() == 1 { "it" } else { "them" }
         ));

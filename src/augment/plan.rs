@@ -7,8 +7,9 @@ use serde::Serialize;
 
 use crate::error::{Error, Result};
 
-/// The count each grown class is brought up to.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+/// The count each grown class is brought up to. Written as the command line spells it
+/// (`"median"`, `"50"`, `"x2"`), so a saved configuration reads back as given.
+#[derive(Debug, Clone, Copy, PartialEq)]
 pub enum Target {
     /// The largest class's count.
     Largest,
@@ -43,6 +44,12 @@ impl FromStr for Target {
             }
             _ => s.parse::<usize>().map(Target::Count).map_err(|_| bad()),
         }
+    }
+}
+
+impl Serialize for Target {
+    fn serialize<S: serde::Serializer>(&self, s: S) -> std::result::Result<S::Ok, S::Error> {
+        s.collect_str(self)
     }
 }
 
@@ -107,20 +114,30 @@ impl Plan {
     }
 }
 
-/// Class indices for the names in `--classes`; an unknown name is an error listing the classes.
+/// Class indices for the values of `--classes`; an unknown name is an error listing the
+/// classes. Each value is one class name when it names a class exactly (so a name holding a
+/// comma can be given), else a comma-separated list of names.
 pub fn class_indices(names: &[String], ds: &crate::data::Dataset) -> Result<Vec<u32>> {
-    names
-        .iter()
-        .map(|n| {
-            ds.class_index(n).ok_or_else(|| {
+    let mut out = Vec::new();
+    for given in names {
+        if let Some(c) = ds.class_index(given) {
+            out.push(c);
+            continue;
+        }
+        for n in given.split(',') {
+            out.push(ds.class_index(n).ok_or_else(|| {
                 Error::param(
                     "--classes",
                     format!("no class named '{n}'"),
-                    format!("the classes are: {}", ds.classes.join(", ")),
+                    format!(
+                        "the classes are: {} (repeat --classes to give a name holding a comma)",
+                        ds.classes.join(", ")
+                    ),
                 )
-            })
-        })
-        .collect()
+            })?);
+        }
+    }
+    Ok(out)
 }
 
 /// The growth plan for a whole dataset: `target` for the classes named in `--classes` (all
@@ -137,6 +154,18 @@ pub fn plan_for(
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn a_class_name_holding_a_comma_is_taken_whole() {
+        let ds = crate::data::Dataset::new(
+            ndarray::Array2::zeros((3, 1)),
+            vec![0, 1, 2],
+            vec!["a".into(), "b, c".into(), "d".into()],
+        );
+        let given = vec!["b, c".to_string(), "a,d".to_string()];
+        assert_eq!(class_indices(&given, &ds).unwrap(), vec![1, 0, 2]);
+        assert!(class_indices(&["b".to_string()], &ds).is_err());
+    }
 
     #[test]
     fn targets() {

@@ -55,8 +55,9 @@ pub struct MethodArgs {
     /// a count N, or a factor xF of its own size.
     #[arg(long, default_value = "median", value_parser = parse_target)]
     pub target: Target,
-    /// Grow only these classes (comma-separated names).
-    #[arg(long, value_delimiter = ',', value_name = "A,B")]
+    /// Grow only these classes: comma-separated names, or repeat --classes (a value that names
+    /// a class exactly is taken whole, so a name holding a comma can be given).
+    #[arg(long, action = clap::ArgAction::Append, value_name = "A,B")]
     pub classes: Option<Vec<String>>,
     /// K nearest same-class neighbours for interpolate/extrapolate.
     #[arg(long, default_value_t = 5, value_name = "K")]

@@ -58,11 +58,14 @@ pub fn run(a: AssessArgs, quiet: bool) -> anyhow::Result<()> {
         force: a.force,
         max_memory: a.max_memory,
     };
-    let results = execute(&opts, show_progress(quiet))?;
+    let (results, announced) = execute_announced(&opts, show_progress(quiet))?;
     if a.json {
         println!("{}", serde_json::to_string_pretty(&results)?);
     } else {
-        print!("{}", embloom::report::terminal_table(&results));
+        // Warnings already printed before the work are not repeated under the table.
+        let mut shown = results.clone();
+        shown.warnings.retain(|w| !announced.contains(w));
+        print!("{}", embloom::report::terminal_table(&shown));
         if let Some(dir) = &a.report
             && !quiet
         {
@@ -86,6 +89,15 @@ pub struct AssessOptions {
 
 /// Run an assessment and write its report folder when asked.
 pub fn execute(opts: &AssessOptions, show_progress: bool) -> Result<AssessResults> {
+    execute_announced(opts, show_progress).map(|(r, _)| r)
+}
+
+/// [`execute`], also giving the warnings printed on stderr before the fold loop started (they
+/// stay in the results, so results.json and the report keep them).
+pub fn execute_announced(
+    opts: &AssessOptions,
+    show_progress: bool,
+) -> Result<(AssessResults, Vec<String>)> {
     let inputs = io::output_target::inputs_of(&opts.input, &opts.read);
     if let Some(dir) = &opts.report {
         io::output_target::check_dir(dir, opts.force, &inputs)?;
@@ -95,10 +107,15 @@ pub fn execute(opts: &AssessOptions, show_progress: bool) -> Result<AssessResult
     let ds = &loaded.dataset;
     let clamped = clamp_knn_k(&mut config, ds.n_rows());
     check_memory(ds, &config, opts)?;
+    let announced: Vec<String> = thin_class_warning(ds, config.folds).into_iter().collect();
+    for w in &announced {
+        eprintln!("warning: {w}");
+    }
     let bar = FoldBar::new(show_progress);
     let results = assess_observed(ds, &config, input, &mut |p| bar.update(p));
     bar.finish();
     let mut results = results?;
+    results.command_line = command_line();
     if let Some(origin) = &loaded.origin {
         let synthetic = origin.iter().filter(|o| *o != "real").count();
         if synthetic > 0 {
@@ -108,9 +125,7 @@ pub fn execute(opts: &AssessOptions, show_progress: bool) -> Result<AssessResult
         }
     }
     results.warnings.extend(clamped);
-    results
-        .warnings
-        .extend(thin_class_warning(ds, config.folds));
+    results.warnings.extend(announced.iter().cloned());
     if loaded.dropped_nonfinite > 0 {
         results.warnings.push(format!(
             "{} input rows with NaN/Inf were skipped",
@@ -120,7 +135,7 @@ pub fn execute(opts: &AssessOptions, show_progress: bool) -> Result<AssessResult
     if let Some(dir) = &opts.report {
         embloom::report::write_report_dir_guarded(dir, &results, opts.force, &inputs)?;
     }
-    Ok(results)
+    Ok((results, announced))
 }
 
 /// Read the input and describe it for the results (path, SHA-256, shape, classes).
@@ -207,4 +222,27 @@ fn check_memory(ds: &embloom::Dataset, config: &AssessConfig, opts: &AssessOptio
         &format!("assessing {}", opts.input.display()),
         "assess fewer classes (--classes A,B), a smaller --target (e.g. median), fewer folds (--folds 3), the knn probe alone (--probes knn), or raise --max-memory",
     )
+}
+
+/// This process's command line, each argument shell-quoted when it needs it.
+pub fn command_line() -> String {
+    std::env::args_os()
+        .enumerate()
+        .map(|(i, a)| {
+            let a = if i == 0 {
+                "embloom".to_string()
+            } else {
+                a.to_string_lossy().into_owned()
+            };
+            let plain = !a.is_empty()
+                && a.chars()
+                    .all(|c| c.is_ascii_alphanumeric() || "-_./=,:+@%".contains(c));
+            if plain {
+                a
+            } else {
+                format!("'{}'", a.replace('\'', "'\\''"))
+            }
+        })
+        .collect::<Vec<_>>()
+        .join(" ")
 }

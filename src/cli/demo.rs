@@ -36,7 +36,10 @@ pub fn demo(out: &Path, force: bool, quiet: bool) -> Result<()> {
     let read = ReadOptions::default();
     let loaded = io::read(&data, &read)?;
     println!("== embloom inspect {}", data.display());
-    print!("{}", Inspection::of(&data, &loaded.dataset).render());
+    print!(
+        "{}",
+        Inspection::of(&data, &loaded.dataset, loaded.origin.as_deref()).render()
+    );
 
     let grown = out.join("street-signs-grown.npz");
     println!(

@@ -12,6 +12,12 @@ use embloom::io::{self, ReadOptions};
 pub struct ClassCount {
     pub name: String,
     pub count: usize,
+    /// For a grown file (one with an `origin` per row): the class's real rows.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub real: Option<usize>,
+    /// For a grown file: the class's synthetic rows.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub synthetic: Option<usize>,
 }
 
 /// The facts `inspect` reports.
@@ -35,19 +41,34 @@ pub struct Inspection {
     pub has_groups: bool,
     pub has_ids: bool,
     pub has_folds: bool,
+    /// Whether rows carry an `origin` (a file embloom grew); only its real rows are data.
+    pub grown_file: bool,
+    /// False for a `.npy` read without --labels: the rows are described, classes are not.
+    pub labelled: bool,
 }
 
 impl Inspection {
-    pub fn of(file: &Path, ds: &Dataset) -> Inspection {
+    pub fn of(file: &Path, ds: &Dataset, origin: Option<&[String]>) -> Inspection {
         let stats = DatasetStats::of(ds);
         let counts = ds.class_counts();
+        let mut real = vec![0usize; counts.len()];
+        if let Some(origin) = origin {
+            for (o, &l) in origin.iter().zip(&ds.labels) {
+                if o == "real" {
+                    real[l as usize] += 1;
+                }
+            }
+        }
         let mut classes: Vec<ClassCount> = ds
             .classes
             .iter()
             .zip(&counts)
-            .map(|(n, &c)| ClassCount {
+            .enumerate()
+            .map(|(i, (n, &c))| ClassCount {
                 name: n.clone(),
                 count: c,
+                real: origin.map(|_| real[i]),
+                synthetic: origin.map(|_| c - real[i]),
             })
             .collect();
         classes.sort_by_key(|c| std::cmp::Reverse(c.count));
@@ -74,6 +95,8 @@ impl Inspection {
             has_groups: ds.groups.is_some(),
             has_ids: ds.ids.is_some(),
             has_folds: ds.folds.is_some(),
+            grown_file: origin.is_some(),
+            labelled: true,
         }
     }
 
@@ -118,6 +141,10 @@ impl Inspection {
         if !extras.is_empty() {
             s += &format!("  carries: {}\n", extras.join(", "));
         }
+        if !self.labelled {
+            s += "  labels: not given (pass --labels FILE.npy to describe the classes)\n";
+            return s;
+        }
         s += &format!(
             "  {} classes, imbalance ratio {:.1} (largest ÷ smallest)\n",
             self.classes.len(),
@@ -130,13 +157,24 @@ impl Inspection {
             .max()
             .unwrap_or(5)
             .max(5);
+        if self.grown_file {
+            let real: usize = self.classes.iter().filter_map(|c| c.real).sum();
+            s += &format!(
+                "  grown file: {real} real and {} synthetic rows; assess and sweep use the real rows only\n",
+                self.rows - real
+            );
+        }
         for c in &self.classes {
             s += &format!(
-                "    {:<width$}  {:>7}  {:5.1}%\n",
+                "    {:<width$}  {:>7}  {:5.1}%",
                 shown(&c.name),
                 c.count,
                 100.0 * c.count as f64 / self.rows.max(1) as f64
             );
+            if let (Some(r), Some(n)) = (c.real, c.synthetic) {
+                s += &format!("  real {r:>7}  synthetic {n:>7}");
+            }
+            s.push('\n');
         }
         s
     }
@@ -146,8 +184,23 @@ impl Inspection {
 pub fn inspect(path: &Path, read: &ReadOptions, json: bool) -> Result<()> {
     let mut read = read.clone();
     read.keep_nonfinite = true;
-    let loaded = io::read(path, &read)?;
-    let report = Inspection::of(path, &loaded.dataset);
+    let is_npy = path
+        .extension()
+        .is_some_and(|e| e.eq_ignore_ascii_case("npy"));
+    let report = if is_npy && read.labels_file.is_none() {
+        let (x, dtype) = io::read_unlabelled_npy(path)?;
+        let n = x.nrows();
+        let mut ds = Dataset::new(x, vec![0; n], vec![String::new()]);
+        ds.stored_dtype = dtype;
+        let mut report = Inspection::of(path, &ds, None);
+        report.labelled = false;
+        report.classes.clear();
+        report.imbalance_ratio = f64::NAN;
+        report
+    } else {
+        let loaded = io::read(path, &read)?;
+        Inspection::of(path, &loaded.dataset, loaded.origin.as_deref())
+    };
     if json {
         println!(
             "{}",

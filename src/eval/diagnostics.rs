@@ -48,7 +48,7 @@ pub struct ClassDiagnostics {
 pub struct TrainingRows<'a> {
     x: ArrayView2<'a, f32>,
     y: &'a [u32],
-    metric: Metric,
+    pub(crate) metric: Metric,
     nearest: Option<Knn>,
 }
 
@@ -115,8 +115,18 @@ pub fn class_diagnostics(
                     near.len(),
                 )
             };
-            let den = median(real_near.iter().map(|&(_, d)| d).collect());
-            let num = median(synth_near.iter().map(|&(_, d)| d).collect());
+            let den = median(
+                real_near
+                    .iter()
+                    .map(|&(_, d)| ratio_distance(d, metric))
+                    .collect(),
+            );
+            let num = median(
+                synth_near
+                    .iter()
+                    .map(|&(_, d)| ratio_distance(d, metric))
+                    .collect(),
+            );
 
             let prdc = prdc(
                 test_x.select(Axis(0), &test_rows).view(),
@@ -139,6 +149,24 @@ pub fn class_diagnostics(
         .collect()
 }
 
+/// The distance the distance ratio is taken in: euclidean as searched, and under cosine the
+/// angle between the rows, arccos(1 − d). 1 − cos grows with the square of the angle, so a
+/// ratio of such distances would make interpolated rows look like near-copies.
+pub fn ratio_distance(d: f64, metric: Metric) -> f64 {
+    match metric {
+        Metric::Euclidean => d,
+        Metric::Cosine => (1.0 - d).clamp(-1.0, 1.0).acos(),
+    }
+}
+
+/// What [`ratio_distance`] measures under `metric`, for the report.
+pub fn ratio_distance_name(metric: Metric) -> &'static str {
+    match metric {
+        Metric::Euclidean => "euclidean distance",
+        Metric::Cosine => "angle (arccos of the cosine similarity)",
+    }
+}
+
 /// Precision, recall, density and coverage of `fake` against `real` (Naeem et al. 2020).
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Prdc {
@@ -149,7 +177,8 @@ pub struct Prdc {
     pub k: usize,
 }
 
-/// PRDC with k = min(5, N − 1, M − 1), N real and M fake rows. Radii r(x) are the distance to
+/// PRDC with k = min(5, N − 1, M − 1), N real and M fake rows; below k = 2 a ball is one
+/// neighbour wide and the figures say nothing, so they are NaN (not available) with that k. Radii r(x) are the distance to
 /// the k-th nearest other row of the same set; a ball is B(x, r(x)) = {y : d(x, y) ≤ r(x)}.
 /// - precision = (1/M) Σ_fake 1[fake lies in some real ball]
 /// - recall    = (1/N) Σ_real 1[real lies in some fake ball]
@@ -158,13 +187,13 @@ pub struct Prdc {
 pub fn prdc(real: ArrayView2<f32>, fake: ArrayView2<f32>, metric: Metric) -> Prdc {
     let (n, m) = (real.nrows(), fake.nrows());
     let k = PRDC_K.min(n.saturating_sub(1)).min(m.saturating_sub(1));
-    if k == 0 {
+    if k < 2 {
         return Prdc {
             precision: f64::NAN,
             recall: f64::NAN,
             density: f64::NAN,
             coverage: f64::NAN,
-            k: 0,
+            k,
         };
     }
     let kth = |x: ArrayView2<f32>| -> Vec<f64> {

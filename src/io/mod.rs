@@ -160,6 +160,13 @@ fn require_file(path: &Path, what: &str) -> Result<()> {
     }
 }
 
+/// The matrix of a `.npy` file with no labels, for a description of the rows alone (as
+/// `inspect` gives); every other command needs labels. Returns the matrix and its dtype.
+pub fn read_unlabelled_npy(path: &Path) -> Result<(ndarray::Array2<f32>, String)> {
+    require_file(path, "input file")?;
+    npy::read_file(path, "array")?.into_matrix(path, "array")
+}
+
 /// A `.npy` embeddings file plus its separate labels file.
 fn read_npy(path: &Path, opts: &ReadOptions) -> Result<assemble::Parts> {
     let (x, stored_dtype) = npy::read_file(path, "array")?.into_matrix(path, "array")?;

@@ -114,6 +114,12 @@ fn header(out: &mut String, r: &AssessResults) {
     item("seed", r.seed.to_string());
     item("split", escape(&r.split));
     item("embloom version", escape(&r.embloom_version));
+    if !r.command_line.is_empty() {
+        item(
+            "command line",
+            format!("<code>{}</code>", escape(&r.command_line)),
+        );
+    }
     if r.elapsed_seconds.is_finite() {
         item("elapsed", format!("{:.1} s", r.elapsed_seconds));
     }
@@ -237,7 +243,7 @@ fn chart_or_note(out: &mut String, chart: Option<String>, note: &str) {
 /// Column name, explanation, and how to read a row's value.
 type DiagColumn = (&'static str, &'static str, fn(&DiagnosticRow) -> String);
 
-const DIAG_COLUMNS: [DiagColumn; 8] = [
+const DIAG_COLUMNS: [DiagColumn; 9] = [
     (
         "synthetic rows",
         "Synthetic rows added to the class per fold (mean).",
@@ -264,9 +270,23 @@ const DIAG_COLUMNS: [DiagColumn; 8] = [
     (
         "distance ratio",
         "Median distance from a synthetic row to its nearest real row, divided by the same \
-         median for real rows. Near 1: synthetic rows are as close to the data as real ones; \
-         well below 1: near-copies; well above 1: off the data.",
+         median for real rows, in euclidean distance, or under the cosine metric in angles \
+         (not 1 − cos, which grows with the square of the angle). Near 1: synthetic rows are \
+         as close to the data as real ones; well below 1: near-copies; well above 1: off the \
+         data.",
         |d| figures::value(d.distance_ratio),
+    ),
+    (
+        "PRDC k",
+        "The neighbours k of the PRDC balls: 5, or fewer when the class has few held-out rows \
+         in a fold (the smallest k any fold used). Below 2 the PRDC figures are not available.",
+        |d| {
+            if d.prdc_k.is_finite() {
+                format!("{}", d.prdc_k)
+            } else {
+                figures::MISSING.to_string()
+            }
+        },
     ),
     (
         "precision",
@@ -331,7 +351,7 @@ fn notes_section(out: &mut String, r: &AssessResults) {
         out.push_str("<p>No sentences were produced.</p>\n");
     } else {
         out.push_str("<ul>\n");
-        for s in &r.sentences {
+        for s in r.sentences.iter().filter(|s| *s != CAUTION) {
             let _ = writeln!(out, "<li>{}</li>", escape(s));
         }
         out.push_str("</ul>\n");

@@ -443,15 +443,25 @@ pub fn colour_legend(x: f64, y: f64, w: f64, h: f64, max_abs: f64, caption: &str
     for t in ticks {
         let tx = scale.at(t);
         out.push_str(&line(tx, y + h, tx, y + h + 4.0, INK, 1.0, false));
-        let label = if t == 0.0 {
-            "0".to_string()
-        } else {
-            let s = format!("{t:+.3}");
-            s.trim_end_matches('0').to_string()
-        };
-        out.push_str(&text(tx, y + h + 16.0, Anchor::Middle, Font::SMALL, &label));
+        out.push_str(&text(
+            tx,
+            y + h + 16.0,
+            Anchor::Middle,
+            Font::SMALL,
+            &legend_tick(t),
+        ));
     }
     out
+}
+
+/// A signed legend tick with at most three decimals and no trailing zeros or point: `+1`,
+/// `-0.5`, `0`.
+fn legend_tick(t: f64) -> String {
+    if t == 0.0 {
+        return "0".to_string();
+    }
+    let s = format!("{t:+.3}");
+    s.trim_end_matches('0').trim_end_matches('.').to_string()
 }
 
 /// Marker shapes for scatter points, distinct without colour.
@@ -516,6 +526,16 @@ pub fn text_width(s: &str, size: f64) -> f64 {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn legend_ticks_have_no_dangling_point() {
+        // Common practice, no source: "+1", not "+1.".
+        assert_eq!(legend_tick(1.0), "+1");
+        assert_eq!(legend_tick(-1.0), "-1");
+        assert_eq!(legend_tick(-0.5), "-0.5");
+        assert_eq!(legend_tick(0.125), "+0.125");
+        assert_eq!(legend_tick(0.0), "0");
+    }
 
     #[test]
     fn nice_ticks_are_round_and_cover_the_range() {

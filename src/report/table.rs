@@ -64,7 +64,7 @@ pub fn terminal_table(r: &AssessResults) -> String {
 
     if !r.sentences.is_empty() {
         out.push('\n');
-        for s in &r.sentences {
+        for s in r.sentences.iter().filter(|s| *s != CAUTION) {
             out.push_str(&wrap(s, MAX_WIDTH, ""));
         }
     }
@@ -123,6 +123,9 @@ pub fn sweep_table(r: &SweepResults) -> String {
                         .iter()
                         .find(|p| p.value == value && p.probe == probe && p.metric == name)
                         .map_or(figures::MISSING.to_string(), |p| {
+                            if p.value == figures::BASELINE {
+                                return crate::rounding::value(p.mean);
+                            }
                             figures::interval_cell(
                                 p.mean,
                                 p.delta_mean,

@@ -29,3 +29,80 @@ fn json_fields() {
     let o = embloom(&["inspect", input.to_str().unwrap()], &[]);
     assert!(stdout(&o).contains("first at row 4"), "{}", stdout(&o));
 }
+
+#[test]
+fn a_grown_file_shows_real_and_synthetic_counts_per_class() {
+    let dir = tempdir();
+    let input = p(dir.path(), "in.csv");
+    write_csv(&input, &[20, 6], 3, 8);
+    let grown = p(dir.path(), "grown.npz");
+    let o = embloom(
+        &[
+            "grow",
+            input.to_str().unwrap(),
+            "-o",
+            grown.to_str().unwrap(),
+            "--method",
+            "interpolate",
+            "--target",
+            "largest",
+            "--quiet",
+        ],
+        &[],
+    );
+    assert!(o.status.success(), "{}", stderr(&o));
+    let o = embloom(&["inspect", grown.to_str().unwrap(), "--json"], &[]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+    assert_eq!(v["grown_file"], true);
+    // The grow plan: the 6-row class is brought up to the largest, 20.
+    for c in v["classes"].as_array().unwrap() {
+        assert_eq!(c["count"], 20, "{c}");
+        let expected_real = if c["synthetic"] == 0 { 20 } else { 6 };
+        assert_eq!(c["real"], expected_real, "{c}");
+    }
+    let o = embloom(&["inspect", grown.to_str().unwrap()], &[]);
+    let text = stdout(&o);
+    assert!(text.contains("26 real and 14 synthetic rows"), "{text}");
+    assert!(text.contains("synthetic      14"), "{text}");
+}
+
+/// A little-endian f32 `.npy` (format version 1.0, written by hand from the format's spec).
+fn write_npy(path: &std::path::Path, rows: &[[f32; 2]]) {
+    let mut header = format!(
+        "{{'descr': '<f4', 'fortran_order': False, 'shape': ({}, 2), }}",
+        rows.len()
+    );
+    while (10 + header.len() + 1) % 64 != 0 {
+        header.push(' ');
+    }
+    header.push('\n');
+    let mut bytes = b"\x93NUMPY\x01\x00".to_vec();
+    bytes.extend((header.len() as u16).to_le_bytes());
+    bytes.extend(header.as_bytes());
+    for r in rows {
+        for v in r {
+            bytes.extend(v.to_le_bytes());
+        }
+    }
+    std::fs::write(path, bytes).unwrap();
+}
+
+#[test]
+fn an_npy_without_labels_is_described_and_says_so() {
+    let dir = tempdir();
+    let npy = p(dir.path(), "x.npy");
+    // Rows 0 and 2 are the same; row 3 holds a NaN; norms 5, 1, 5 (and NaN).
+    write_npy(&npy, &[[3.0, 4.0], [1.0, 0.0], [3.0, 4.0], [f32::NAN, 1.0]]);
+    let o = embloom(&["inspect", npy.to_str().unwrap(), "--json"], &[]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+    assert_eq!(v["rows"], 4);
+    assert_eq!(v["dims"], 2);
+    assert_eq!(v["labelled"], false);
+    assert_eq!(v["nonfinite_rows"], 1);
+    assert_eq!(v["duplicate_rows"], 1);
+    assert_eq!(v["norm_max"], 5.0);
+    let o = embloom(&["inspect", npy.to_str().unwrap()], &[]);
+    assert!(stdout(&o).contains("labels: not given"), "{}", stdout(&o));
+}

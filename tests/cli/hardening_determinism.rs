@@ -18,7 +18,10 @@ fn run(args: &[&str], threads: &str) {
 fn strip_timing(v: &mut Value) {
     match v {
         Value::Object(m) => {
-            m.retain(|k, _| !(k == "elapsed_seconds" || k.ends_with("_seconds")));
+            // The command line names each run's own report folder.
+            m.retain(|k, _| {
+                !(k == "elapsed_seconds" || k.ends_with("_seconds") || k == "command_line")
+            });
             m.values_mut().for_each(strip_timing);
         }
         Value::Array(a) => a.iter_mut().for_each(strip_timing),

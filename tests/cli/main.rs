@@ -4,6 +4,7 @@
 #[path = "../common/mod.rs"]
 mod common;
 
+mod cli_assess;
 mod cli_grow;
 mod cli_inspect;
 mod cli_sweep;

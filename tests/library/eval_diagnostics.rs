@@ -132,3 +132,39 @@ fn identical_sets_score_perfectly() {
     assert_eq!(one.k, 0);
     assert!(one.precision.is_nan() && one.density.is_nan());
 }
+
+#[test]
+fn prdc_below_k_2_is_not_available_and_says_its_k() {
+    // Two held-out rows give k = min(5, 2 − 1) = 1: a one-neighbour ball says nothing, so the
+    // figures are not available rather than 0 (embloom's documented convention).
+    let real = Array2::from_shape_fn((2, 3), |(i, j)| (i * 3 + j) as f32);
+    let fake = Array2::from_shape_fn((6, 3), |(i, j)| (i + j) as f32 * 0.5);
+    let p = prdc(real.view(), fake.view(), Metric::Euclidean);
+    assert_eq!(p.k, 1);
+    assert!(p.precision.is_nan() && p.recall.is_nan() && p.coverage.is_nan());
+}
+
+#[test]
+fn cosine_distance_ratio_is_taken_in_angles() {
+    // From the definition: class 0's real rows lie 0.3 rad apart on the unit circle and its
+    // synthetic rows 0.15 rad from the nearest real row, so the ratio in angles is 0.5; in
+    // 1 − cos it would be about 0.25.
+    let at = |a: f32| [a.cos(), a.sin()];
+    let rows = |angles: &[f32]| Array2::from_shape_fn((angles.len(), 2), |(i, j)| at(angles[i])[j]);
+    let train_x = rows(&[0.0, 0.3, 0.6, 0.9, 3.0, 3.3]);
+    let train_y = vec![0, 0, 0, 0, 1, 1];
+    let synth_x = rows(&[0.15, 0.45, 0.75]);
+    let synth_y = vec![0, 0, 0];
+    let test_x = rows(&[0.1, 0.2, 0.5, 0.7]);
+    let test_y = vec![0, 0, 0, 0];
+    let train = TrainingRows::new(train_x.view(), &train_y, Metric::Cosine);
+    let got = class_diagnostics(
+        &train,
+        synth_x.view(),
+        &synth_y,
+        test_x.view(),
+        &test_y,
+        &[0],
+    );
+    assert!((got[0].distance_ratio - 0.5).abs() < 1e-3, "{:?}", got[0]);
+}

@@ -158,6 +158,8 @@ fn results() -> AssessResults {
                 } else {
                     0.8 + 0.2 * mi as f64
                 },
+                distance_measure: "euclidean distance".into(),
+                prdc_k: 5.0,
                 precision: 0.9,
                 recall: 0.5,
                 density: 1.1,
@@ -182,6 +184,7 @@ fn results() -> AssessResults {
 
     AssessResults {
         embloom_version: "0.1.0".into(),
+        command_line: "embloom assess 'data/test <scenario>.npz'".into(),
         input: InputInfo {
             path: "data/test <scenario>.npz".into(),
             sha256: "ab".repeat(32),

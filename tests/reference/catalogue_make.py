@@ -136,7 +136,9 @@ def make_bad():
          "an object (pickled) array", "never unpickles", args=lab)
     case("int_embeddings.npy", npy_bytes((X * 4).astype(np.int32)), "integer embeddings",
          "only float16", args=lab)
-    case("no_labels_file.npy", npy_bytes(X), "a .npy without --labels", "--labels")
+    # inspect describes an unlabelled matrix; the commands that need classes refuse it.
+    case("no_labels_file.npy", npy_bytes(X), "a .npy without --labels", "--labels",
+         commands=["grow", "assess"])
     write(os.path.join(BAD, "labels_short.npy"), npy_bytes(Y[:5]))
     case("labels_mismatch.npy", npy_bytes(X), "5 labels for 8 rows", "5 labels for 8",
          args=["--labels", "tests/bad/labels_short.npy"])

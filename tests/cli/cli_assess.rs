@@ -1,0 +1,119 @@
+//! `embloom assess` on the terminal: each warning once per run with the folds it concerns,
+//! the thin-class warning before the work, the caution once.
+
+use crate::common;
+
+use common::*;
+
+#[test]
+fn non_convergence_is_one_warning_with_its_folds_and_names_both_knobs() {
+    let dir = tempdir();
+    let input = p(dir.path(), "in.csv");
+    write_csv(&input, &[30, 30, 12], 6, 5);
+    let o = embloom(
+        &[
+            "assess",
+            input.to_str().unwrap(),
+            "--probes",
+            "linear",
+            "--methods",
+            "interpolate",
+            "--folds",
+            "3",
+            "--linear-max-iter",
+            "1",
+            "--no-diagnostics",
+            "--quiet",
+        ],
+        &[],
+    );
+    let out = stdout(&o);
+    assert!(o.status.success(), "{}", stderr(&o));
+    for method in ["none", "interpolate"] {
+        let needle = format!("did not converge for {method} ");
+        assert_eq!(out.matches(&needle).count(), 1, "{out}");
+    }
+    assert!(out.contains("--linear-max-iter"), "{out}");
+    assert!(out.contains("(in every fold)"), "{out}");
+    assert_eq!(
+        out.matches("Synthetic rows are not observations").count(),
+        1,
+        "{out}"
+    );
+}
+
+#[test]
+fn thin_classes_are_warned_about_before_the_work_and_not_again() {
+    let dir = tempdir();
+    let input = p(dir.path(), "in.csv");
+    write_csv(&input, &[20, 20, 2], 4, 6);
+    let o = embloom(
+        &[
+            "assess",
+            input.to_str().unwrap(),
+            "--probes",
+            "knn",
+            "--methods",
+            "none",
+            "--folds",
+            "4",
+            "--quiet",
+        ],
+        &[],
+    );
+    assert!(o.status.success(), "{}", stderr(&o));
+    let err = stderr(&o);
+    assert!(
+        err.contains("1 of 3 classes have fewer rows than the 4 folds"),
+        "{err}"
+    );
+    assert!(!stdout(&o).contains("fewer rows than"), "{}", stdout(&o));
+}
+
+#[test]
+fn results_config_reads_back_as_the_command_line_spells_it() {
+    let dir = tempdir();
+    let input = p(dir.path(), "in.csv");
+    write_csv(&input, &[30, 10], 4, 7);
+    let f = input.to_str().unwrap();
+    let run = |extra: &[&str]| -> serde_json::Value {
+        let mut args = vec![
+            "assess",
+            f,
+            "--probes",
+            "knn",
+            "--folds",
+            "3",
+            "--no-diagnostics",
+            "--json",
+            "--quiet",
+        ];
+        args.extend(extra);
+        let o = embloom(&args, &[]);
+        assert!(o.status.success(), "{}", stderr(&o));
+        serde_json::from_str(&stdout(&o)).unwrap()
+    };
+    let r = run(&[
+        "--methods",
+        "extrapolate",
+        "--magnitude",
+        "0.3",
+        "--target",
+        "x2",
+    ]);
+    assert_eq!(r["config"]["target"], "x2");
+    assert_eq!(r["config"]["augment"]["magnitude"], 0.3);
+    let cmd = r["command_line"].as_str().unwrap();
+    assert!(
+        cmd.starts_with("embloom assess ") && cmd.contains("--magnitude 0.3"),
+        "{cmd}"
+    );
+    assert_eq!(r["input"]["sha256"].as_str().unwrap().len(), 64);
+    assert!(r["embloom_version"].is_string());
+    let r = run(&["--methods", "interpolate,extrapolate", "--target", "50"]);
+    assert_eq!(r["config"]["target"], "50");
+    // The defaults of the methods that read a magnitude, not null.
+    assert_eq!(r["config"]["augment"]["magnitude"]["extrapolate"], 0.5);
+    let r = run(&["--methods", "interpolate"]);
+    assert_eq!(r["config"]["target"], "median");
+}
