@@ -47,14 +47,18 @@ impl Dataset {
         }
     }
 
+    /// Number of rows of the matrix, which is also the number of labels.
     pub fn n_rows(&self) -> usize {
         self.x.nrows()
     }
 
+    /// Embedding width, shared by every row.
     pub fn dims(&self) -> usize {
         self.x.ncols()
     }
 
+    /// Number of class names; a class may have no rows (after a split, say), so this is not
+    /// the number of distinct labels.
     pub fn n_classes(&self) -> usize {
         self.classes.len()
     }
