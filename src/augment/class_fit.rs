@@ -55,13 +55,7 @@ impl<T: Send> PerClass<T> {
                 "grow only classes that occur in the training data",
             ));
         }
-        // One pass over the labels instead of one per class.
-        let mut rows: BTreeMap<u32, Vec<usize>> = wanted.iter().map(|&c| (c, Vec::new())).collect();
-        for (i, l) in train.labels.iter().enumerate() {
-            if let Some(r) = rows.get_mut(l) {
-                r.push(i);
-            }
-        }
+        let rows = train.rows_by_class(&wanted);
         let fitted: Vec<(u32, Result<ClassFit<T>>)> = rows
             .into_par_iter()
             .map(|(c, r)| {

@@ -7,13 +7,16 @@ use crate::error::{Error, Result};
 /// Labels as a reader found them, before they become class indices.
 #[derive(Debug, Clone)]
 pub enum RawLabels {
+    /// Integer labels, kept as written (any sign or gap) until names are assigned.
     Int(Vec<i64>),
     /// Floating-point labels; accepted only when every value is integral.
     Float(Vec<f64>),
+    /// Class names as text; they become the class names themselves.
     Text(Vec<String>),
 }
 
 impl RawLabels {
+    /// Number of labels, to check against the number of embedding rows.
     pub fn len(&self) -> usize {
         match self {
             RawLabels::Int(v) => v.len(),
@@ -22,6 +25,7 @@ impl RawLabels {
         }
     }
 
+    /// Whether there are no labels at all (an empty file is refused before any fit).
     pub fn is_empty(&self) -> bool {
         self.len() == 0
     }

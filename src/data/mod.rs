@@ -47,14 +47,18 @@ impl Dataset {
         }
     }
 
+    /// Number of rows of the matrix, which is also the number of labels.
     pub fn n_rows(&self) -> usize {
         self.x.nrows()
     }
 
+    /// Embedding width, shared by every row.
     pub fn dims(&self) -> usize {
         self.x.ncols()
     }
 
+    /// Number of class names; a class may have no rows (after a split, say), so this is not
+    /// the number of distinct labels.
     pub fn n_classes(&self) -> usize {
         self.classes.len()
     }
@@ -70,12 +74,21 @@ impl Dataset {
 
     /// Indices of the rows of class `c`, in row order.
     pub fn rows_of_class(&self, c: u32) -> Vec<usize> {
-        self.labels
-            .iter()
-            .enumerate()
-            .filter(|&(_, &l)| l == c)
-            .map(|(i, _)| i)
-            .collect()
+        self.rows_by_class(&[c]).remove(&c).unwrap_or_default()
+    }
+
+    /// Indices of the rows of each class in `classes`, in row order, found in one pass over
+    /// the labels (fitting many classes would otherwise scan them once per class). Every
+    /// asked-for class has an entry, empty when it has no rows.
+    pub fn rows_by_class(&self, classes: &[u32]) -> std::collections::BTreeMap<u32, Vec<usize>> {
+        let mut rows: std::collections::BTreeMap<u32, Vec<usize>> =
+            classes.iter().map(|&c| (c, Vec::new())).collect();
+        for (i, l) in self.labels.iter().enumerate() {
+            if let Some(r) = rows.get_mut(l) {
+                r.push(i);
+            }
+        }
+        rows
     }
 
     /// Class index of a class name.

@@ -91,7 +91,10 @@ fn parse_descr(descr: &str) -> std::result::Result<Dtype, String> {
     })
 }
 
-fn parse_header(bytes: &[u8], path: &Path, key: &str) -> Result<Header> {
+/// Where the header text starts and how long it is, read from the fixed prefix (magic,
+/// version, header length). The streaming reader and the in-memory parser both use it, so
+/// they agree on which prefixes are well formed.
+fn header_span(bytes: &[u8], path: &Path, key: &str) -> Result<(usize, usize)> {
     if bytes.len() < 10 || &bytes[..6] != MAGIC {
         return Err(bad(
             path,
@@ -99,26 +102,27 @@ fn parse_header(bytes: &[u8], path: &Path, key: &str) -> Result<Header> {
             "not a .npy array (magic bytes \\x93NUMPY missing)",
         ));
     }
-    let major = bytes[6];
-    let (len, start): (usize, usize) = match major {
-        1 => (u16::from_le_bytes([bytes[8], bytes[9]]) as usize, 10),
+    match bytes[6] {
+        1 => Ok((10, u16::from_le_bytes([bytes[8], bytes[9]]) as usize)),
         2 | 3 => {
             if bytes.len() < 12 {
                 return Err(bad(path, key, "file ends inside the .npy header"));
             }
-            (
-                u32::from_le_bytes([bytes[8], bytes[9], bytes[10], bytes[11]]) as usize,
+            Ok((
                 12,
-            )
+                u32::from_le_bytes([bytes[8], bytes[9], bytes[10], bytes[11]]) as usize,
+            ))
         }
-        v => {
-            return Err(bad(
-                path,
-                key,
-                format!(".npy format version {v} is not supported (1, 2 or 3 expected)"),
-            ));
-        }
-    };
+        v => Err(bad(
+            path,
+            key,
+            format!(".npy format version {v} is not supported (1, 2 or 3 expected)"),
+        )),
+    }
+}
+
+fn parse_header(bytes: &[u8], path: &Path, key: &str) -> Result<Header> {
+    let (start, len) = header_span(bytes, path, key)?;
     let end = start
         .checked_add(len)
         .filter(|&e| e <= bytes.len())
@@ -496,17 +500,9 @@ pub fn decode_stream<R: std::io::Read>(
     // Fixed prefix (magic, version, header length), then the header text.
     let mut head = vec![0u8; len.min(12)];
     r.read_exact(&mut head).map_err(io_err)?;
-    let header_end = if head.len() >= 10 && &head[..6] == MAGIC {
-        match head[6] {
-            1 => Some(10 + u16::from_le_bytes([head[8], head[9]]) as usize),
-            2 | 3 if head.len() >= 12 => {
-                Some(12 + u32::from_le_bytes([head[8], head[9], head[10], head[11]]) as usize)
-            }
-            _ => None,
-        }
-    } else {
-        None
-    };
+    let header_end = header_span(&head, path, key)
+        .ok()
+        .map(|(start, len)| start + len);
     let read_rest = |r: &mut R, mut bytes: Vec<u8>| -> Result<Tensor> {
         bytes.reserve((len - bytes.len()).min(prealloc));
         r.take((len - bytes.len()) as u64)

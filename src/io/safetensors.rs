@@ -1,17 +1,19 @@
 //! `.safetensors`: an 8-byte little-endian header length, a JSON header mapping tensor names
-//! to dtype, shape and byte offsets, then the raw little-endian data. Parsed by hand with
-//! every length and offset checked against the file before use.
+//! to dtype, shape and byte offsets, then the raw little-endian data. The `safetensors` crate
+//! parses and checks the header (length cap, offsets, shape × dtype against the bytes) and
+//! writes the file; this module maps its errors to ones naming the file and key, decodes the
+//! dtypes embloom reads, and keeps the class-name table on top.
 //!
 //! The format holds numbers only. Text columns (class names, origins, string ids or groups)
 //! are therefore written as I64 codes with the code → name table stored as a JSON array in
 //! the header's `__metadata__` under `"<key>.names"`; the reader applies such a table when it
 //! finds one, so embloom's own exports read back with their names.
 
-use std::collections::BTreeMap;
+use std::collections::{BTreeMap, HashMap};
 use std::io::Write;
 use std::path::Path;
 
-use serde_json::{Map, Value, json};
+use safetensors::tensor::{Dtype, SafeTensorError, SafeTensors, TensorView};
 
 use super::ReadOptions;
 use super::assemble::Parts;
@@ -19,117 +21,99 @@ use super::export::{Column, Export};
 use super::tensor::{Keyed, Tensor, Values, keyed_parts};
 use crate::error::{Error, Result};
 
-/// Headers larger than this are refused (the reference implementation uses the same 100 MB cap).
-const MAX_HEADER: u64 = 100_000_000;
+const FIX: &str = "rewrite the file with the safetensors library";
 
 struct File<'a> {
     path: &'a Path,
-    header: Map<String, Value>,
-    data: &'a [u8],
+    tensors: SafeTensors<'a>,
+    meta: HashMap<String, String>,
 }
 
 fn bad(path: &Path, key: &str, detail: impl Into<String>) -> Error {
-    Error::input_at(
-        path,
-        format!("key '{key}'"),
-        detail,
-        "rewrite the file with the safetensors library",
-    )
+    Error::input_at(path, format!("key '{key}'"), detail, FIX)
+}
+
+/// The crate's refusal, in the words the rest of embloom uses for the same faults.
+fn refused(path: &Path, bytes: &[u8], e: SafeTensorError) -> Error {
+    let n = bytes
+        .get(..8)
+        .map(|b| u64::from_le_bytes(b.try_into().unwrap_or([0; 8])));
+    match e {
+        SafeTensorError::HeaderTooSmall => {
+            Error::input(path, "too short for a .safetensors file", FIX)
+        }
+        SafeTensorError::HeaderTooLarge | SafeTensorError::InvalidHeaderLength => Error::input(
+            path,
+            format!(
+                "header length {} exceeds the file ({} bytes)",
+                n.unwrap_or(0),
+                bytes.len()
+            ),
+            FIX,
+        ),
+        SafeTensorError::InvalidHeader(e) => {
+            Error::input(path, format!("header is not a JSON object: {e}"), FIX)
+        }
+        SafeTensorError::InvalidHeaderDeserialization(e) | SafeTensorError::JsonError(e) => {
+            Error::input(path, format!("header is not a JSON object: {e}"), FIX)
+        }
+        SafeTensorError::InvalidOffset(key) => bad(
+            path,
+            &key,
+            "data_offsets fall outside the data bytes or overlap another tensor",
+        ),
+        SafeTensorError::MetadataIncompleteBuffer => Error::input(
+            path,
+            "the tensors' data_offsets fall outside the data bytes (or leave some uncovered)",
+            FIX,
+        ),
+        SafeTensorError::TensorInvalidInfo
+        | SafeTensorError::ValidationOverflow
+        | SafeTensorError::MisalignedSlice => Error::input(
+            path,
+            "a tensor's shape and dtype do not match its data bytes",
+            FIX,
+        ),
+        other => Error::input(
+            path,
+            format!("not a readable .safetensors file: {other}"),
+            FIX,
+        ),
+    }
 }
 
 impl File<'_> {
     fn keys(&self) -> Vec<String> {
-        self.header
-            .keys()
-            .filter(|k| *k != "__metadata__")
-            .cloned()
-            .collect()
+        let mut keys: Vec<String> = self.tensors.names().into_iter().map(String::from).collect();
+        keys.sort();
+        keys
     }
 
     fn has(&self, key: &str) -> bool {
-        key != "__metadata__" && self.header.contains_key(key)
+        self.tensors.tensor(key).is_ok()
     }
 
     fn names_for(&self, key: &str) -> Option<Vec<String>> {
-        let meta = self.header.get("__metadata__")?.as_object()?;
-        let text = meta.get(&format!("{key}.names"))?.as_str()?;
+        let text = self.meta.get(&format!("{key}.names"))?;
         serde_json::from_str(text).ok()
     }
 
     fn tensor(&self, key: &str) -> Result<Tensor> {
         let path = self.path;
-        let entry = match self.header.get(key) {
-            Some(e) if self.has(key) => e,
-            _ => {
-                return Err(Error::input_at(
-                    path,
-                    format!("key '{key}'"),
-                    format!(
-                        "no tensor '{key}'; tensors present: {}",
-                        self.keys().join(", ")
-                    ),
-                    "pass the right key (--embeddings-key / --labels-key)",
-                ));
-            }
-        };
-        let dtype = entry
-            .get("dtype")
-            .and_then(Value::as_str)
-            .ok_or_else(|| bad(path, key, "tensor has no dtype"))?;
-        let shape: Vec<usize> = entry
-            .get("shape")
-            .and_then(Value::as_array)
-            .ok_or_else(|| bad(path, key, "tensor has no shape"))?
-            .iter()
-            .map(|d| {
-                d.as_u64()
-                    .and_then(|d| usize::try_from(d).ok())
-                    .ok_or_else(|| bad(path, key, "shape holds a non-integer"))
-            })
-            .collect::<Result<_>>()?;
-        let offs = entry
-            .get("data_offsets")
-            .and_then(Value::as_array)
-            .ok_or_else(|| bad(path, key, "tensor has no data_offsets"))?;
-        let (begin, end) = match offs.as_slice() {
-            [b, e] => (
-                b.as_u64().and_then(|v| usize::try_from(v).ok()),
-                e.as_u64().and_then(|v| usize::try_from(v).ok()),
-            ),
-            _ => (None, None),
-        };
-        let (begin, end) = match (begin, end) {
-            (Some(b), Some(e)) if b <= e && e <= self.data.len() => (b, e),
-            _ => {
-                return Err(bad(
-                    path,
-                    key,
-                    format!(
-                        "data_offsets {offs:?} fall outside the {} data bytes",
-                        self.data.len()
-                    ),
-                ));
-            }
-        };
-        let size = match dtype {
-            "F16" | "BF16" | "I16" | "U16" => 2,
-            "F32" | "I32" | "U32" => 4,
-            "F64" | "I64" | "U64" => 8,
-            "I8" | "U8" | "BOOL" => 1,
-            other => return Err(bad(path, key, format!("dtype {other} is not supported"))),
-        };
-        let count = shape.iter().try_fold(1usize, |a, &d| a.checked_mul(d));
-        if count.and_then(|c| c.checked_mul(size)) != Some(end - begin) {
-            return Err(bad(
+        let Ok(view) = self.tensors.tensor(key) else {
+            return Err(Error::input_at(
                 path,
-                key,
+                format!("key '{key}'"),
                 format!(
-                    "shape {shape:?} of {dtype} does not match its {} data bytes",
-                    end - begin
+                    "no tensor '{key}'; tensors present: {}",
+                    self.keys().join(", ")
                 ),
+                "pass the right key (--embeddings-key / --labels-key)",
             ));
-        }
-        let bytes = &self.data[begin..end];
+        };
+        let dtype = view.dtype();
+        let shape = view.shape().to_vec();
+        let bytes = view.data();
         macro_rules! each {
             ($t:ty, $n:literal) => {
                 bytes.chunks_exact($n).map(|c| {
@@ -140,26 +124,26 @@ impl File<'_> {
             };
         }
         let values = match dtype {
-            "F16" => Values::F32(
+            Dtype::F16 => Values::F32(
                 each!(u16, 2)
                     .map(|b| half::f16::from_bits(b).to_f32())
                     .collect(),
             ),
-            "BF16" => Values::F32(
+            Dtype::BF16 => Values::F32(
                 each!(u16, 2)
                     .map(|b| half::bf16::from_bits(b).to_f32())
                     .collect(),
             ),
-            "F32" => Values::F32(each!(f32, 4).collect()),
-            "F64" => Values::F64(each!(f64, 8).collect()),
-            "I8" => Values::Int(bytes.iter().map(|&b| i64::from(b as i8)).collect()),
-            "U8" | "BOOL" => Values::Int(bytes.iter().map(|&b| i64::from(b)).collect()),
-            "I16" => Values::Int(each!(i16, 2).map(i64::from).collect()),
-            "U16" => Values::Int(each!(u16, 2).map(i64::from).collect()),
-            "I32" => Values::Int(each!(i32, 4).map(i64::from).collect()),
-            "U32" => Values::Int(each!(u32, 4).map(i64::from).collect()),
-            "I64" => Values::Int(each!(i64, 8).collect()),
-            _ => Values::Int(
+            Dtype::F32 => Values::F32(each!(f32, 4).collect()),
+            Dtype::F64 => Values::F64(each!(f64, 8).collect()),
+            Dtype::I8 => Values::Int(bytes.iter().map(|&b| i64::from(b as i8)).collect()),
+            Dtype::U8 | Dtype::BOOL => Values::Int(bytes.iter().map(|&b| i64::from(b)).collect()),
+            Dtype::I16 => Values::Int(each!(i16, 2).map(i64::from).collect()),
+            Dtype::U16 => Values::Int(each!(u16, 2).map(i64::from).collect()),
+            Dtype::I32 => Values::Int(each!(i32, 4).map(i64::from).collect()),
+            Dtype::U32 => Values::Int(each!(u32, 4).map(i64::from).collect()),
+            Dtype::I64 => Values::Int(each!(i64, 8).collect()),
+            Dtype::U64 => Values::Int(
                 each!(u64, 8)
                     .map(|v| {
                         i64::try_from(v).map_err(|_| {
@@ -172,6 +156,7 @@ impl File<'_> {
                     })
                     .collect::<Result<_>>()?,
             ),
+            other => return Err(bad(path, key, format!("dtype {other:?} is not supported"))),
         };
         let values = match (values, self.names_for(key)) {
             (Values::Int(codes), Some(names)) => Values::Text(
@@ -196,7 +181,7 @@ impl File<'_> {
         Ok(Tensor {
             shape,
             values,
-            dtype: dtype.to_ascii_lowercase(),
+            dtype: format!("{dtype:?}").to_ascii_lowercase(),
         })
     }
 
@@ -212,27 +197,13 @@ impl File<'_> {
 /// Reads the pieces of a dataset from a `.safetensors` file.
 pub fn read(path: &Path, opts: &ReadOptions) -> Result<Parts> {
     let bytes = std::fs::read(path).map_err(|e| Error::io(path, e))?;
-    let fix = "rewrite the file with the safetensors library";
-    if bytes.len() < 8 {
-        return Err(Error::input(path, "too short for a .safetensors file", fix));
-    }
-    let mut len8 = [0u8; 8];
-    len8.copy_from_slice(&bytes[..8]);
-    let n = u64::from_le_bytes(len8);
-    if n > MAX_HEADER || n > (bytes.len() - 8) as u64 {
-        return Err(Error::input(
-            path,
-            format!("header length {n} exceeds the file ({} bytes)", bytes.len()),
-            fix,
-        ));
-    }
-    let end = 8 + n as usize;
-    let header: Map<String, Value> = serde_json::from_slice(&bytes[8..end])
-        .map_err(|e| Error::input(path, format!("header is not a JSON object: {e}"), fix))?;
+    let (_, metadata) = SafeTensors::read_metadata(&bytes).map_err(|e| refused(path, &bytes, e))?;
+    let meta = metadata.metadata().clone().unwrap_or_default();
+    let tensors = SafeTensors::deserialize(&bytes).map_err(|e| refused(path, &bytes, e))?;
     let mut f = File {
         path,
-        header,
-        data: &bytes[end..],
+        tensors,
+        meta,
     };
     keyed_parts(&mut f, path, opts)
 }
@@ -257,50 +228,40 @@ fn codes(v: &[String]) -> (Vec<i64>, Vec<String>) {
 /// codes with their names in `__metadata__`.
 pub fn write(out: &mut dyn Write, export: &Export<'_>) -> std::io::Result<()> {
     let x = export.x;
-    let mut tensors: Vec<(String, &str, Vec<usize>, Vec<u8>)> = vec![(
+    let mut bodies: Vec<(String, Dtype, Vec<usize>, Vec<u8>)> = vec![(
         "embeddings".into(),
-        "F32",
+        Dtype::F32,
         vec![x.nrows(), x.ncols()],
         x.iter().flat_map(|v| v.to_le_bytes()).collect(),
     )];
-    let mut meta = Map::new();
-    meta.insert("format".into(), json!("embloom"));
+    let mut meta = HashMap::new();
+    meta.insert("format".to_string(), "embloom".to_string());
     for (key, col) in &export.columns {
         let n = col.len();
         let (dtype, body) = match col {
-            Column::Int(v) => ("I64", v.iter().flat_map(|c| c.to_le_bytes()).collect()),
-            Column::F32(v) => ("F32", v.iter().flat_map(|c| c.to_le_bytes()).collect()),
+            Column::Int(v) => (Dtype::I64, v.iter().flat_map(|c| c.to_le_bytes()).collect()),
+            Column::F32(v) => (Dtype::F32, v.iter().flat_map(|c| c.to_le_bytes()).collect()),
             Column::Text(v) => {
                 let (c, names) = codes(v);
                 meta.insert(
                     format!("{key}.names"),
-                    Value::String(serde_json::to_string(&names).map_err(std::io::Error::other)?),
+                    serde_json::to_string(&names).map_err(std::io::Error::other)?,
                 );
-                ("I64", c.iter().flat_map(|c| c.to_le_bytes()).collect())
+                (Dtype::I64, c.iter().flat_map(|c| c.to_le_bytes()).collect())
             }
         };
-        tensors.push((key.to_string(), dtype, vec![n], body));
+        bodies.push((key.to_string(), dtype, vec![n], body));
     }
-    let mut header = Map::new();
-    header.insert("__metadata__".into(), Value::Object(meta));
-    let mut offset = 0usize;
-    for (name, dtype, shape, body) in &tensors {
-        header.insert(
-            name.clone(),
-            json!({"dtype": dtype, "shape": shape, "data_offsets": [offset, offset + body.len()]}),
-        );
-        offset += body.len();
-    }
-    let mut text = serde_json::to_string(&Value::Object(header)).map_err(std::io::Error::other)?;
-    // Pad with spaces so the data starts 8-byte aligned, as the reference writer does.
-    while text.len() % 8 != 0 {
-        text.push(' ');
-    }
-    out.write_all(&(text.len() as u64).to_le_bytes())?;
-    out.write_all(text.as_bytes())?;
-    for (_, _, _, body) in &tensors {
-        out.write_all(body)?;
-    }
+    let views = bodies
+        .iter()
+        .map(|(name, dtype, shape, body)| {
+            TensorView::new(*dtype, shape.clone(), body)
+                .map(|v| (name.clone(), v))
+                .map_err(std::io::Error::other)
+        })
+        .collect::<std::io::Result<Vec<_>>>()?;
+    let file = safetensors::serialize(views, Some(meta)).map_err(std::io::Error::other)?;
+    out.write_all(&file)?;
     out.flush()
 }
 
