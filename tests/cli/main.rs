@@ -15,5 +15,6 @@ mod hardening_fuzz;
 mod hardening_memory;
 mod input_bounds;
 mod output_safety;
+mod report_names;
 mod resource_bounds;
 mod terminal_names;
