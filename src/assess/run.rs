@@ -182,8 +182,18 @@ pub fn assess_with_observed(
                             baseline_linear.as_ref(),
                         )?;
                         if !model.converged {
+                            // A larger λ helps an ill-conditioned fit; past 1 the penalty
+                            // swamps the loss and its scale breaks the solver, so go back down.
+                            let advice = if cfg.linear.l2 > 1.0 {
+                                format!(
+                                    "--linear-l2 {:e} is very large; try a smaller one (default 1e-4)",
+                                    cfg.linear.l2
+                                )
+                            } else {
+                                "try a larger --linear-l2 or --linear-max-iter".to_string()
+                            };
                             warnings.insert(format!(
-                                "the linear probe did not converge for {} (repeat {}, fold {}) after {} iterations; try a larger --linear-l2",
+                                "the linear probe did not converge for {} (repeat {}, fold {}) after {} iterations; {advice}",
                                 kind.name(),
                                 fold.repeat + 1,
                                 fold.index + 1,
