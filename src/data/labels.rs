@@ -32,11 +32,7 @@ impl RawLabels {
 /// the reader (`key 'labels'`, `column 'label'`, `labels file y.npy`), so it is used as is.
 /// Non-integral, NaN or too large float labels are refused, and so is an empty text label:
 /// it would be written as an empty cell that no reader can tell from a missing label.
-pub fn encode_labels(
-    raw: RawLabels,
-    path: &Path,
-    source: &str,
-) -> Result<(Vec<u32>, Vec<String>)> {
+pub fn encode_labels(raw: RawLabels, path: &Path, source: &str) -> Result<(Vec<u32>, Vec<String>)> {
     let names: Vec<String> = match raw {
         RawLabels::Text(v) => {
             if let Some(row) = v.iter().position(|n| n.is_empty()) {
@@ -139,7 +135,10 @@ mod tests {
         let big = msg(RawLabels::Float(vec![0.0, 1e19]));
         assert!(big.contains("key 'labels', row 1"), "{big}");
         assert!(!big.contains("key 'key"), "{big}");
-        assert!(big.contains("too large") && !big.contains("whole number"), "{big}");
+        assert!(
+            big.contains("too large") && !big.contains("whole number"),
+            "{big}"
+        );
         let empty = msg(RawLabels::Text(vec!["a".into(), String::new()]));
         assert!(
             empty.contains("row 1") && empty.contains("empty") && empty.contains("f.npz"),

@@ -46,7 +46,12 @@ fn an_empty_class_name_is_refused_naming_file_and_row() {
         .collect();
     npy(&y, "<U1", "(4,)", &labels);
     let o = embloom(
-        &["inspect", x.to_str().unwrap(), "--labels", y.to_str().unwrap()],
+        &[
+            "inspect",
+            x.to_str().unwrap(),
+            "--labels",
+            y.to_str().unwrap(),
+        ],
         &[],
     );
     let e = stderr(&o);
