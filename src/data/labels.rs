@@ -55,8 +55,8 @@ pub fn encode_labels(raw: RawLabels, path: &Path, source: &str) -> Result<(Vec<u
                         path,
                         location(),
                         format!(
-                            "label {f} is too large for a class code (at most 9e15, where \
-                             float64 still holds every whole number)"
+                            "label {f:e} is too large for a class code (at most 9e15, beyond which \
+                             float64 skips integers)"
                         ),
                         "store labels as integers or strings, or fix the row",
                     ));
