@@ -48,7 +48,7 @@ impl Error {
         Error::Input {
             path: path.to_path_buf(),
             location: None,
-            detail: detail.into(),
+            detail: capped(detail.into()),
             fix: fix.into(),
         }
     }
@@ -62,8 +62,8 @@ impl Error {
     ) -> Self {
         Error::Input {
             path: path.to_path_buf(),
-            location: Some(location.into()),
-            detail: detail.into(),
+            location: Some(capped(location.into())),
+            detail: capped(detail.into()),
             fix: fix.into(),
         }
     }
@@ -100,5 +100,25 @@ impl Error {
             detail: detail.into(),
             fix: fix.into(),
         }
+    }
+}
+
+/// Echoed input (a header, a cell, a column name) cut to a few lines: a 50 MB header must
+/// not come back in full in an error message.
+fn capped(s: String) -> String {
+    const MAX: usize = 400;
+    match s.char_indices().nth(MAX) {
+        Some((at, _)) => format!("{}… ({} more bytes)", &s[..at], s.len() - at),
+        None => s,
+    }
+}
+
+#[cfg(test)]
+mod capped_tests {
+    #[test]
+    fn long_echoed_input_is_cut() {
+        let e = super::Error::input(std::path::Path::new("f.npy"), "x".repeat(50_000_000), "fix");
+        assert!(e.to_string().len() < 600);
+        assert!(e.to_string().contains("more bytes"));
     }
 }

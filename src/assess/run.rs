@@ -189,9 +189,19 @@ pub fn assess_with_observed(
                             baseline_linear.as_ref(),
                         )?;
                         if !model.converged {
+                            // A larger λ helps an ill-conditioned fit; past 1 the penalty
+                            // swamps the loss and its scale breaks the solver, so go back down.
+                            let advice = if cfg.linear.l2 > 1.0 {
+                                format!(
+                                    "--linear-l2 {:e} is very large; try a smaller one (default 1e-4) or a larger --linear-max-iter",
+                                    cfg.linear.l2
+                                )
+                            } else {
+                                "try a larger --linear-l2 or --linear-max-iter".to_string()
+                            };
                             fold_warnings.add(
                                 format!(
-                                    "the linear probe did not converge for {} within {} iterations; try a larger --linear-l2 or --linear-max-iter",
+                                    "the linear probe did not converge for {} within {} iterations; {advice}",
                                     kind.name(),
                                     cfg.linear.max_iter
                                 ),

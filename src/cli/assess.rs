@@ -215,12 +215,16 @@ fn check_memory(ds: &embloom::Dataset, config: &AssessConfig, opts: &AssessOptio
         synthetic,
         config.folds,
         config.probes.contains(&embloom::probe::ProbeKind::Linear),
+    )
+    .with_fold_records(
+        config.repeats.max(1) * config.folds.max(2) * config.methods.len() * config.probes.len(),
+        ds.n_classes(),
     );
     embloom::memory::check(
         &est,
         opts.max_memory,
         &format!("assessing {}", opts.input.display()),
-        "assess fewer classes (--classes A,B), a smaller --target (e.g. median), fewer folds (--folds 3), the knn probe alone (--probes knn), or raise --max-memory",
+        "assess fewer classes (--classes A,B), a smaller --target (e.g. median), fewer folds (--folds 3) or repeats (--repeats), the knn probe alone (--probes knn), or raise --max-memory",
     )
 }
 

@@ -31,19 +31,44 @@ impl RawLabels {
     }
 }
 
-/// Class indices (numpy `unique` order, see [`sorted_codes`]) and class names for a label column read from `path` at
-/// `key`. Non-integral or NaN float labels are refused, naming the first offending row.
-pub fn encode_labels(raw: RawLabels, path: &Path, key: &str) -> Result<(Vec<u32>, Vec<String>)> {
+/// Class indices (numpy `unique` order, see [`sorted_codes`]) and class names for a label
+/// column read from `path`. `source` says where in the file the column is, already worded by
+/// the reader (`key 'labels'`, `column 'label'`, `labels file y.npy`), so it is used as is.
+/// Non-integral, NaN or too large float labels are refused, and so is an empty text label:
+/// it would be written as an empty cell that no reader can tell from a missing label.
+pub fn encode_labels(raw: RawLabels, path: &Path, source: &str) -> Result<(Vec<u32>, Vec<String>)> {
     let names: Vec<String> = match raw {
-        RawLabels::Text(v) => v,
+        RawLabels::Text(v) => {
+            if let Some(row) = v.iter().position(|n| n.is_empty()) {
+                return Err(Error::input_at(
+                    path,
+                    format!("{source}, row {row}"),
+                    "the class name is empty",
+                    "give every row a non-empty class name (e.g. 'unknown'), or drop the row",
+                ));
+            }
+            v
+        }
         RawLabels::Int(v) => v.iter().map(|i| i.to_string()).collect(),
         RawLabels::Float(v) => {
             let mut out = Vec::with_capacity(v.len());
             for (row, f) in v.iter().enumerate() {
-                if !f.is_finite() || f.fract() != 0.0 || f.abs() > 9.0e15 {
+                let location = || format!("{source}, row {row}");
+                if f.is_finite() && f.abs() > 9.0e15 {
                     return Err(Error::input_at(
                         path,
-                        format!("key '{key}', row {row}"),
+                        location(),
+                        format!(
+                            "label {f:e} is too large for a class code (at most 9e15, beyond which \
+                             float64 skips integers)"
+                        ),
+                        "store labels as integers or strings, or fix the row",
+                    ));
+                }
+                if !f.is_finite() || f.fract() != 0.0 {
+                    return Err(Error::input_at(
+                        path,
+                        location(),
                         format!(
                             "label {f} is not a whole number; float labels must be integral class codes"
                         ),
@@ -102,6 +127,27 @@ mod tests {
         assert_eq!(c, vec!["0", "2", "10"]);
         assert!(encode_labels(RawLabels::Float(vec![1.5]), Path::new("f"), "labels").is_err());
         assert!(encode_labels(RawLabels::Float(vec![f64::NAN]), Path::new("f"), "labels").is_err());
+    }
+
+    #[test]
+    fn messages_name_the_source_once_and_say_what_is_wrong() {
+        let msg = |raw| {
+            encode_labels(raw, Path::new("f.npz"), "key 'labels'")
+                .unwrap_err()
+                .to_string()
+        };
+        let big = msg(RawLabels::Float(vec![0.0, 1e19]));
+        assert!(big.contains("key 'labels', row 1"), "{big}");
+        assert!(!big.contains("key 'key"), "{big}");
+        assert!(
+            big.contains("too large") && !big.contains("whole number"),
+            "{big}"
+        );
+        let empty = msg(RawLabels::Text(vec!["a".into(), String::new()]));
+        assert!(
+            empty.contains("row 1") && empty.contains("empty") && empty.contains("f.npz"),
+            "{empty}"
+        );
     }
 
     #[test]

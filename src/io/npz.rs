@@ -134,12 +134,30 @@ pub fn write(out: File, export: &Export<'_>) -> std::io::Result<()> {
         };
         members.push((name.to_string(), img));
     }
-    for (name, img) in members {
-        zip.start_file(format!("{name}.npy"), opts)
-            .map_err(std::io::Error::other)?;
-        zip.write_all(&img)?;
+    let mut body = || -> std::io::Result<()> {
+        for (name, img) in &members {
+            zip.start_file(format!("{name}.npy"), opts)
+                .map_err(zip_io)?;
+            zip.write_all(img)?;
+        }
+        Ok(())
+    };
+    if let Err(e) = body() {
+        // Dropping an unfinished writer makes the zip crate try to finish it and print
+        // "ZipWriter drop failed" on its own; the caller reports `e` and removes the file.
+        std::mem::forget(zip);
+        return Err(e);
     }
-    zip.finish().map_err(std::io::Error::other)?.flush()
+    zip.finish().map_err(zip_io)?.flush()
+}
+
+/// The OS error inside a zip error as it is, so a message says "No space left on device"
+/// once, not wrapped in the zip crate's own wording.
+fn zip_io(e: zip::result::ZipError) -> std::io::Error {
+    match e {
+        zip::result::ZipError::Io(e) => e,
+        other => std::io::Error::other(other),
+    }
 }
 
 impl Keyed for Archive<'_> {

@@ -8,7 +8,12 @@
 //!   digits are lost; infinities are written `inf` / `-inf`;
 //! - NaN (a figure that could not be computed, e.g. the recall of a class with no test rows
 //!   in a fold) is written as an **empty field**, which pandas and R both read as missing;
-//! - booleans are `true` / `false`; an absent optional value is an empty field.
+//! - booleans are `true` / `false`; an absent optional value is an empty field;
+//! - a text cell that a spreadsheet would run as a formula (it starts with `=`, `+`, `-`,
+//!   `@`, a tab or a carriage return) gets a leading `'`, the usual defence against formula
+//!   injection: a class name from someone else's file must not run when the report is opened.
+//!   Numbers are not text cells, so `-0.5` stays a number. The data export (`grow -o x.csv`)
+//!   keeps names exact, since it is read back as data.
 
 use std::borrow::Cow;
 
@@ -235,7 +240,12 @@ pub fn sweep_csv(r: &SweepResults) -> String {
             &mut out,
             [
                 text(&r.knob),
-                text(&p.value),
+                // A knob value is a number or a method name; a number stays a number.
+                if p.value.parse::<f64>().is_ok() {
+                    Cow::from(p.value.as_str())
+                } else {
+                    text(&p.value)
+                },
                 text(&p.probe),
                 text(&p.metric),
                 num(p.mean),
@@ -259,9 +269,14 @@ fn row<'a>(out: &mut String, fields: impl IntoIterator<Item = Cow<'a, str>>) {
     out.push('\n');
 }
 
-/// A text field, quoted later by [`row`] if it needs it.
+/// A text field, quoted later by [`row`] if it needs it, with a leading `'` when a
+/// spreadsheet would otherwise evaluate it as a formula.
 fn text(s: &str) -> Cow<'_, str> {
-    Cow::Borrowed(s)
+    if s.starts_with(['=', '+', '-', '@', '\t', '\r']) {
+        Cow::Owned(format!("'{s}"))
+    } else {
+        Cow::Borrowed(s)
+    }
 }
 
 /// A number: shortest round-trip form, NaN as an empty field.
@@ -298,6 +313,18 @@ mod tests {
         assert_eq!(quote("say \"hi\""), "\"say \"\"hi\"\"\"");
         assert_eq!(quote("two\nlines"), "\"two\nlines\"");
         assert_eq!(quote(" padded"), "\" padded\"");
+    }
+
+    #[test]
+    fn formula_cells_get_a_leading_quote() {
+        // OWASP "CSV Injection": prefix cells starting with = + - @ tab CR with a single quote
+        // (from memory).
+        for bad in ["=1+1", "+cmd", "-2+3", "@SUM(A1)", "\tx", "\rx"] {
+            assert_eq!(text(bad), format!("'{bad}"));
+        }
+        assert_eq!(text("cat"), "cat");
+        assert_eq!(text("a=b"), "a=b");
+        assert_eq!(num(-0.5), "-0.5");
     }
 
     #[test]

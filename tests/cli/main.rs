@@ -15,6 +15,8 @@ mod hardening_determinism;
 mod hardening_fuzz;
 mod hardening_memory;
 mod input_bounds;
+mod messages;
 mod output_safety;
+mod report_names;
 mod resource_bounds;
 mod terminal_names;

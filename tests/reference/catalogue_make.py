@@ -155,6 +155,14 @@ def make_bad():
     nan_y[6] = np.nan
     case("nan_labels.npz", lambda p: savez(p, embeddings=X, labels=nan_y), "a NaN label",
          "not a whole number")
+    empty_y = np.array(["a", "b"] * 4)
+    empty_y[3] = ""
+    case("empty_label.npz", lambda p: savez(p, embeddings=X, labels=empty_y),
+         "an empty class name in row 3", "class name is empty")
+    big_y = Y.astype(np.float64)
+    big_y[2] = 1e19
+    case("huge_float_label.npz", lambda p: savez(p, embeddings=X, labels=big_y),
+         "a float label of 1e19", "too large for a class code")
     case("groups_mismatch.npz",
          lambda p: savez(p, embeddings=X, labels=Y, groups=np.arange(7)),
          "7 groups for 8 rows", "7 values for 8")
