@@ -49,6 +49,9 @@ pub struct Inspection {
 
 impl Inspection {
     pub fn of(file: &Path, ds: &Dataset, origin: Option<&[String]>) -> Inspection {
+        // Every file embloom writes carries `origin`; it is a grown file only when some rows
+        // are synthetic.
+        let origin = origin.filter(|o| o.iter().any(|x| x != "real"));
         let stats = DatasetStats::of(ds);
         let counts = ds.class_counts();
         let mut real = vec![0usize; counts.len()];

@@ -67,6 +67,32 @@ fn a_grown_file_shows_real_and_synthetic_counts_per_class() {
     assert!(text.contains("synthetic      14"), "{text}");
 }
 
+#[test]
+fn a_file_embloom_wrote_with_only_real_rows_is_not_called_grown() {
+    // Every embloom export carries `origin`; growing with `none` adds no synthetic row.
+    let dir = tempdir();
+    let input = p(dir.path(), "in.csv");
+    write_csv(&input, &[20, 6], 3, 8);
+    let out = p(dir.path(), "same.npz");
+    let o = embloom(
+        &[
+            "grow",
+            input.to_str().unwrap(),
+            "-o",
+            out.to_str().unwrap(),
+            "--method",
+            "none",
+            "--quiet",
+        ],
+        &[],
+    );
+    assert!(o.status.success(), "{}", stderr(&o));
+    let o = embloom(&["inspect", out.to_str().unwrap()], &[]);
+    let text = stdout(&o);
+    assert!(o.status.success(), "{}", stderr(&o));
+    assert!(!text.contains("grown file"), "{text}");
+}
+
 /// A little-endian f32 `.npy` (format version 1.0, written by hand from the format's spec).
 fn write_npy(path: &std::path::Path, rows: &[[f32; 2]]) {
     let mut header = format!(
