@@ -130,7 +130,7 @@ impl GrowSummary {
         let width = self
             .classes
             .iter()
-            .map(|c| shown(&c.class).chars().count())
+            .map(|c| embloom::report::table_name(&c.class).chars().count())
             .max()
             .unwrap_or(5)
             .max(5);
@@ -141,7 +141,7 @@ impl GrowSummary {
         for c in self.classes.iter().filter(|c| c.added > 0) {
             s += &format!(
                 "  {:<width$}  {:>7}  {:>7}  {:>7}\n",
-                shown(&c.class),
+                embloom::report::table_name(&c.class),
                 c.before,
                 c.added,
                 c.after
@@ -237,9 +237,4 @@ pub fn execute(opts: &GrowOptions) -> Result<GrowSummary> {
             .collect(),
         warnings: describe_notes(&grown.notes, &ds.classes, opts.method),
     })
-}
-
-/// A class name as the table shows it: control characters escaped, at most 60 characters.
-fn shown(name: &str) -> String {
-    embloom::report::display_name(name, 60)
 }

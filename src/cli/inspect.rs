@@ -156,7 +156,7 @@ impl Inspection {
         let width = self
             .classes
             .iter()
-            .map(|c| shown(&c.name).chars().count())
+            .map(|c| embloom::report::table_name(&c.name).chars().count())
             .max()
             .unwrap_or(5)
             .max(5);
@@ -170,7 +170,7 @@ impl Inspection {
         for c in &self.classes {
             s += &format!(
                 "    {:<width$}  {:>7}  {:5.1}%",
-                shown(&c.name),
+                embloom::report::table_name(&c.name),
                 c.count,
                 100.0 * c.count as f64 / self.rows.max(1) as f64
             );
@@ -213,9 +213,4 @@ pub fn inspect(path: &Path, read: &ReadOptions, json: bool) -> Result<()> {
         print!("{}", report.render());
     }
     Ok(())
-}
-
-/// A class name as the table shows it: control characters escaped, at most 60 characters.
-fn shown(name: &str) -> String {
-    embloom::report::display_name(name, 60)
 }

@@ -3,6 +3,12 @@
 //! are written as visible escapes, which keeps a name from moving the cursor, recolouring the
 //! screen or breaking a table's rows, and very long names are cut so a table stays a table.
 
+/// A class name as a terminal table shows it: escaped, and cut to 60 characters so one long
+/// name cannot widen every row.
+pub fn table_name(name: &str) -> String {
+    display_name(name, 60)
+}
+
 /// `name` with control characters escaped (`\e`, `\r`, `\n`, `\t`, `\u{7f}`, ...) and cut to
 /// at most `max` characters (a cut name ends in `…`).
 pub fn display_name(name: &str, max: usize) -> String {

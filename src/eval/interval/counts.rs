@@ -3,7 +3,7 @@
 //! Cross-Validation Studies", recommend pooling the confusion counts for F1) and a bootstrap
 //! resample (where each row's count is its multiplicity).
 
-use super::{PairedFold, TestOutcome};
+use super::{PairedFold, TestOutcome, mean};
 
 /// Per-class counts of one prediction set: true positives, true rows, predicted rows.
 #[derive(Debug, Clone, PartialEq)]
@@ -222,12 +222,4 @@ pub fn rows_per_fold(folds: &[PairedFold], metrics: &[PooledMetric], n_classes: 
             }
         })
         .collect()
-}
-
-fn mean(v: &[f64]) -> f64 {
-    if v.is_empty() {
-        f64::NAN
-    } else {
-        v.iter().sum::<f64>() / v.len() as f64
-    }
 }

@@ -306,6 +306,7 @@ pub fn paired(
         .collect()
 }
 
+/// The arithmetic mean; NaN for no values.
 fn mean(v: &[f64]) -> f64 {
     if v.is_empty() {
         f64::NAN
