@@ -26,6 +26,10 @@ pub struct Parts {
     pub row_lines: Option<Vec<usize>>,
     /// The `origin` provenance of a file embloom grew (`real` or a method name per row).
     pub origin: Option<Vec<String>>,
+    /// The `parent` and `partner` provenance of a file embloom grew, as stored (see
+    /// [`Loaded::parent`]).
+    pub parent: Option<Vec<i64>>,
+    pub partner: Option<Vec<i64>>,
 }
 
 fn row_name(lines: &Option<Vec<usize>>, row: usize) -> String {
@@ -69,6 +73,8 @@ pub fn finish(
         folds,
         row_lines,
         origin,
+        parent,
+        partner,
     } = parts;
     let n = x.nrows();
     if labels.len() != n {
@@ -126,18 +132,27 @@ pub fn finish(
         .map(|r| r.iter().all(|v| v.is_finite()))
         .collect();
     let dropped = finite.iter().filter(|f| !**f).count();
-    if let Some(o) = &origin
-        && o.len() != n
-    {
-        return Err(Error::input_at(
-            path,
-            format!("origin vs {x_source}"),
-            format!("{} values for {n} embedding rows", o.len()),
-            "give exactly one origin per row, or remove the origin column",
-        ));
+    for (key, len) in [
+        ("origin", origin.as_ref().map(Vec::len)),
+        ("parent", parent.as_ref().map(Vec::len)),
+        ("partner", partner.as_ref().map(Vec::len)),
+    ] {
+        if let Some(len) = len
+            && len != n
+        {
+            return Err(Error::input_at(
+                path,
+                format!("{key} vs {x_source}"),
+                format!("{len} values for {n} embedding rows"),
+                format!("give exactly one {key} per row, or remove the {key} column"),
+            ));
+        }
     }
-    let (x, labels, ids, groups, folds, origin) = if dropped == 0 || keep_nonfinite {
-        (x, labels, ids, groups, folds, origin)
+    let provenance = (origin, parent, partner);
+    let (x, labels, ids, groups, folds, (origin, parent, partner)) = if dropped == 0
+        || keep_nonfinite
+    {
+        (x, labels, ids, groups, folds, provenance)
     } else if !drop_nonfinite {
         let first = finite.iter().position(|f| !*f).unwrap_or(0);
         return Err(Error::input_at(
@@ -162,7 +177,11 @@ pub fn finish(
             ids.map(|(k, v)| (k, keep(v, &finite))),
             groups.map(|(k, v)| (k, keep(v, &finite))),
             folds.map(|(k, v)| (k, keep(v, &finite))),
-            origin.map(|v| keep(v, &finite)),
+            (
+                provenance.0.map(|v| keep(v, &finite)),
+                provenance.1.map(|v| keep(v, &finite)),
+                provenance.2.map(|v| keep(v, &finite)),
+            ),
         )
     };
     let (codes, classes) = encode_labels(labels, path, &labels_source)?;
@@ -175,5 +194,7 @@ pub fn finish(
         dataset,
         dropped_nonfinite: dropped,
         origin,
+        parent,
+        partner,
     })
 }

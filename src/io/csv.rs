@@ -214,6 +214,7 @@ pub fn read(path: &Path, sep: char, opts: &ReadOptions) -> Result<Parts> {
     let mut groups = has(Role::Group).then(Vec::new);
     let mut folds = has(Role::Fold).then(Vec::new);
     let mut origin = is_export.then(Vec::new);
+    let (mut parent, mut partner) = (is_export.then(Vec::new), is_export.then(Vec::new));
     for rec in recs {
         if rec.fields.len() != names.len() {
             return Err(Error::input_at(
@@ -266,6 +267,28 @@ pub fn read(path: &Path, sep: char, opts: &ReadOptions) -> Result<Parts> {
                     .as_mut()
                     .into_iter()
                     .for_each(|o| o.push(v.to_string())),
+                Role::Provenance if name == "parent" || name == "partner" => {
+                    // An empty index names no row (as −1 does); a synthetic row without a
+                    // parent is refused where the parent is used.
+                    let i = if v.is_empty() {
+                        -1
+                    } else {
+                        v.parse::<i64>().map_err(|_| {
+                            Error::input_at(
+                                path,
+                                format!("line {}, column '{name}'", rec.line),
+                                format!("'{v}' is not a row index"),
+                                "store provenance indices as integers (-1 for none)",
+                            )
+                        })?
+                    };
+                    let column = if name == "parent" {
+                        &mut parent
+                    } else {
+                        &mut partner
+                    };
+                    column.as_mut().into_iter().for_each(|c| c.push(i));
+                }
                 Role::Provenance => {}
             }
         }
@@ -289,6 +312,8 @@ pub fn read(path: &Path, sep: char, opts: &ReadOptions) -> Result<Parts> {
         folds: folds.map(|v| (format!("column '{}'", opts.fold_key), v)),
         row_lines: Some(lines),
         origin,
+        parent,
+        partner,
     })
 }
 

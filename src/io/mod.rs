@@ -76,6 +76,12 @@ pub struct Loaded {
     pub dropped_nonfinite: usize,
     /// Per-row `origin` when the file is one embloom grew (`real` or the method's name).
     pub origin: Option<Vec<String>>,
+    /// Per-row `parent` of a grown file, as stored: a real row's own index among the file's
+    /// real rows, a synthetic row's base real row in that index space (rows NaN/Inf dropping
+    /// removed keep their stored values, so the indices still name the rows as written).
+    pub parent: Option<Vec<i64>>,
+    /// Per-row `partner`, in the same index space as `parent`; −1 where no neighbour was used.
+    pub partner: Option<Vec<i64>>,
 }
 
 /// An augmented set ready to export: real rows first, then synthetic rows, with provenance
@@ -197,6 +203,8 @@ fn read_npy(path: &Path, opts: &ReadOptions) -> Result<assemble::Parts> {
         folds: None,
         row_lines: None,
         origin: None,
+        parent: None,
+        partner: None,
     })
 }
 

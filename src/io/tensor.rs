@@ -185,6 +185,16 @@ pub fn keyed_parts(
         .get_optional("origin")?
         .map(|t| t.into_strings(path, "origin"))
         .transpose()?;
+    let mut provenance_ints = |key: &str| -> Result<Option<Vec<i64>>> {
+        src.get_optional(key)?
+            .map(|t| t.into_ints(path, key))
+            .transpose()
+    };
+    let (parent, partner) = if origin.is_some() {
+        (provenance_ints("parent")?, provenance_ints("partner")?)
+    } else {
+        (None, None)
+    };
     let folds = src
         .get_optional(&opts.fold_key)?
         .map(|t| t.into_ints(path, &opts.fold_key))
@@ -200,5 +210,7 @@ pub fn keyed_parts(
         folds: folds.map(|v| (format!("key '{}'", opts.fold_key), v)),
         row_lines: None,
         origin,
+        parent,
+        partner,
     })
 }
