@@ -2,6 +2,7 @@
 //! splits for all (a paired design).
 
 mod config;
+mod from_file;
 mod input;
 pub mod results;
 mod run;
@@ -11,8 +12,11 @@ mod summary;
 mod sweep;
 
 pub use config::AssessConfig;
+pub use from_file::{FileRows, GrownFile, MethodId};
 pub use input::sha256_of;
 pub use results::{AssessResults, InputInfo};
-pub use run::{Progress, assess, assess_observed, assess_with, assess_with_observed};
+pub use run::{
+    Progress, assess, assess_grown_observed, assess_observed, assess_with, assess_with_observed,
+};
 pub use summary::{LEVEL, summary_with};
 pub use sweep::{Knob, SweepPoint, SweepResults, sweep};

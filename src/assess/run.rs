@@ -8,6 +8,7 @@ use std::time::Instant;
 use ndarray::Array2;
 
 use super::config::AssessConfig;
+use super::from_file::{FileRows, MethodId};
 use super::results::{AssessResults, DiagnosticRow, FoldRecord, InputInfo, WorkCounters};
 use super::{scatter, shared_knn, summary};
 use crate::augment::{self, Augmenter, Grown, MethodKind, Plan, class_indices, describe_notes};
@@ -28,7 +29,7 @@ const ECE_BINS: usize = 15;
 
 /// Where the fold loop is, reported before each (fold, method) step so a caller can draw a
 /// bar; the library itself never draws one.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[derive(Debug, Clone, PartialEq, Eq)]
 pub struct Progress {
     /// Steps finished so far.
     pub done: usize,
@@ -39,7 +40,7 @@ pub struct Progress {
     /// Folds in all (repeats × folds).
     pub folds: usize,
     /// The method about to run on that fold.
-    pub method: MethodKind,
+    pub method: MethodId,
 }
 
 /// Assess the methods of `cfg` on `ds`.
@@ -62,6 +63,23 @@ pub fn assess_observed(
     assess_with_observed(ds, cfg, input, &augmenters, on_progress)
 }
 
+/// [`assess_observed`] with a grown file's synthetic rows as further methods, after those of
+/// `cfg` (see [`FileRows`]: in each fold only rows whose parent and partner are training rows).
+pub fn assess_grown_observed(
+    ds: &Dataset,
+    cfg: &AssessConfig,
+    input: InputInfo,
+    from_file: &[FileRows],
+    on_progress: &mut dyn FnMut(Progress),
+) -> Result<AssessResults> {
+    let augmenters = cfg
+        .methods
+        .iter()
+        .map(|&m| augment::build(m, &cfg.augment))
+        .collect::<Result<Vec<_>>>()?;
+    run(ds, cfg, input, &augmenters, from_file, on_progress)
+}
+
 /// Assess with augmenters supplied by the caller (the first must be the `none` baseline);
 /// tests use it to plant a deliberately leaky augmenter.
 pub fn assess_with(
@@ -81,6 +99,34 @@ pub fn assess_with_observed(
     augmenters: &[Box<dyn Augmenter>],
     on_progress: &mut dyn FnMut(Progress),
 ) -> Result<AssessResults> {
+    run(ds, cfg, input, augmenters, &[], on_progress)
+}
+
+/// Where a method's synthetic rows of a fold come from.
+enum Arm<'a> {
+    /// Fitted on the fold's training rows.
+    Fit(&'a dyn Augmenter),
+    /// A grown file's rows, gated by their provenance.
+    File(&'a FileRows),
+}
+
+impl Arm<'_> {
+    fn id(&self) -> MethodId {
+        match self {
+            Arm::Fit(a) => MethodId::Fitted(a.kind()),
+            Arm::File(f) => f.id(),
+        }
+    }
+}
+
+fn run(
+    ds: &Dataset,
+    cfg: &AssessConfig,
+    input: InputInfo,
+    augmenters: &[Box<dyn Augmenter>],
+    from_file: &[FileRows],
+    on_progress: &mut dyn FnMut(Progress),
+) -> Result<AssessResults> {
     let started = Instant::now();
     if augmenters.first().map(|a| a.kind()) != Some(MethodKind::None) {
         return Err(Error::param(
@@ -98,6 +144,14 @@ pub fn assess_with_observed(
             "assess needs at least two classes",
         ));
     }
+    for f in from_file {
+        f.check_against(ds)?;
+    }
+    let arms: Vec<Arm> = augmenters
+        .iter()
+        .map(|a| Arm::Fit(a.as_ref()))
+        .chain(from_file.iter().map(Arm::File))
+        .collect();
     let (split, folds) = make_folds(ds, cfg.folds, cfg.repeats, cfg.seed)?;
     let only = cfg
         .classes
@@ -108,7 +162,7 @@ pub fn assess_with_observed(
     let knn_probe = KnnProbe::new(cfg.knn)?;
     let linear_probe = LinearProbe::new(cfg.linear)?;
 
-    let total = folds.len() * augmenters.len();
+    let total = folds.len() * arms.len();
     let mut done = 0;
     let mut records = Vec::new();
     let mut diagnostics = Vec::new();
@@ -130,23 +184,35 @@ pub fn assess_with_observed(
             .diagnostics
             .then(|| TrainingRows::new(ctx.train.view(), &ctx.train.labels, cfg.knn.metric));
         let mut baseline_linear: Option<LinearModel> = None;
-        for augmenter in augmenters {
-            let kind = augmenter.kind();
+        let train_pos = ctx.train_positions(ds.n_rows());
+        for arm in &arms {
+            let id = arm.id();
+            let name = id.name();
             on_progress(Progress {
                 done,
                 total,
                 fold: fi + 1,
                 folds: folds.len(),
-                method: kind,
+                method: id.clone(),
             });
-            let grown = ctx.grow(augmenter.as_ref(), unit_norm, cfg.seed)?;
-            guard.check(&grown.x, kind)?;
+            let grown = match arm {
+                Arm::Fit(augmenter) => {
+                    let grown = ctx.grow(*augmenter, unit_norm, cfg.seed)?;
+                    guard.check(&grown.x, augmenter.kind())?;
+                    for w in describe_notes(&grown.notes, &ds.classes, augmenter.kind()) {
+                        fold_warnings.add(w, fold);
+                    }
+                    grown
+                }
+                Arm::File(rows) => {
+                    let (grown, file_rows) = rows.for_fold(&train_pos);
+                    guard.check_file(&grown.x, &name, &file_rows)?;
+                    grown
+                }
+            };
             // Planned is not grown: a class whose method could make no row here (one row and
             // a neighbour method) must not be marked as grown.
             grown_anywhere.extend(grown.labels.iter().copied());
-            for w in describe_notes(&grown.notes, &ds.classes, kind) {
-                fold_warnings.add(w, fold);
-            }
             let labels: Vec<u32> = ctx
                 .train
                 .labels
@@ -201,8 +267,7 @@ pub fn assess_with_observed(
                             };
                             fold_warnings.add(
                                 format!(
-                                    "the linear probe did not converge for {} within {} iterations; {advice}",
-                                    kind.name(),
+                                    "the linear probe did not converge for {name} within {} iterations; {advice}",
                                     cfg.linear.max_iter
                                 ),
                                 fold,
@@ -212,30 +277,41 @@ pub fn assess_with_observed(
                         let pred = model.predict(ctx.test.view());
                         let converged = model.converged;
                         work.linear_iterations_total += model.iterations;
-                        if kind == MethodKind::None {
+                        if id.is_baseline() {
                             baseline_linear = Some(model);
                         }
                         (pred, Some(proba), Some(converged))
                     }
                 };
-                records.push(ctx.record(kind, probe, &grown, &pred, proba.as_ref(), converged));
+                records.push(ctx.record(&name, probe, &grown, &pred, proba.as_ref(), converged));
             }
             if let Some(train_rows) = &diagnosed
-                && kind != MethodKind::None
+                && !id.is_baseline()
                 && grown.x.nrows() > 0
             {
-                diagnostics.extend(ctx.diagnostics(kind, &grown, train_rows));
+                diagnostics.extend(ctx.diagnostics(&name, &grown, train_rows));
             }
-            if fi == 0 && kind != MethodKind::None {
+            if fi == 0 && !id.is_baseline() {
+                // A file's rows need not follow this fold's plan: draw the classes they grew.
+                let classes: Vec<u32> = match arm {
+                    Arm::Fit(_) => ctx.grown.clone(),
+                    Arm::File(_) => grown
+                        .labels
+                        .iter()
+                        .copied()
+                        .collect::<BTreeSet<u32>>()
+                        .into_iter()
+                        .collect(),
+                };
                 scatters.extend(scatter::class_scatters(
-                    &ctx.train, &grown, &ctx.grown, kind,
+                    &ctx.train, &grown, &classes, &name,
                 ));
             }
             done += 1;
         }
     }
     warnings.extend(fold_warnings.finish(folds.len()));
-    let methods: Vec<String> = cfg.methods.iter().map(|m| m.name().to_string()).collect();
+    let methods: Vec<String> = arms.iter().map(|a| a.id().name()).collect();
     let probes: Vec<String> = cfg.probes.iter().map(|p| p.name().to_string()).collect();
     let (summary_rows, per_class, sentences) = {
         let agg = summary::Aggregate::new(
@@ -313,9 +389,18 @@ impl<'a> FoldContext<'a> {
         augment::grow(&self.train, augmenter, &self.plan, unit_norm, seed, &stream)
     }
 
+    /// Each data row's position among this fold's training rows (None for test rows).
+    fn train_positions(&self, n: usize) -> Vec<Option<usize>> {
+        let mut pos = vec![None; n];
+        for (p, &row) in self.fold.train.iter().enumerate() {
+            pos[row] = Some(p);
+        }
+        pos
+    }
+
     fn record(
         &self,
-        kind: MethodKind,
+        method: &str,
         probe: ProbeKind,
         grown: &Grown,
         pred: &[u32],
@@ -346,7 +431,7 @@ impl<'a> FoldContext<'a> {
         FoldRecord {
             repeat: self.fold.repeat,
             fold: self.fold.index,
-            method: kind.name().to_string(),
+            method: method.to_string(),
             probe: probe.name().to_string(),
             train_real: self.train.n_rows(),
             train_synthetic: grown.x.nrows(),
@@ -368,7 +453,7 @@ impl<'a> FoldContext<'a> {
 
     fn diagnostics(
         &self,
-        kind: MethodKind,
+        method: &str,
         grown: &Grown,
         train: &TrainingRows,
     ) -> Vec<DiagnosticRow> {
@@ -382,7 +467,7 @@ impl<'a> FoldContext<'a> {
         );
         rows.into_iter()
             .map(|d| DiagnosticRow {
-                method: kind.name().to_string(),
+                method: method.to_string(),
                 class: self.train.classes[d.class as usize].clone(),
                 synthetic_rows: d.synthetic as f64,
                 intrusion_synthetic: d.intrusion_synthetic,
@@ -415,18 +500,39 @@ impl<'a> LeakGuard<'a> {
         }
     }
 
+    /// The first synthetic row that copies a test row and no training row.
+    fn first_copy(&self, synthetic: &Array2<f32>) -> Option<usize> {
+        synthetic
+            .rows()
+            .into_iter()
+            .position(|row| self.test.contains(row) && !self.train.contains(row))
+    }
+
     fn check(&self, synthetic: &Array2<f32>, kind: MethodKind) -> Result<()> {
-        for (i, row) in synthetic.rows().into_iter().enumerate() {
-            if self.test.contains(row) && !self.train.contains(row) {
-                return Err(Error::data(
-                    format!(
-                        "{kind} produced synthetic row {i} identical to a held-out test row: the augmenter saw test data"
-                    ),
-                    "fit augmenters on the fold's training rows only",
-                ));
-            }
+        match self.first_copy(synthetic) {
+            Some(i) => Err(Error::data(
+                format!(
+                    "{kind} produced synthetic row {i} identical to a held-out test row: the augmenter saw test data"
+                ),
+                "fit augmenters on the fold's training rows only",
+            )),
+            None => Ok(()),
         }
-        Ok(())
+    }
+
+    /// A file's row that copies a test row although its parent and partner are training rows:
+    /// its provenance does not say what it was made from.
+    fn check_file(&self, synthetic: &Array2<f32>, method: &str, file_rows: &[usize]) -> Result<()> {
+        match self.first_copy(synthetic) {
+            Some(i) => Err(Error::data(
+                format!(
+                    "{method}: the file's row {} is identical to a held-out test row, though its parent and partner are training rows of the fold",
+                    file_rows[i]
+                ),
+                "its provenance does not name the rows it was made from; regrow the file with embloom grow",
+            )),
+            None => Ok(()),
+        }
     }
 }
 

@@ -4,7 +4,7 @@
 use ndarray::{Array2, Axis};
 
 use super::results::Scatter;
-use crate::augment::{Grown, MethodKind};
+use crate::augment::Grown;
 use crate::data::Dataset;
 use crate::pca::Pca;
 
@@ -18,7 +18,7 @@ pub fn class_scatters(
     train: &Dataset,
     grown: &Grown,
     classes: &[u32],
-    kind: MethodKind,
+    method: &str,
 ) -> Vec<Scatter> {
     classes
         .iter()
@@ -38,7 +38,7 @@ pub fn class_scatters(
             let synthetic = grown.x.select(Axis(0), &syn_rows);
             let others = nearest_others(train, c, &pca);
             Some(Scatter {
-                method: kind.name().to_string(),
+                method: method.to_string(),
                 class: train.classes[c as usize].clone(),
                 real: points(&pca, &real),
                 synthetic: points(&pca, &synthetic),

@@ -7,15 +7,17 @@ use clap::Args;
 use super::args::{InputArgs, MethodArgs, parse_method, parse_size};
 use super::progress::{FoldBar, show_progress};
 use super::protocol::ProtocolArgs;
-use embloom::assess::{AssessConfig, AssessResults, InputInfo, assess_observed};
+use embloom::assess::{AssessConfig, AssessResults, GrownFile, InputInfo, assess_grown_observed};
 use embloom::augment::MethodKind;
 use embloom::error::Result;
-use embloom::io::{self, Loaded, ReadOptions};
+use embloom::io::{self, ReadOptions};
 
 /// Compare methods on k-NN and linear probes under stratified (or grouped, or given) k-fold
 /// cross-validation: each augmenter is fitted on a fold's real training rows only, and
 /// probes are scored on real held-out rows only. Differences against `none` are paired per
-/// fold, with 95% intervals (see --interval).
+/// fold, with 95% intervals (see --interval). A file embloom grew is assessed on its real rows,
+/// and its own synthetic rows are one more method, `<origin> (from file)`: in each fold only
+/// those whose parent and partner are training rows of the fold are used.
 #[derive(Args, Debug)]
 pub struct AssessArgs {
     #[command(flatten)]
@@ -103,27 +105,27 @@ pub fn execute_announced(
         io::output_target::check_dir(dir, opts.force, &inputs)?;
     }
     let mut config = opts.config.clone().validated()?;
-    let (loaded, input) = load(&opts.input, &opts.read)?;
-    let ds = &loaded.dataset;
+    let loaded = load(&opts.input, &opts.read)?;
+    let ds = &loaded.file.real;
     let clamped = clamp_knn_k(&mut config, ds.n_rows());
-    check_memory(ds, &config, opts)?;
+    check_memory(ds, &config, &loaded.file, opts)?;
     let announced: Vec<String> = thin_class_warning(ds, config.folds).into_iter().collect();
     for w in &announced {
         eprintln!("warning: {w}");
     }
     let bar = FoldBar::new(show_progress);
-    let results = assess_observed(ds, &config, input, &mut |p| bar.update(p));
+    let results = assess_grown_observed(
+        ds,
+        &config,
+        loaded.info.clone(),
+        &loaded.file.methods,
+        &mut |p| bar.update(p),
+    );
     bar.finish();
     let mut results = results?;
     results.command_line = command_line();
-    if let Some(origin) = &loaded.origin {
-        let synthetic = origin.iter().filter(|o| *o != "real").count();
-        if synthetic > 0 {
-            results.warnings.push(format!(
-                "the input is a grown file: its {synthetic} synthetic rows were left out and only its real rows assessed"
-            ));
-        }
-    }
+    results.warnings.extend(loaded.file.left_out.clone());
+    results.warnings.extend(from_file_notes(&loaded.file));
     results.warnings.extend(clamped);
     results.warnings.extend(announced.iter().cloned());
     if loaded.dropped_nonfinite > 0 {
@@ -138,21 +140,56 @@ pub fn execute_announced(
     Ok((results, announced))
 }
 
+/// The input as assess and sweep use it.
+pub struct Input {
+    /// The real rows (the data) and, for a grown file, its synthetic rows by origin.
+    pub file: GrownFile,
+    pub info: InputInfo,
+    pub dropped_nonfinite: usize,
+}
+
 /// Read the input and describe it for the results (path, SHA-256, shape, classes).
 ///
 /// A file embloom grew carries an `origin` per row: only its `real` rows are data, so its
-/// synthetic rows can never be scored as if they were observations.
-pub fn load(path: &Path, read: &ReadOptions) -> Result<(Loaded, InputInfo)> {
-    let mut loaded = io::read(path, read)?;
-    if let Some(origin) = &loaded.origin {
-        let real: Vec<usize> = (0..origin.len()).filter(|&i| origin[i] == "real").collect();
-        if real.len() < origin.len() {
-            loaded.dataset = loaded.dataset.select(&real);
-        }
-    }
-    embloom::neighbors::magnitude::check(path, loaded.dataset.x.view())?;
-    let input = InputInfo::of(path, &loaded.dataset)?;
-    Ok((loaded, input))
+/// synthetic rows can never be scored as if they were observations; they are kept apart
+/// with their provenance, for assess to use as methods of their own.
+pub fn load(path: &Path, read: &ReadOptions) -> Result<Input> {
+    let io::Loaded {
+        dataset,
+        dropped_nonfinite,
+        origin,
+        parent,
+        partner,
+    } = io::read(path, read)?;
+    embloom::neighbors::magnitude::check(path, dataset.x.view())?;
+    let file = GrownFile::split(
+        path,
+        dataset,
+        origin.as_deref(),
+        parent.as_deref(),
+        partner.as_deref(),
+    )?;
+    let info = InputInfo::of(path, &file.real)?;
+    Ok(Input {
+        file,
+        info,
+        dropped_nonfinite,
+    })
+}
+
+/// What the report says about a grown file's rows: each origin is a method of its own, made
+/// before the split, so the in-fold method is the leakage-free comparison.
+fn from_file_notes(file: &GrownFile) -> Vec<String> {
+    file.methods
+        .iter()
+        .map(|m| {
+            format!(
+                "the input is a grown file: its {} synthetic rows are assessed as '{}'; in each fold only those whose parent and partner are training rows are used, but they were made from all real rows before the split (their neighbours were chosen among rows a fold holds out), so an in-fold method is the leakage-free comparison",
+                m.n_rows(),
+                m.id()
+            )
+        })
+        .collect()
 }
 
 /// Clamps the k-NN probe's k to the training rows of a fold (more neighbours than rows is
@@ -197,9 +234,14 @@ pub fn thin_class_warning(ds: &embloom::Dataset, folds: usize) -> Option<String>
 }
 
 /// Refuses before the fold loop when one fold's work would not fit in memory.
-fn check_memory(ds: &embloom::Dataset, config: &AssessConfig, opts: &AssessOptions) -> Result<()> {
+fn check_memory(
+    ds: &embloom::Dataset,
+    config: &AssessConfig,
+    file: &GrownFile,
+    opts: &AssessOptions,
+) -> Result<()> {
     let plan = embloom::augment::plan_for(ds, config.target, config.classes.as_deref())?;
-    let synthetic = if config
+    let fitted = if config
         .methods
         .iter()
         .any(|m| *m != embloom::augment::MethodKind::None)
@@ -208,6 +250,10 @@ fn check_memory(ds: &embloom::Dataset, config: &AssessConfig, opts: &AssessOptio
     } else {
         0
     };
+    // A fold holds one method's rows at a time; the file's rows are held throughout.
+    let from_file: usize = file.methods.iter().map(|m| m.n_rows()).sum();
+    let largest_file = file.methods.iter().map(|m| m.n_rows()).max().unwrap_or(0);
+    let synthetic = fitted.max(largest_file) + from_file;
     let est = embloom::memory::for_assess(
         &opts.input,
         ds.n_rows(),
@@ -217,7 +263,10 @@ fn check_memory(ds: &embloom::Dataset, config: &AssessConfig, opts: &AssessOptio
         config.probes.contains(&embloom::probe::ProbeKind::Linear),
     )
     .with_fold_records(
-        config.repeats.max(1) * config.folds.max(2) * config.methods.len() * config.probes.len(),
+        config.repeats.max(1)
+            * config.folds.max(2)
+            * (config.methods.len() + file.methods.len())
+            * config.probes.len(),
         ds.n_classes(),
     );
     embloom::memory::check(

@@ -31,7 +31,7 @@ impl FoldBar {
         self.0.set_length(p.total as u64);
         self.0.set_position(p.done as u64);
         self.0
-            .set_message(format!("fold {}/{} {}", p.fold, p.folds, p.method.name()));
+            .set_message(format!("fold {}/{} {}", p.fold, p.folds, p.method));
     }
 
     pub fn finish(&self) {

@@ -90,10 +90,11 @@ pub fn execute(opts: &SweepOptions, show_progress: bool) -> Result<SweepResults>
         let inputs = io::output_target::inputs_of(&opts.input, &opts.read);
         io::output_target::check_file(csv, opts.force, &inputs, None)?;
     }
-    let (loaded, input) = load(&opts.input, &opts.read)?;
+    let loaded = load(&opts.input, &opts.read)?;
+    let ds = &loaded.file.real;
     let mut config = opts.config.clone();
-    let clamped = super::assess::clamp_knn_k(&mut config, loaded.dataset.n_rows());
-    let thin = super::assess::thin_class_warning(&loaded.dataset, config.folds);
+    let clamped = super::assess::clamp_knn_k(&mut config, ds.n_rows());
+    let thin = super::assess::thin_class_warning(ds, config.folds);
     if let Some(w) = &thin {
         eprintln!("warning: {w}");
     }
@@ -103,12 +104,12 @@ pub fn execute(opts: &SweepOptions, show_progress: bool) -> Result<SweepResults>
         ProgressBar::hidden()
     };
     let mut results = sweep(
-        &loaded.dataset,
+        ds,
         &config,
         opts.method,
         opts.knob,
         &opts.values,
-        input,
+        loaded.info.clone(),
         |done, value| {
             bar.set_position(done as u64);
             bar.set_message(format!("{} = {value}", opts.knob));
@@ -116,6 +117,8 @@ pub fn execute(opts: &SweepOptions, show_progress: bool) -> Result<SweepResults>
     )?;
     bar.finish_and_clear();
     results.warnings.extend(clamped);
+    results.warnings.extend(loaded.file.left_out.clone());
+    results.warnings.extend(not_swept(&loaded.file));
     if let Some(csv) = &opts.csv {
         let text = embloom::report::sweep_csv(&results);
         write_atomically(csv, opts.force, |tmp| {
@@ -123,4 +126,20 @@ pub fn execute(opts: &SweepOptions, show_progress: bool) -> Result<SweepResults>
         })?;
     }
     Ok(results)
+}
+
+/// A sweep turns a knob of a method it fits in each fold; a grown file's rows were made once,
+/// with one setting, so no knob moves them and they are not part of the sweep. Saying so keeps
+/// a reader from taking the sweep for a comparison with the file's rows.
+fn not_swept(file: &embloom::assess::GrownFile) -> Vec<String> {
+    file.methods
+        .iter()
+        .map(|m| {
+            format!(
+                "the input is a grown file: its {} synthetic rows ('{}') are not part of the sweep (no knob changes them) and only its real rows were swept; `embloom assess` on the file compares them with none",
+                m.n_rows(),
+                m.id()
+            )
+        })
+        .collect()
 }
