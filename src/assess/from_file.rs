@@ -98,6 +98,16 @@ impl FileRows {
         self.x.nrows()
     }
 
+    /// Each row's parent, as a row of the data assessed.
+    pub fn parents(&self) -> &[usize] {
+        &self.parent
+    }
+
+    /// Each row's partner, as a row of the data assessed (None where no neighbour was used).
+    pub fn partners(&self) -> &[Option<usize>] {
+        &self.partner
+    }
+
     /// Refuses rows that do not fit `ds`: another width, an unknown class, or a parent or
     /// partner past its last row.
     pub(super) fn check_against(&self, ds: &Dataset) -> Result<()> {
