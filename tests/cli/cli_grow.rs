@@ -379,7 +379,8 @@ fn synthetic_rows_carry_no_fold_and_no_group() {
 #[test]
 fn assessing_a_grown_file_uses_only_its_real_rows() {
     // Synthetic rows are not observations: a grown file assessed with `--methods none` must
-    // give the baseline of its real rows alone (common practice, no source).
+    // give the baseline of its real rows alone (common practice, no source); its synthetic
+    // rows come back only as a method of their own, never as data.
     let dir = tempdir();
     let input = p(dir.path(), "in.csv");
     write_csv(&input, &[30, 6, 12], 4, 1);
@@ -399,7 +400,7 @@ fn assessing_a_grown_file_uses_only_its_real_rows() {
             &[],
         );
         assert!(o.status.success(), "{}", stderr(&o));
-        let summary = |f: &std::path::Path| {
+        let assessed = |f: &std::path::Path| {
             let o = embloom(
                 &[
                     "assess",
@@ -417,14 +418,26 @@ fn assessing_a_grown_file_uses_only_its_real_rows() {
             );
             assert!(o.status.success(), "{}", stderr(&o));
             let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
-            (v["summary"].clone(), v["warnings"].to_string())
+            let none: Vec<serde_json::Value> = v["summary"]
+                .as_array()
+                .unwrap()
+                .iter()
+                .filter(|r| r["method"] == "none")
+                .cloned()
+                .collect();
+            (none, v["methods"].clone(), v["warnings"].to_string())
         };
-        let (base, _) = summary(&input);
-        let (from_grown, warnings) = summary(&grown);
-        assert!(base.as_array().is_some_and(|a| !a.is_empty()), "{base}");
+        let (base, _, _) = assessed(&input);
+        let (from_grown, methods, warnings) = assessed(&grown);
+        assert!(!base.is_empty());
         assert_eq!(base, from_grown, "{ext}");
+        assert_eq!(
+            methods,
+            serde_json::json!(["none", "interpolate (from file)"]),
+            "{ext}"
+        );
         assert!(
-            warnings.contains("synthetic rows were left out"),
+            warnings.contains("the input is a grown file"),
             "{ext}: {warnings}"
         );
     }
