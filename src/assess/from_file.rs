@@ -244,7 +244,9 @@ impl GrownFile {
                 Error::input_at(
                     path,
                     format!("{key}, row {row}"),
-                    format!("synthetic row {row} names {key} {id}, which is no real row of the file"),
+                    format!(
+                        "synthetic row {row} names {key} {id}, which is no real row of the file"
+                    ),
                     "regrow the file with embloom grow, or remove the row",
                 )
             })

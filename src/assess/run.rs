@@ -303,9 +303,7 @@ fn run(
                         .into_iter()
                         .collect(),
                 };
-                scatters.extend(scatter::class_scatters(
-                    &ctx.train, &grown, &classes, &name,
-                ));
+                scatters.extend(scatter::class_scatters(&ctx.train, &grown, &classes, &name));
             }
             done += 1;
         }
@@ -451,12 +449,7 @@ impl<'a> FoldContext<'a> {
         }
     }
 
-    fn diagnostics(
-        &self,
-        method: &str,
-        grown: &Grown,
-        train: &TrainingRows,
-    ) -> Vec<DiagnosticRow> {
+    fn diagnostics(&self, method: &str, grown: &Grown, train: &TrainingRows) -> Vec<DiagnosticRow> {
         let rows = class_diagnostics(
             train,
             grown.x.view(),

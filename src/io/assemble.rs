@@ -148,11 +148,17 @@ pub fn finish(
             ));
         }
     }
-    let provenance = (origin, parent, partner);
-    let (x, labels, ids, groups, folds, (origin, parent, partner)) = if dropped == 0
-        || keep_nonfinite
-    {
-        (x, labels, ids, groups, folds, provenance)
+    // Rows dropped for NaN/Inf take their provenance with them; the stored indices are kept.
+    let (parent, partner) = if dropped == 0 || keep_nonfinite {
+        (parent, partner)
+    } else {
+        (
+            parent.map(|v| keep(v, &finite)),
+            partner.map(|v| keep(v, &finite)),
+        )
+    };
+    let (x, labels, ids, groups, folds, origin) = if dropped == 0 || keep_nonfinite {
+        (x, labels, ids, groups, folds, origin)
     } else if !drop_nonfinite {
         let first = finite.iter().position(|f| !*f).unwrap_or(0);
         return Err(Error::input_at(
@@ -177,11 +183,7 @@ pub fn finish(
             ids.map(|(k, v)| (k, keep(v, &finite))),
             groups.map(|(k, v)| (k, keep(v, &finite))),
             folds.map(|(k, v)| (k, keep(v, &finite))),
-            (
-                provenance.0.map(|v| keep(v, &finite)),
-                provenance.1.map(|v| keep(v, &finite)),
-                provenance.2.map(|v| keep(v, &finite)),
-            ),
+            origin.map(|v| keep(v, &finite)),
         )
     };
     let (codes, classes) = encode_labels(labels, path, &labels_source)?;

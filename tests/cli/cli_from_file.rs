@@ -137,7 +137,10 @@ fn a_grown_digits_file_adds_its_rows_as_a_method_in_every_output() {
     let from_file = mean(&v, FROM_FILE, "grown_class_recall");
     let in_fold = mean(&v, "interpolate", "grown_class_recall");
     assert!(from_file > 0.05, "delta {from_file}");
-    assert!((from_file - in_fold).abs() < 0.1, "{from_file} vs {in_fold}");
+    assert!(
+        (from_file - in_fold).abs() < 0.1,
+        "{from_file} vs {in_fold}"
+    );
     assert!(mean(&v, "none", "balanced_accuracy") > 0.5);
 }
 
@@ -203,7 +206,9 @@ fn a_synthetic_row_naming_no_real_row_is_refused_with_its_row() {
     assert!(!o.status.success());
     let err = stderr(&o);
     assert!(
-        err.contains("g.csv") && err.contains("parent 9999") && err.contains(&format!("row {}", last - 1)),
+        err.contains("g.csv")
+            && err.contains("parent 9999")
+            && err.contains(&format!("row {}", last - 1)),
         "{err}"
     );
 }

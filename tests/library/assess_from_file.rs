@@ -172,7 +172,10 @@ fn a_row_whose_parent_is_a_test_row_is_left_out_of_that_fold_only() {
     }
     let clean = run(&ds, &cfg, &base);
     let dirty = run(&ds, &cfg, &planted);
-    assert_eq!(fold_records(&clean, &folds[0]), fold_records(&dirty, &folds[0]));
+    assert_eq!(
+        fold_records(&clean, &folds[0]),
+        fold_records(&dirty, &folds[0])
+    );
     for fold in &folds {
         let in_train = |r: usize| !fold.test.contains(&r);
         let used = |rows: &[Row]| {
@@ -226,7 +229,10 @@ fn a_row_whose_partner_is_a_test_row_is_left_out_of_that_fold() {
     }
     let clean = run(&ds, &cfg, &base);
     let dirty = run(&ds, &cfg, &planted);
-    assert_eq!(fold_records(&clean, &folds[0]), fold_records(&dirty, &folds[0]));
+    assert_eq!(
+        fold_records(&clean, &folds[0]),
+        fold_records(&dirty, &folds[0])
+    );
 }
 
 #[test]
@@ -254,10 +260,18 @@ fn a_grown_file_is_split_by_origin_and_its_indices_name_real_rows() {
     let x = Array2::from_shape_fn((7, 2), |(i, j)| (i * 10 + j) as f32);
     let labels = vec![0, 1, 0, 1, 0, 1, 0];
     let ds = Dataset::new(x, labels, vec!["p".into(), "q".into()]);
-    let origin: Vec<String> = ["real", "real", "real", "real", "interpolate", "gaussian-noise", "interpolate"]
-        .iter()
-        .map(|s| s.to_string())
-        .collect();
+    let origin: Vec<String> = [
+        "real",
+        "real",
+        "real",
+        "real",
+        "interpolate",
+        "gaussian-noise",
+        "interpolate",
+    ]
+    .iter()
+    .map(|s| s.to_string())
+    .collect();
     let parent = [0, 2, 3, 4, 2, 4, 0];
     let partner = [-1, -1, -1, -1, 4, -1, 3];
     let file = GrownFile::split(
@@ -270,7 +284,10 @@ fn a_grown_file_is_split_by_origin_and_its_indices_name_real_rows() {
     .unwrap();
     assert_eq!(file.real.n_rows(), 4);
     let names: Vec<String> = file.methods.iter().map(|m| m.id().name()).collect();
-    assert_eq!(names, ["interpolate (from file)", "gaussian-noise (from file)"]);
+    assert_eq!(
+        names,
+        ["interpolate (from file)", "gaussian-noise (from file)"]
+    );
     assert_eq!(file.methods[0].n_rows(), 2);
     // File rows 4 and 6: parents stored as 2 and 0 are kept real rows 1 and 0; partners
     // stored as 4 and 3 are kept real rows 3 and 2.
