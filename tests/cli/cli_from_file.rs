@@ -249,3 +249,79 @@ fn a_sweep_of_a_grown_file_says_its_rows_are_not_swept() {
     // The sweep itself is that of the real rows alone.
     assert_eq!(on_grown["points"], sweep(&input)["points"]);
 }
+
+#[test]
+fn planted_copies_of_held_out_rows_change_nothing() {
+    // The file carries its folds (0 and 1). Planted rows copy each fold-0 row, name it as
+    // parent and a fold-1 row of its class as partner: every fold holds out one of the two,
+    // so no fold may use them, and every figure must equal that of the file without them.
+    let dir = tempdir();
+    let input = p(dir.path(), "in.csv");
+    let mut text = String::from("label,fold,f0,f1,f2\n");
+    for (c, n) in [30usize, 6, 12].into_iter().enumerate() {
+        for i in 0..n {
+            let f: Vec<String> = (0..3)
+                .map(|j| {
+                    let centre = if j == c { 2.0 } else { 0.0 };
+                    (centre + value(c * 100 + i, j, 4)).to_string()
+                })
+                .collect();
+            text += &format!("c{c},{},{}\n", i % 2, f.join(","));
+        }
+    }
+    std::fs::write(&input, text).unwrap();
+    let grown = p(dir.path(), "g.csv");
+    grow(&input, &grown);
+    let text = std::fs::read_to_string(&grown).unwrap();
+    let lines: Vec<&str> = text.lines().collect();
+    let header: Vec<&str> = lines[0].split(',').collect();
+    let col = |name: &str| header.iter().position(|h| *h == name).unwrap();
+    let rows: Vec<Vec<&str>> = lines[1..].iter().map(|l| l.split(',').collect()).collect();
+    let real: Vec<usize> = (0..rows.len())
+        .filter(|&i| rows[i][col("origin")] == "real")
+        .collect();
+    let mut planted = text.clone();
+    let mut count = 0;
+    for &r in real.iter().filter(|&&r| rows[r][col("fold")] == "0") {
+        let same = |q: &usize| rows[*q][col("label")] == rows[r][col("label")];
+        let Some(&q) = real
+            .iter()
+            .find(|&&q| rows[q][col("fold")] == "1" && same(&q))
+        else {
+            continue;
+        };
+        let mut f = rows[r].clone();
+        let (r_s, q_s) = (r.to_string(), q.to_string());
+        f[col("fold")] = "-1";
+        f[col("origin")] = "interpolate";
+        f[col("parent")] = &r_s;
+        f[col("partner")] = &q_s;
+        f[col("weight")] = "0";
+        planted += &(f.join(",") + "\n");
+        count += 1;
+    }
+    assert!(count > 20);
+    let dirty = p(dir.path(), "planted.csv");
+    std::fs::write(&dirty, planted).unwrap();
+    let assess = |f: &Path| {
+        let o = embloom(
+            &[
+                "assess",
+                f.to_str().unwrap(),
+                "--methods",
+                "none,interpolate",
+                "--probes",
+                "knn,linear",
+                "--json",
+            ],
+            &[],
+        );
+        assert!(o.status.success(), "{}", stderr(&o));
+        let v: Value = serde_json::from_str(&stdout(&o)).unwrap();
+        let keep = ["methods", "summary", "per_class", "folds", "diagnostics"];
+        keep.map(|k| v[k].clone())
+    };
+    let clean = assess(&grown);
+    assert!(clean[0].to_string().contains(FROM_FILE));
+    assert_eq!(clean, assess(&dirty));
+}
