@@ -18,6 +18,7 @@ const TRANSFORM_CHUNK: usize = 4096;
 /// A fitted PCA. Variances use the n − 1 denominator (as numpy's `cov` and scikit-learn).
 #[derive(Debug, Clone)]
 pub struct Pca {
+    /// Column means the components were fitted around.
     pub mean: Array1<f64>,
     /// One principal direction per row (unit length), by decreasing variance.
     pub components: Array2<f64>,

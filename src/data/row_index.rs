@@ -14,6 +14,7 @@ pub struct RowIndex<'a> {
 }
 
 impl<'a> RowIndex<'a> {
+    /// Indexes every row of `x` by a fingerprint of its bits (one pass).
     pub fn new(x: ArrayView2<'a, f32>) -> Self {
         let mut by_print: HashMap<u64, Vec<usize>> = HashMap::with_capacity(x.nrows());
         for (i, r) in x.rows().into_iter().enumerate() {

@@ -8,11 +8,14 @@ use super::Dataset;
 /// Rows holding NaN or ±Inf.
 #[derive(Debug, Clone, Serialize, PartialEq)]
 pub struct NonFinite {
+    /// Number of rows holding NaN or ±Inf.
     pub count: usize,
+    /// Index of the first such row, so an error can name it.
     pub first_row: Option<usize>,
 }
 
 impl NonFinite {
+    /// Scans every row of `x` once.
     pub fn of(x: ndarray::ArrayView2<f32>) -> NonFinite {
         let bad: Vec<usize> = x
             .rows()
@@ -35,18 +38,26 @@ pub const UNIT_NORM_TOL: f64 = 1e-3;
 /// Summary statistics of a dataset.
 #[derive(Debug, Clone, Serialize)]
 pub struct DatasetStats {
+    /// Number of rows.
     pub rows: usize,
+    /// Embedding width.
     pub dims: usize,
+    /// Smallest euclidean norm over the finite rows.
     pub norm_min: f64,
+    /// Median euclidean norm over the finite rows.
     pub norm_median: f64,
+    /// Largest euclidean norm over the finite rows.
     pub norm_max: f64,
+    /// Whether every finite row has norm 1 within [`UNIT_NORM_TOL`].
     pub unit_norm: bool,
+    /// Rows holding NaN or ±Inf.
     pub nonfinite: NonFinite,
     /// Rows that repeat an earlier row exactly (bit for bit).
     pub duplicate_rows: usize,
 }
 
 impl DatasetStats {
+    /// Computes every figure in one pass over the rows plus a sort of the norms.
     pub fn of(ds: &Dataset) -> DatasetStats {
         let mut norms: Vec<f64> =
             ds.x.rows()

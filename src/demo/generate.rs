@@ -18,7 +18,9 @@ use crate::seed::{self, Rng};
 /// One invented sign type and how many crops the survey found.
 #[derive(Debug, Clone, Copy)]
 pub struct SignType {
+    /// Display name of the sign type (also its class name).
     pub name: &'static str,
+    /// Number of crops of this type in the invented survey.
     pub crops: usize,
     /// Family: 0 round prohibitive, 1 triangular warning, 2 blue mandatory, 3 octagon/other.
     pub family: usize,

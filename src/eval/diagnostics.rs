@@ -17,6 +17,7 @@ pub const PRDC_K: usize = 5;
 /// Diagnostics of one class in one fold. NaN marks a figure the fold's rows cannot support.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct ClassDiagnostics {
+    /// Class index into the dataset's classes.
     pub class: u32,
     /// Synthetic rows of the class.
     pub synthetic: usize,
@@ -35,8 +36,11 @@ pub struct ClassDiagnostics {
     /// (Naeem et al. 2020, "Reliable Fidelity and Diversity Metrics for Generative Models",
     /// eqs. 3–6), with k = [`ClassDiagnostics::prdc_k`].
     pub precision: f64,
+    /// PRDC recall (see `precision`).
     pub recall: f64,
+    /// PRDC density (see `precision`).
     pub density: f64,
+    /// PRDC coverage (see `precision`).
     pub coverage: f64,
     /// The k used for PRDC: min(5, real − 1, fake − 1); 0 when either set has under two rows,
     /// and then the four PRDC figures are NaN.
@@ -170,10 +174,15 @@ pub fn ratio_distance_name(metric: Metric) -> &'static str {
 /// Precision, recall, density and coverage of `fake` against `real` (Naeem et al. 2020).
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Prdc {
+    /// Share of fake rows inside some real row's k-NN ball.
     pub precision: f64,
+    /// Share of real rows inside some fake row's k-NN ball.
     pub recall: f64,
+    /// Mean number of real k-NN balls holding a fake row, over k.
     pub density: f64,
+    /// Share of real rows whose own k-NN ball holds a fake row.
     pub coverage: f64,
+    /// The neighbourhood size actually used.
     pub k: usize,
 }
 

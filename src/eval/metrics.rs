@@ -21,6 +21,7 @@ pub struct ClassScores {
 /// Scores of one prediction set.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Scores {
+    /// Share of rows predicted right.
     pub accuracy: f64,
     /// Mean recall over the classes present in `y_true` (scikit-learn's
     /// `balanced_accuracy_score`, which drops classes without support).

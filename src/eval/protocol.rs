@@ -27,9 +27,13 @@ pub enum SplitKind {
 /// One train/test split. `train` and `test` are sorted row indices into the dataset.
 #[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
 pub struct Fold {
+    /// Which repeat of the fold scheme (0-based).
     pub repeat: usize,
+    /// Position of the fold within its repeat (0-based).
     pub index: usize,
+    /// Training rows, sorted.
     pub train: Vec<usize>,
+    /// Test rows, sorted.
     pub test: Vec<usize>,
 }
 

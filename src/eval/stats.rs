@@ -13,8 +13,11 @@ use serde::{Deserialize, Serialize};
 /// A mean difference with its two-sided confidence interval and p-value.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 pub struct Interval {
+    /// Mean of the paired differences.
     pub mean: f64,
+    /// Lower bound of the interval.
     pub low: f64,
+    /// Upper bound of the interval.
     pub high: f64,
     /// Two-sided p-value of "mean difference = 0".
     pub p_value: f64,

@@ -34,12 +34,16 @@ pub enum Metric {
 /// broken by lower base index.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Knn {
+    /// Neighbours per query row.
     pub k: usize,
+    /// Base-row index of each neighbour, `n_queries × k`.
     pub indices: Vec<u32>,
+    /// Distance of each neighbour, in the metric the search used.
     pub distances: Vec<f32>,
 }
 
 impl Knn {
+    /// Number of query rows (0 when `k` is 0).
     pub fn n_queries(&self) -> usize {
         self.indices.len().checked_div(self.k).unwrap_or(0)
     }

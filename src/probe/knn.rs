@@ -88,6 +88,7 @@ impl KnnProbe {
         Ok(KnnProbe { params })
     }
 
+    /// The validated parameters.
     pub fn params(&self) -> &KnnParams {
         &self.params
     }

@@ -128,6 +128,7 @@ impl LinearProbe {
         Ok(LinearProbe { params })
     }
 
+    /// The validated parameters.
     pub fn params(&self) -> &LinearParams {
         &self.params
     }

@@ -46,10 +46,12 @@ impl LinearModel {
         self.scale.view()
     }
 
+    /// Number of classes (rows of the weight matrix).
     pub fn n_classes(&self) -> usize {
         self.weights.nrows()
     }
 
+    /// Embedding width (columns of the weight matrix).
     pub fn dims(&self) -> usize {
         self.weights.ncols()
     }

@@ -8,12 +8,16 @@ use super::{PairedFold, TestOutcome, mean};
 /// Per-class counts of one prediction set: true positives, true rows, predicted rows.
 #[derive(Debug, Clone, PartialEq)]
 pub struct ClassCounts {
+    /// True positives per class.
     pub tp: Vec<f64>,
+    /// Rows whose true class is this class.
     pub truth: Vec<f64>,
+    /// Rows predicted as this class.
     pub predicted: Vec<f64>,
 }
 
 impl ClassCounts {
+    /// All-zero counts, to be added to fold by fold.
     pub fn zeros(n_classes: usize) -> Self {
         ClassCounts {
             tp: vec![0.0; n_classes],
@@ -41,6 +45,7 @@ impl ClassCounts {
         }
     }
 
+    /// The counts of one prediction set, every row weighted 1.
     pub fn of(o: &TestOutcome, n_classes: usize) -> Self {
         let mut c = ClassCounts::zeros(n_classes);
         c.add(o, |_| 1.0);
@@ -52,12 +57,17 @@ impl ClassCounts {
 /// balanced accuracy over classes with true rows; macro-F1 over classes true or predicted).
 #[derive(Debug, Clone, PartialEq)]
 pub enum PooledMetric {
+    /// Share of rows predicted right.
     Accuracy,
+    /// Mean recall over the classes with true rows.
     BalancedAccuracy,
+    /// Mean F1 over the classes true or predicted.
     MacroF1,
     /// Mean recall over these classes (those with true rows).
     Recall(Vec<u32>),
+    /// Precision of one class.
     Precision(u32),
+    /// F1 of one class.
     F1(u32),
 }
 
@@ -151,8 +161,11 @@ impl PooledMetric {
 /// difference, each averaged over the repeats where it is defined.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Pooled {
+    /// The method's score.
     pub method: f64,
+    /// The baseline's score.
     pub baseline: f64,
+    /// Method minus baseline, averaged over the repeats where both are defined.
     pub delta: f64,
 }
 

@@ -53,6 +53,7 @@ pub enum IntervalKind {
 }
 
 impl IntervalKind {
+    /// Every kind, in the order `--help` lists them.
     pub const ALL: [IntervalKind; 4] = [
         IntervalKind::CorrectedT,
         IntervalKind::CvClt,
@@ -96,10 +97,13 @@ pub struct TestOutcome {
 /// One fold's test rows under the method and under the baseline (same rows, same order).
 #[derive(Debug, Clone, Copy)]
 pub struct PairedFold<'a> {
+    /// Which repeat of the fold scheme the fold belongs to.
     pub repeat: usize,
     /// Real training rows of the fold (for the corrected t's n_test/n_train).
     pub train_rows: usize,
+    /// Predictions of the probe trained with the method's rows.
     pub method: &'a TestOutcome,
+    /// Predictions of the probe trained on the real rows alone.
     pub baseline: &'a TestOutcome,
 }
 
@@ -108,11 +112,20 @@ pub struct PairedFold<'a> {
 #[serde(tag = "reason", rename_all = "kebab-case")]
 pub enum NoInterval {
     /// Fewer than two folds had a value.
-    TooFewFolds { folds: usize },
+    TooFewFolds {
+        /// How many folds had one.
+        folds: usize,
+    },
     /// Every fold (or every resample) moved by exactly the same amount: no spread to measure.
-    NoVariation { folds: usize },
+    NoVariation {
+        /// How many folds had a value.
+        folds: usize,
+    },
     /// The classes the figure rests on have too few test rows per fold.
-    FewTestRows { per_fold: f64 },
+    FewTestRows {
+        /// Mean test rows per fold of those classes.
+        per_fold: f64,
+    },
 }
 
 impl std::fmt::Display for NoInterval {
@@ -151,7 +164,9 @@ pub struct PairedEstimate {
     pub delta: f64,
     /// Bounds and two-sided p-value of "difference = 0"; NaN when there is no interval.
     pub low: f64,
+    /// Upper bound (see `low`).
     pub high: f64,
+    /// Two-sided p-value (see `low`).
     pub p_value: f64,
     /// Folds in which the figure had a value for both method and baseline.
     pub folds: usize,
