@@ -92,8 +92,8 @@ pub fn execute(opts: &SweepOptions, show_progress: bool) -> Result<SweepResults>
     }
     let (loaded, input) = load(&opts.input, &opts.read)?;
     let mut config = opts.config.clone();
+    let thin = super::assess::thin_class_check(&loaded.dataset, config.folds, &opts.input)?;
     let clamped = super::assess::clamp_knn_k(&mut config, loaded.dataset.n_rows());
-    let thin = super::assess::thin_class_warning(&loaded.dataset, config.folds);
     if let Some(w) = &thin {
         eprintln!("warning: {w}");
     }

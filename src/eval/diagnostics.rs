@@ -94,12 +94,17 @@ pub fn class_diagnostics(
         Some((*idx.first()? as usize, f64::from(*dist.first()?)))
     };
 
+    // Rows of each asked-for class, in one pass per side: scanning every row once per class
+    // made many grown classes cost classes × rows.
+    let synth_by = rows_by_class(&synth_y[..n_synth], classes);
+    let train_by = rows_by_class(&train_y[..n_train], classes);
+    let test_by = rows_by_class(&test_y[..n_test], classes);
+
     classes
         .iter()
-        .map(|&c| {
-            let synth_rows = rows_of(&synth_y[..n_synth], c);
-            let train_rows = rows_of(&train_y[..n_train], c);
-            let test_rows = rows_of(&test_y[..n_test], c);
+        .enumerate()
+        .map(|(ci, &c)| {
+            let (synth_rows, train_rows, test_rows) = (&synth_by[ci], &train_by[ci], &test_by[ci]);
 
             let synth_near: Vec<(usize, f64)> = synth_rows
                 .iter()
@@ -129,8 +134,8 @@ pub fn class_diagnostics(
             );
 
             let prdc = prdc(
-                test_x.select(Axis(0), &test_rows).view(),
-                synth_x.select(Axis(0), &synth_rows).view(),
+                test_x.select(Axis(0), test_rows).view(),
+                synth_x.select(Axis(0), synth_rows).view(),
                 metric,
             );
             ClassDiagnostics {
@@ -241,13 +246,22 @@ pub fn prdc(real: ArrayView2<f32>, fake: ArrayView2<f32>, metric: Metric) -> Prd
     }
 }
 
-fn rows_of(labels: &[u32], c: u32) -> Vec<usize> {
-    labels
-        .iter()
-        .enumerate()
-        .filter(|&(_, &l)| l == c)
-        .map(|(i, _)| i)
-        .collect()
+/// For each of `classes` (by position; a class asked twice gets its rows twice), the indices
+/// of its rows in `labels`, in row order.
+fn rows_by_class(labels: &[u32], classes: &[u32]) -> Vec<Vec<usize>> {
+    let mut slot: std::collections::HashMap<u32, Vec<usize>> = std::collections::HashMap::new();
+    for (ci, &c) in classes.iter().enumerate() {
+        slot.entry(c).or_default().push(ci);
+    }
+    let mut out = vec![Vec::new(); classes.len()];
+    for (i, l) in labels.iter().enumerate() {
+        if let Some(positions) = slot.get(l) {
+            for &ci in positions {
+                out[ci].push(i);
+            }
+        }
+    }
+    out
 }
 
 fn share(count: usize, of: usize) -> f64 {
