@@ -223,8 +223,9 @@ pub fn thin_class_check(
         )));
     }
     // The largest fold count (below the asked one) that leaves at most half the classes thin.
-    let passing =
-        (2..folds).rev().find(|&f| 2 * embloom::eval::thin_classes(ds, f).len() <= present);
+    let passing = (2..folds)
+        .rev()
+        .find(|&f| 2 * embloom::eval::thin_classes(ds, f).len() <= present);
     let folds_fix = match passing {
         Some(f) => format!("use fewer folds (--folds {f} passes), or "),
         None => "even --folds 2 leaves most of them thinner than the folds: ".to_string(),

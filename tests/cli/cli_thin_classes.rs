@@ -42,7 +42,10 @@ fn most_classes_thinner_than_the_folds_are_refused_before_any_work() {
     );
     assert!(err.contains("refused before any work"), "{err}");
     assert!(err.contains("even --folds 2 leaves most of them"), "{err}");
-    assert!(err.contains("merge or drop the classes with fewer than 5 rows"), "{err}");
+    assert!(
+        err.contains("merge or drop the classes with fewer than 5 rows"),
+        "{err}"
+    );
     assert!(!report.exists(), "no report folder after a refusal");
     assert!(stdout(&o).is_empty(), "{}", stdout(&o));
 }
@@ -57,7 +60,10 @@ fn the_refusal_names_a_fold_count_that_would_pass() {
     let o = assess(&input, &report, "5");
     let err = stderr(&o);
     assert!(!o.status.success(), "{err}");
-    assert!(err.contains("3 of 5 classes have fewer rows than the 5 folds"), "{err}");
+    assert!(
+        err.contains("3 of 5 classes have fewer rows than the 5 folds"),
+        "{err}"
+    );
     assert!(err.contains("--folds 2 passes"), "{err}");
     assert!(!report.exists());
     // The suggested fold count does pass, with no thin-class warning at all.
@@ -88,9 +94,10 @@ fn some_thin_classes_are_a_warning_and_the_work_goes_on() {
             .unwrap();
     let warnings = results["warnings"].as_array().unwrap();
     assert!(
-        warnings
-            .iter()
-            .any(|w| w.as_str().unwrap().contains("2 of 5 classes have fewer rows")),
+        warnings.iter().any(|w| w
+            .as_str()
+            .unwrap()
+            .contains("2 of 5 classes have fewer rows")),
         "{warnings:?}"
     );
 }
@@ -130,6 +137,9 @@ fn sweep_refuses_most_thin_classes_too() {
     );
     let err = stderr(&o);
     assert!(!o.status.success(), "{err}");
-    assert!(err.contains("4 of 5 classes have fewer rows than the 5 folds"), "{err}");
+    assert!(
+        err.contains("4 of 5 classes have fewer rows than the 5 folds"),
+        "{err}"
+    );
     assert!(err.contains("refused before any work"), "{err}");
 }

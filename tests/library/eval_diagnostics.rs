@@ -192,14 +192,7 @@ fn training_rows_for_some_classes_give_the_same_figures_as_for_all() {
         let run = |t: &TrainingRows| {
             format!(
                 "{:?}",
-                class_diagnostics(
-                    t,
-                    synth_x.view(),
-                    &synth_y,
-                    test_x.view(),
-                    &test_y,
-                    &[1, 2]
-                )
+                class_diagnostics(t, synth_x.view(), &synth_y, test_x.view(), &test_y, &[1, 2])
             )
         };
         assert_eq!(run(&all), run(&some), "{metric:?}");
