@@ -336,12 +336,12 @@ fn scan_row(top: &mut TopK, products: &[f32], b0: usize, base: &Prepared<'_>, me
             let sq = &base.sq_norms_f32[b0..b0 + products.len()];
             let mut j0 = b0;
             for (pc, sc) in products.chunks(SCAN_CHUNK).zip(sq.chunks(SCAN_CHUNK)) {
-                // `!(s >= thr)`: below the threshold, or NaN (TopK ranks NaN last, and
-                // admits it so the list always fills).
-                let any = pc
-                    .iter()
-                    .zip(sc)
-                    .fold(false, |acc, (&g, &n2)| acc | !(n2 - 2.0 * g >= thr));
+                // Below the threshold, or NaN (TopK ranks NaN last, and admits it so the
+                // list always fills); `|` rather than `||` keeps the test branch-free.
+                let any = pc.iter().zip(sc).fold(false, |acc, (&g, &n2)| {
+                    let s = n2 - 2.0 * g;
+                    acc | (s < thr) | s.is_nan()
+                });
                 if any {
                     for (j, (&g, &n2)) in pc.iter().zip(sc).enumerate() {
                         let s = n2 - 2.0 * g;
@@ -357,7 +357,9 @@ fn scan_row(top: &mut TopK, products: &[f32], b0: usize, base: &Prepared<'_>, me
         Metric::Cosine => {
             let mut j0 = b0;
             for pc in products.chunks(SCAN_CHUNK) {
-                let any = pc.iter().fold(false, |acc, &g| acc | !(-g >= thr));
+                let any = pc
+                    .iter()
+                    .fold(false, |acc, &g| acc | (-g < thr) | g.is_nan());
                 if any {
                     for (j, &g) in pc.iter().enumerate() {
                         let s = -g;
