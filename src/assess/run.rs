@@ -180,9 +180,15 @@ fn run(
             neighbors::knn(ctx.test.view(), ctx.train.view(), cfg.knn.k, cfg.knn.metric)
         });
         let guard = LeakGuard::new(&ctx.train, &ctx.test);
-        let diagnosed = cfg
-            .diagnostics
-            .then(|| TrainingRows::new(ctx.train.view(), &ctx.train.labels, cfg.knn.metric));
+        // Only the grown classes are diagnosed, so only their rows need a nearest neighbour.
+        let diagnosed = (cfg.diagnostics && !ctx.grown.is_empty()).then(|| {
+            TrainingRows::for_classes(
+                ctx.train.view(),
+                &ctx.train.labels,
+                cfg.knn.metric,
+                &ctx.grown,
+            )
+        });
         let mut baseline_linear: Option<LinearModel> = None;
         let train_pos = ctx.train_positions(ds.n_rows());
         for arm in &arms {

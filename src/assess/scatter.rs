@@ -13,29 +13,41 @@ const MAX_POINTS: usize = 300;
 /// Other-class rows shown for context.
 const CONTEXT_ROWS: usize = 60;
 
-/// One scatter per grown class with synthetic rows.
+/// At most this many classes get a scatter per method: each costs a pass over the training
+/// rows (for the context rows), so drawing every one of thousands of grown classes would make
+/// this classes × rows, and a page of thousands of plots is unreadable anyway.
+pub const MAX_CLASSES: usize = 24;
+
+/// One scatter per grown class with synthetic rows (the first [`MAX_CLASSES`] of them).
 pub fn class_scatters(
     train: &Dataset,
     grown: &Grown,
     classes: &[u32],
     method: &str,
 ) -> Vec<Scatter> {
+    // Rows of every class found in one pass per side, not one pass per class.
+    let real_by = train.rows_by_class(classes);
+    let mut syn_by: std::collections::BTreeMap<u32, Vec<usize>> =
+        classes.iter().map(|&c| (c, Vec::new())).collect();
+    for (i, l) in grown.labels.iter().enumerate() {
+        if let Some(v) = syn_by.get_mut(l) {
+            v.push(i);
+        }
+    }
     classes
         .iter()
         .filter_map(|&c| {
-            let real_rows = train.rows_of_class(c);
-            let syn_rows: Vec<usize> = (0..grown.labels.len())
-                .filter(|&i| grown.labels[i] == c)
-                .collect();
+            let real_rows = &real_by[&c];
+            let syn_rows = &syn_by[&c];
             if real_rows.len() < 3 || syn_rows.is_empty() {
                 return None;
             }
-            let real = train.x.select(Axis(0), &real_rows);
+            let real = train.x.select(Axis(0), real_rows);
             let pca = Pca::fit(real.view()).ok()?;
             if pca.components.nrows() < 2 {
                 return None;
             }
-            let synthetic = grown.x.select(Axis(0), &syn_rows);
+            let synthetic = grown.x.select(Axis(0), syn_rows);
             let others = nearest_others(train, c, &pca);
             Some(Scatter {
                 method: method.to_string(),
@@ -45,6 +57,7 @@ pub fn class_scatters(
                 others: points(&pca, &others),
             })
         })
+        .take(MAX_CLASSES)
         .collect()
 }
 

@@ -97,13 +97,19 @@ impl<'a> Aggregate<'a> {
                 interval::paired(kind, &folds, &metrics, classes.len(), LEVEL, stream_seed);
             // The corrected t is a fold-level method: its level column is the fold average,
             // so that level − baseline level equals the printed difference.
+            // Each fold's counts are made once, not once per metric: there are 3 metrics per
+            // class, so recounting made this classes × (classes + rows).
             let values = if kind == IntervalKind::CorrectedT {
+                let counts: Vec<ClassCounts> = folds
+                    .iter()
+                    .map(|f| ClassCounts::of(f.method, classes.len()))
+                    .collect();
                 metrics
                     .iter()
                     .map(|metric| {
-                        let v: Vec<f64> = folds
+                        let v: Vec<f64> = counts
                             .iter()
-                            .map(|f| metric.value(&ClassCounts::of(f.method, classes.len())))
+                            .map(|c| metric.value(c))
                             .filter(|v| v.is_finite())
                             .collect();
                         mean(&v)
@@ -467,10 +473,17 @@ pub fn average_diagnostics(rows: &[DiagnosticRow]) -> Vec<DiagnosticRow> {
 /// records, re-summarised (what a comparison of interval methods needs, without refitting).
 pub fn summary_with(results: &AssessResults, kind: IntervalKind) -> Vec<SummaryRow> {
     let classes = &results.input.classes;
+    // Reversed, so that a repeated name keeps its first index, as a linear search would.
+    let index: BTreeMap<&str, u32> = classes
+        .iter()
+        .enumerate()
+        .rev()
+        .map(|(i, c)| (c.as_str(), i as u32))
+        .collect();
     let grown: BTreeSet<u32> = results
         .grown_classes
         .iter()
-        .filter_map(|g| classes.iter().position(|c| c == g).map(|c| c as u32))
+        .filter_map(|g| index.get(g.as_str()).copied())
         .collect();
     Aggregate::new(
         &results.folds,

@@ -76,6 +76,9 @@ impl Plan {
     pub fn new(counts: &[usize], target: Target, only: Option<&[u32]>) -> Plan {
         let mut sorted: Vec<usize> = counts.iter().copied().filter(|&c| c > 0).collect();
         sorted.sort_unstable();
+        // A set, so that picking many classes costs classes · log(picked), not classes × picked.
+        let only: Option<std::collections::BTreeSet<u32>> =
+            only.map(|o| o.iter().copied().collect());
         let goal = |own: usize| -> usize {
             match target {
                 Target::Largest => sorted.last().copied().unwrap_or(0),
@@ -88,7 +91,7 @@ impl Plan {
             .iter()
             .enumerate()
             .map(|(c, &own)| {
-                let chosen = only.is_none_or(|o| o.contains(&(c as u32)));
+                let chosen = only.as_ref().is_none_or(|o| o.contains(&(c as u32)));
                 if chosen && own > 0 {
                     goal(own).saturating_sub(own)
                 } else {

@@ -93,8 +93,8 @@ pub fn execute(opts: &SweepOptions, show_progress: bool) -> Result<SweepResults>
     let loaded = load(&opts.input, &opts.read)?;
     let ds = &loaded.file.real;
     let mut config = opts.config.clone();
+    let thin = super::assess::thin_class_check(ds, config.folds, &opts.input)?;
     let clamped = super::assess::clamp_knn_k(&mut config, ds.n_rows());
-    let thin = super::assess::thin_class_warning(ds, config.folds);
     if let Some(w) = &thin {
         eprintln!("warning: {w}");
     }

@@ -53,18 +53,73 @@ pub struct TrainingRows<'a> {
     x: ArrayView2<'a, f32>,
     y: &'a [u32],
     pub(crate) metric: Metric,
-    nearest: Option<Knn>,
+    /// Per training row, its nearest other training row and the distance; `None` for rows
+    /// of classes not asked for (and when there is no other row).
+    nearest: Vec<Option<(usize, f64)>>,
 }
 
 impl<'a> TrainingRows<'a> {
     /// Rows of `x` pair with `y` (extra rows on either side are ignored).
     pub fn new(x: ArrayView2<'a, f32>, y: &'a [u32], metric: Metric) -> Self {
+        Self::build(x, y, metric, None)
+    }
+
+    /// [`TrainingRows::new`] with the nearest neighbours found only for the rows of
+    /// `classes`, the only ones [`class_diagnostics`] reads for those classes. A fold grows a
+    /// few classes, so this searches their rows against the base instead of every row: the
+    /// full search is as large as the k-NN probe's own.
+    pub fn for_classes(
+        x: ArrayView2<'a, f32>,
+        y: &'a [u32],
+        metric: Metric,
+        classes: &[u32],
+    ) -> Self {
+        Self::build(x, y, metric, Some(classes))
+    }
+
+    fn build(
+        x: ArrayView2<'a, f32>,
+        y: &'a [u32],
+        metric: Metric,
+        classes: Option<&[u32]>,
+    ) -> Self {
         let n = x.nrows().min(y.len());
         let x = x.slice_move(ndarray::s![..n, ..]);
-        let nearest = (n > 1).then(|| knn_within(x, 1, metric));
+        let y = &y[..n];
+        let rows: Vec<usize> = match classes {
+            None => (0..n).collect(),
+            Some(c) => {
+                let wanted: std::collections::BTreeSet<u32> = c.iter().copied().collect();
+                (0..n).filter(|&i| wanted.contains(&y[i])).collect()
+            }
+        };
+        let mut nearest = vec![None; n];
+        if n > 1 && rows.len() == n {
+            let nn = knn_within(x, 1, metric);
+            for (i, slot) in nearest.iter_mut().enumerate() {
+                let (idx, dist) = nn.row(i);
+                *slot = idx
+                    .first()
+                    .zip(dist.first())
+                    .map(|(&j, &d)| (j as usize, f64::from(d)));
+            }
+        } else if n > 1 && !rows.is_empty() {
+            // Each row's two nearest rows of the whole set, itself among them unless two
+            // exact copies with lower indices come first: the first that is not the row
+            // itself is what `knn_within` gives (same exact keys, same tie order).
+            let nn = knn(x.select(Axis(0), &rows).view(), x, 2, metric);
+            for (q, &i) in rows.iter().enumerate() {
+                let (idx, dist) = nn.row(q);
+                nearest[i] = idx
+                    .iter()
+                    .zip(dist)
+                    .find(|&(&j, _)| j as usize != i)
+                    .map(|(&j, &d)| (j as usize, f64::from(d)));
+            }
+        }
         TrainingRows {
             x,
-            y: &y[..n],
+            y,
             metric,
             nearest,
         }
@@ -72,7 +127,8 @@ impl<'a> TrainingRows<'a> {
 }
 
 /// Diagnostics for each class in `classes` (in that order), with the training rows' metric.
-/// Rows of `*_x` pair with `*_y`.
+/// Rows of `*_x` pair with `*_y`. With `train` from [`TrainingRows::for_classes`], `classes`
+/// must be among the classes given there (others get no real-row figures).
 pub fn class_diagnostics(
     train: &TrainingRows,
     synth_x: ArrayView2<f32>,
@@ -91,19 +147,23 @@ pub fn class_diagnostics(
     // Nearest real training row of every synthetic row (one search, shared by all classes);
     // the nearest other real training row of every real row comes with `train`.
     let synth_nn = (n_train > 0).then(|| knn(synth_x, train_x, 1, metric));
-    let real_nn = &train.nearest;
     let nearest = |nn: &Option<Knn>, i: usize| -> Option<(usize, f64)> {
         let nn = nn.as_ref()?;
         let (idx, dist) = nn.row(i);
         Some((*idx.first()? as usize, f64::from(*dist.first()?)))
     };
 
+    // Rows of each asked-for class, in one pass per side: scanning every row once per class
+    // made many grown classes cost classes × rows.
+    let synth_by = rows_by_class(&synth_y[..n_synth], classes);
+    let train_by = rows_by_class(&train_y[..n_train], classes);
+    let test_by = rows_by_class(&test_y[..n_test], classes);
+
     classes
         .iter()
-        .map(|&c| {
-            let synth_rows = rows_of(&synth_y[..n_synth], c);
-            let train_rows = rows_of(&train_y[..n_train], c);
-            let test_rows = rows_of(&test_y[..n_test], c);
+        .enumerate()
+        .map(|(ci, &c)| {
+            let (synth_rows, train_rows, test_rows) = (&synth_by[ci], &train_by[ci], &test_by[ci]);
 
             let synth_near: Vec<(usize, f64)> = synth_rows
                 .iter()
@@ -111,7 +171,7 @@ pub fn class_diagnostics(
                 .collect();
             let real_near: Vec<(usize, f64)> = train_rows
                 .iter()
-                .filter_map(|&i| nearest(real_nn, i))
+                .filter_map(|&i| train.nearest[i])
                 .collect();
             let intrusion = |near: &[(usize, f64)]| {
                 share(
@@ -133,8 +193,8 @@ pub fn class_diagnostics(
             );
 
             let prdc = prdc(
-                test_x.select(Axis(0), &test_rows).view(),
-                synth_x.select(Axis(0), &synth_rows).view(),
+                test_x.select(Axis(0), test_rows).view(),
+                synth_x.select(Axis(0), synth_rows).view(),
                 metric,
             );
             ClassDiagnostics {
@@ -250,13 +310,22 @@ pub fn prdc(real: ArrayView2<f32>, fake: ArrayView2<f32>, metric: Metric) -> Prd
     }
 }
 
-fn rows_of(labels: &[u32], c: u32) -> Vec<usize> {
-    labels
-        .iter()
-        .enumerate()
-        .filter(|&(_, &l)| l == c)
-        .map(|(i, _)| i)
-        .collect()
+/// For each of `classes` (by position; a class asked twice gets its rows twice), the indices
+/// of its rows in `labels`, in row order.
+fn rows_by_class(labels: &[u32], classes: &[u32]) -> Vec<Vec<usize>> {
+    let mut slot: std::collections::HashMap<u32, Vec<usize>> = std::collections::HashMap::new();
+    for (ci, &c) in classes.iter().enumerate() {
+        slot.entry(c).or_default().push(ci);
+    }
+    let mut out = vec![Vec::new(); classes.len()];
+    for (i, l) in labels.iter().enumerate() {
+        if let Some(positions) = slot.get(l) {
+            for &ci in positions {
+                out[ci].push(i);
+            }
+        }
+    }
+    out
 }
 
 fn share(count: usize, of: usize) -> f64 {

@@ -318,29 +318,58 @@ fn fast_pass(
     tops
 }
 
+/// Scores tested together before any is offered one by one (see [`scan_row`]).
+const SCAN_CHUNK: usize = 16;
+
 /// Offers one row of the product block to a query's candidate list.
+///
+/// Once the list is full almost no score beats its threshold, so each chunk of
+/// [`SCAN_CHUNK`] scores is first tested as a whole with a branch-free test the compiler can
+/// vectorise, and only a chunk holding a candidate is walked one score at a time. The
+/// threshold only falls during a walk, so a score the per-score test would admit always
+/// makes its chunk's test true: the candidates offered, and their order, are unchanged.
 #[inline]
 fn scan_row(top: &mut TopK, products: &[f32], b0: usize, base: &Prepared<'_>, metric: Metric) {
     let mut thr = top.threshold();
     match metric {
         Metric::Euclidean => {
             let sq = &base.sq_norms_f32[b0..b0 + products.len()];
-            for (j, (&g, &n2)) in products.iter().zip(sq).enumerate() {
-                let s = n2 - 2.0 * g;
-                // NaN is admitted too (TopK ranks it last), so the list always fills.
-                if s < thr || s.is_nan() {
-                    top.push(s, (b0 + j) as u32);
-                    thr = top.threshold();
+            let mut j0 = b0;
+            for (pc, sc) in products.chunks(SCAN_CHUNK).zip(sq.chunks(SCAN_CHUNK)) {
+                // Below the threshold, or NaN (TopK ranks NaN last, and admits it so the
+                // list always fills); `|` rather than `||` keeps the test branch-free.
+                let any = pc.iter().zip(sc).fold(false, |acc, (&g, &n2)| {
+                    let s = n2 - 2.0 * g;
+                    acc | (s < thr) | s.is_nan()
+                });
+                if any {
+                    for (j, (&g, &n2)) in pc.iter().zip(sc).enumerate() {
+                        let s = n2 - 2.0 * g;
+                        if s < thr || s.is_nan() {
+                            top.push(s, (j0 + j) as u32);
+                            thr = top.threshold();
+                        }
+                    }
                 }
+                j0 += pc.len();
             }
         }
         Metric::Cosine => {
-            for (j, &g) in products.iter().enumerate() {
-                let s = -g;
-                if s < thr || s.is_nan() {
-                    top.push(s, (b0 + j) as u32);
-                    thr = top.threshold();
+            let mut j0 = b0;
+            for pc in products.chunks(SCAN_CHUNK) {
+                let any = pc
+                    .iter()
+                    .fold(false, |acc, &g| acc | (-g < thr) | g.is_nan());
+                if any {
+                    for (j, &g) in pc.iter().enumerate() {
+                        let s = -g;
+                        if s < thr || s.is_nan() {
+                            top.push(s, (j0 + j) as u32);
+                            thr = top.threshold();
+                        }
+                    }
                 }
+                j0 += pc.len();
             }
         }
     }

@@ -168,3 +168,33 @@ fn cosine_distance_ratio_is_taken_in_angles() {
     );
     assert!((got[0].distance_ratio - 0.5).abs() < 1e-3, "{:?}", got[0]);
 }
+
+#[test]
+fn training_rows_for_some_classes_give_the_same_figures_as_for_all() {
+    // Definition, no source: `for_classes` finds each asked-for row's nearest other row by
+    // searching its two nearest and dropping itself; that must equal the all-rows search,
+    // exact copies included (rows 0, 1 and 3 are one point: ties go to the lower index).
+    let train_x = Array2::from_shape_vec(
+        (7, 2),
+        vec![
+            0.0, 0.0, 0.0, 0.0, 1.0, 0.0, 0.0, 0.0, 0.2, 0.1, 3.0, 3.0, 2.9, 3.2,
+        ],
+    )
+    .unwrap();
+    let train_y = vec![0, 1, 0, 1, 1, 2, 2];
+    let synth_x = Array2::from_shape_vec((3, 2), vec![0.1, 0.0, 0.05, 0.05, 3.0, 3.1]).unwrap();
+    let synth_y = vec![1, 1, 2];
+    let test_x = Array2::from_shape_vec((3, 2), vec![0.1, 0.1, 0.0, 0.1, 2.8, 3.0]).unwrap();
+    let test_y = vec![1, 1, 2];
+    for metric in [Metric::Euclidean, Metric::Cosine] {
+        let all = TrainingRows::new(train_x.view(), &train_y, metric);
+        let some = TrainingRows::for_classes(train_x.view(), &train_y, metric, &[1, 2]);
+        let run = |t: &TrainingRows| {
+            format!(
+                "{:?}",
+                class_diagnostics(t, synth_x.view(), &synth_y, test_x.view(), &test_y, &[1, 2])
+            )
+        };
+        assert_eq!(run(&all), run(&some), "{metric:?}");
+    }
+}

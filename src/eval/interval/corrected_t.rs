@@ -13,15 +13,7 @@ pub fn fold_differences(
     metrics: &[PooledMetric],
     n_classes: usize,
 ) -> Vec<Vec<f64>> {
-    let counts: Vec<(ClassCounts, ClassCounts)> = folds
-        .iter()
-        .map(|f| {
-            (
-                ClassCounts::of(f.method, n_classes),
-                ClassCounts::of(f.baseline, n_classes),
-            )
-        })
-        .collect();
+    let counts = fold_counts(folds, n_classes);
     metrics
         .iter()
         .map(|m| {
@@ -30,6 +22,19 @@ pub fn fold_differences(
                 .map(|(a, b)| m.value(a) - m.value(b))
                 .filter(|d| d.is_finite())
                 .collect()
+        })
+        .collect()
+}
+
+/// Method and baseline counts of each fold.
+fn fold_counts(folds: &[PairedFold], n_classes: usize) -> Vec<(ClassCounts, ClassCounts)> {
+    folds
+        .iter()
+        .map(|f| {
+            (
+                ClassCounts::of(f.method, n_classes),
+                ClassCounts::of(f.baseline, n_classes),
+            )
         })
         .collect()
 }
@@ -64,6 +69,8 @@ pub fn within_repeat_variance(
     n_classes: usize,
 ) -> Vec<f64> {
     let repeats = folds.iter().map(|f| f.repeat + 1).max().unwrap_or(0);
+    // Counted once per fold, not per metric (there are three metrics per class).
+    let counts = fold_counts(folds, n_classes);
     metrics
         .iter()
         .map(|m| {
@@ -71,11 +78,9 @@ pub fn within_repeat_variance(
             for r in 0..repeats {
                 let d: Vec<f64> = folds
                     .iter()
-                    .filter(|f| f.repeat == r)
-                    .map(|f| {
-                        m.value(&ClassCounts::of(f.method, n_classes))
-                            - m.value(&ClassCounts::of(f.baseline, n_classes))
-                    })
+                    .zip(&counts)
+                    .filter(|(f, _)| f.repeat == r)
+                    .map(|(_, (a, b))| m.value(a) - m.value(b))
                     .filter(|d| d.is_finite())
                     .collect();
                 if d.len() < 2 {
