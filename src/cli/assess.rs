@@ -124,6 +124,7 @@ pub fn execute_announced(
             ));
         }
     }
+    results.warnings.extend(loaded.notes.iter().cloned());
     results.warnings.extend(clamped);
     results.warnings.extend(announced.iter().cloned());
     if loaded.dropped_nonfinite > 0 {
@@ -144,6 +145,8 @@ pub fn execute_announced(
 /// synthetic rows can never be scored as if they were observations.
 pub fn load(path: &Path, read: &ReadOptions) -> Result<(Loaded, InputInfo)> {
     let mut loaded = io::read(path, read)?;
+    // Assess computes in f32 only; the input's f64 values would be copied into every fold.
+    loaded.dataset.drop_stored_values();
     if let Some(origin) = &loaded.origin {
         let real: Vec<usize> = (0..origin.len()).filter(|&i| origin[i] == "real").collect();
         if real.len() < origin.len() {
@@ -215,6 +218,7 @@ fn check_memory(ds: &embloom::Dataset, config: &AssessConfig, opts: &AssessOptio
         synthetic,
         config.folds,
         config.probes.contains(&embloom::probe::ProbeKind::Linear),
+        ds.float_type,
     )
     .with_fold_records(
         config.repeats.max(1) * config.folds.max(2) * config.methods.len() * config.probes.len(),

@@ -172,6 +172,7 @@ fn check_memory(ds: &embloom::Dataset, plan: &Plan, opts: &GrowOptions) -> Resul
         ds.dims(),
         plan.total(),
         &opts.output,
+        ds.float_type,
     );
     embloom::memory::check(
         &est,
@@ -235,6 +236,11 @@ pub fn execute(opts: &GrowOptions) -> Result<GrowSummary> {
                 after: counts[c] + added[c],
             })
             .collect(),
-        warnings: describe_notes(&grown.notes, &ds.classes, opts.method),
+        warnings: loaded
+            .notes
+            .iter()
+            .cloned()
+            .chain(describe_notes(&grown.notes, &ds.classes, opts.method))
+            .collect(),
     })
 }

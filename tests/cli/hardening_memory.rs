@@ -90,7 +90,8 @@ fn grow_estimate_matches_measured_peak() {
             out.to_str().unwrap(),
             "--quiet",
         ]);
-        let est = embloom::memory::for_grow(&inp, rows, dims, synthetic, &out);
+        let est =
+            embloom::memory::for_grow(&inp, rows, dims, synthetic, &out, embloom::FloatType::F32);
         within_factor(&format!("grow {input} -> {output}"), est.bytes, peak);
     }
 }
@@ -121,7 +122,15 @@ fn assess_estimate_matches_measured_peak() {
         "--no-diagnostics",
         "--quiet",
     ]);
-    let est = embloom::memory::for_assess(&inp, rows, dims, synthetic, 2, true);
+    let est = embloom::memory::for_assess(
+        &inp,
+        rows,
+        dims,
+        synthetic,
+        2,
+        true,
+        embloom::FloatType::F32,
+    );
     within_factor("assess npz", est.bytes, peak);
 }
 
