@@ -6,10 +6,12 @@
 //! | extension | read | write |
 //! |---|---|---|
 //! | `.npy` | embeddings; labels from `labels_file` | refused (one array cannot hold labels and provenance) |
-//! | `.npz` | members by key; `ids`, `groups`, fold carried | uncompressed archive |
-//! | `.csv` / `.tsv` | header row; label, `id`, `group`, fold columns; the rest are features | same layout |
+//! | `.npz` | members by key; `id`, `group` (or the older `ids`, `groups`), fold carried | uncompressed archive, embeddings in the input's float type |
+//! | `.csv` / `.tsv` | header row; label, `id`, `group`, fold columns; the rest are features | same layout, f32 text |
 //! | `.safetensors` | tensors by key | text columns as I64 codes, names in `__metadata__` |
 //! | `.h5` / `.hdf5` | datasets by path (feature `hdf5`) | variable-length UTF-8 strings |
+//!
+//! Every output carries `source_row`, each row's index in the input file.
 
 mod assemble;
 mod atomic;

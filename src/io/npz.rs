@@ -1,5 +1,5 @@
 //! `.npz`: a zip archive of `.npy` members, as `np.savez` (stored) and `np.savez_compressed`
-//! (deflated) write it. Members are picked by key; the optional `ids`, `groups` and fold
+//! (deflated) write it. Members are picked by key; the optional `id`, `group` and fold
 //! members ride along when present.
 
 use std::fs::File;

@@ -248,3 +248,28 @@ fn written_files_read_back_and_check_in_python() {
         String::from_utf8_lossy(&out.stderr)
     );
 }
+
+#[test]
+fn half_types_are_written_as_half_types() {
+    // bf16 and f16 values are exact in f32, so a set that came in as either goes out as it
+    // came (bf16 as f32 in npz and HDF5, which have no bf16 type). The bits are the half
+    // crate's conversion of the f32 values, which are exact here (multiples of 1/4 below 4).
+    // Common practice, no source.
+    use embloom::FloatType;
+    let x = Array2::from_shape_fn((5, 3), |(i, j)| i as f32 * 0.5 - j as f32 * 0.25);
+    let dir = tempfile::tempdir().unwrap();
+    for (float_type, ext, want) in [
+        (FloatType::BF16, "safetensors", FloatType::BF16),
+        (FloatType::F16, "safetensors", FloatType::F16),
+        (FloatType::F16, "npz", FloatType::F16),
+        (FloatType::BF16, "npz", FloatType::F32),
+    ] {
+        let mut d = Dataset::new(x.clone(), vec![0, 1, 0, 0, 1], strs(&["a", "b"]));
+        d.float_type = float_type;
+        let out = dir.path().join(format!("{float_type:?}.{ext}"));
+        write(&out, &with_provenance(d), false).unwrap();
+        let back = read(&out, &ReadOptions::default()).unwrap().dataset;
+        assert_eq!(back.float_type, want, "{}", out.display());
+        assert_eq!(back.x, x, "{}", out.display());
+    }
+}
