@@ -186,6 +186,31 @@ pub trait Keyed {
     fn get_optional(&mut self, key: &str) -> Result<Option<Tensor>>;
 }
 
+/// A role array (`id`, `group`) under its name, or under the plural name embloom once wrote,
+/// with a note: where it was found, its values as text, and whether they were integers.
+fn role_array(
+    src: &mut impl Keyed,
+    path: &Path,
+    key: &str,
+    old: &str,
+    notes: &mut Vec<String>,
+) -> Result<Option<(String, Vec<String>, bool)>> {
+    let (found, tensor) = match src.get_optional(key)? {
+        Some(t) => (key, Some(t)),
+        None => (old, src.get_optional(old)?),
+    };
+    let Some(tensor) = tensor else {
+        return Ok(None);
+    };
+    if found == old {
+        notes.push(format!(
+            "read key '{old}' as the row {key}s; embloom now names it '{key}', as CSV does"
+        ));
+    }
+    let (values, int) = tensor.into_strings(path, found)?;
+    Ok(Some((format!("key '{found}'"), values, int)))
+}
+
 /// The dataset parts of a keyed container: embeddings and labels by the chosen keys, and the
 /// optional `id`, `group` and fold arrays (`ids` and `groups`, the names embloom once wrote,
 /// are read too, with a note).
@@ -201,26 +226,8 @@ pub fn keyed_parts(
         .get(&opts.labels_key)?
         .into_labels(path, &opts.labels_key)?;
     let mut notes = Vec::new();
-    let mut role = |src: &mut dyn FnMut(&str) -> Result<Option<Tensor>>,
-                    key: &'static str,
-                    old: &'static str|
-     -> Result<Option<(String, Vec<String>, bool)>> {
-        let (found, t) = match src(key)? {
-            Some(t) => (key, Some(t)),
-            None => (old, src(old)?),
-        };
-        let Some(t) = t else { return Ok(None) };
-        if found == old {
-            notes.push(format!(
-                "read key '{old}' as the row {key}s; embloom now names it '{key}', as CSV does"
-            ));
-        }
-        let (v, int) = t.into_strings(path, found)?;
-        Ok(Some((format!("key '{found}'"), v, int)))
-    };
-    let mut get = |k: &str| src.get_optional(k);
-    let ids = role(&mut get, "id", "ids")?;
-    let groups = role(&mut get, "group", "groups")?;
+    let ids = role_array(src, path, "id", "ids", &mut notes)?;
+    let groups = role_array(src, path, "group", "groups", &mut notes)?;
     let origin = src
         .get_optional("origin")?
         .map(|t| t.into_strings(path, "origin"))
