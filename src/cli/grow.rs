@@ -195,8 +195,12 @@ pub fn execute(opts: &GrowOptions) -> Result<GrowSummary> {
     let ds = &loaded.dataset;
     embloom::neighbors::magnitude::check(&opts.input, ds.x.view())?;
     let plan = plan_for(ds, opts.target, opts.classes.as_deref())?;
-    let bytes =
-        io::output_target::output_bytes(&opts.output, ds.n_rows() + plan.total(), ds.dims());
+    let bytes = io::output_target::output_bytes(
+        &opts.output,
+        ds.n_rows() + plan.total(),
+        ds.dims(),
+        ds.float_type.bytes(),
+    );
     io::output_target::check_file(&opts.output, opts.force, &inputs, Some(bytes))?;
     check_memory(ds, &plan, opts)?;
     let grown = grow_dataset(
