@@ -284,6 +284,17 @@ mod tests {
         );
         // 4 bytes per value: matrix 1000×100 → 400 000 bytes appears among the parts.
         assert!(est.parts.contains(&("matrix".to_string(), 400_000)));
+        // f64 input keeps its 8-byte values beside the f32 matrix: 1000×100×8 = 800 000.
+        let wide = for_grow(
+            Path::new("a.npz"),
+            1000,
+            100,
+            1000,
+            Path::new("b.npz"),
+            FloatType::F64,
+        );
+        assert!(wide.parts.contains(&("f64 values".to_string(), 800_000)));
+        assert!(wide.bytes > est.bytes);
         let err = check(&est, Some(1 << 20), "grow", "use --classes").unwrap_err();
         let msg = err.to_string();
         assert!(
