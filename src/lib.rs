@@ -71,5 +71,5 @@ pub mod report;
 pub mod rounding;
 pub mod seed;
 
-pub use data::Dataset;
+pub use data::{Dataset, FloatType};
 pub use error::{Error, Result};

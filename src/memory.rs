@@ -8,6 +8,7 @@
 
 use std::path::Path;
 
+use crate::data::FloatType;
 use crate::error::{Error, Result};
 use crate::io::Format;
 
@@ -82,15 +83,29 @@ fn matrix(rows: usize, dims: usize) -> u64 {
     (rows as u64).saturating_mul(dims as u64).saturating_mul(4)
 }
 
-/// Peak while reading `path` into a `rows × dims` matrix: the file image or parsed text, plus
-/// the decoded matrix.
-pub fn for_read(path: &Path, rows: usize, dims: usize) -> Estimate {
+/// The input's own f64 values, kept beside the f32 matrix so real rows are written back
+/// bit-identical; nothing for the other float types (f16 and bf16 are exact in f32).
+fn kept_f64(rows: usize, dims: usize, stored: FloatType) -> u64 {
+    if stored == FloatType::F64 {
+        2 * matrix(rows, dims)
+    } else {
+        0
+    }
+}
+
+/// Peak while reading `path` (embeddings stored as `stored`) into a `rows × dims` matrix: the
+/// file image or parsed text, the decoded matrix, and for f64 input its kept f64 values.
+pub fn for_read(path: &Path, rows: usize, dims: usize, stored: FloatType) -> Estimate {
     let file = std::fs::metadata(path).map(|m| m.len()).unwrap_or(0);
     let x = matrix(rows, dims);
+    let kept = kept_f64(rows, dims, stored);
     let staging = match Format::of(path) {
         Ok(Format::Csv) | Ok(Format::Tsv) => {
             file + (rows as u64 * (dims as u64 + 1)).saturating_mul(CSV_FIELD)
         }
+        // npy and npz decode into their final buffer a chunk at a time, and HDF5 reads into
+        // one: for f64 input that buffer is the kept values themselves.
+        Ok(Format::Npy) | Ok(Format::Npz) | Ok(Format::Hdf5) if kept > 0 => 0,
         // npz members are decompressed into memory; the others are read whole. Either way
         // about one decoded-size image sits beside the matrix.
         Ok(Format::Hdf5) => x,
@@ -100,40 +115,58 @@ pub fn for_read(path: &Path, rows: usize, dims: usize) -> Estimate {
         ("runtime".into(), RUNTIME),
         ("file image".into(), staging),
         ("matrix".into(), x),
+        ("f64 values".into(), kept),
     ])
 }
 
 /// Peak of `grow`: reading, then the matrix, the synthetic rows, the stacked output and the
-/// export image (npz and safetensors build each member in memory; CSV and HDF5 stream).
+/// export image (npz and safetensors build each member in memory; CSV and HDF5 stream). The
+/// export image is in the input's float type; f64 input also keeps its f64 values for the
+/// real rows and a stacked f64 copy of the output.
 pub fn for_grow(
     input: &Path,
     rows: usize,
     dims: usize,
     synthetic: usize,
     output: &Path,
+    stored: FloatType,
 ) -> Estimate {
     let out_rows = rows + synthetic;
-    let image = match Format::of(output) {
-        Ok(Format::Npz) => 2 * matrix(out_rows, dims),
-        Ok(Format::Safetensors) => matrix(out_rows, dims),
+    let format = Format::of(output).ok();
+    // Bytes per value as written: npz and HDF5 write bfloat16 as f32; CSV is text from f32.
+    let written = match (format, stored) {
+        (Some(Format::Npz | Format::Hdf5), FloatType::BF16) => 4,
+        _ => stored.bytes() as u64,
+    };
+    let values = (out_rows as u64)
+        .saturating_mul(dims as u64)
+        .saturating_mul(written);
+    let image = match format {
+        Some(Format::Npz) => 2 * values,
+        Some(Format::Safetensors) => values,
+        // The half-precision copy HDF5 writes from.
+        Some(Format::Hdf5) if stored == FloatType::F16 => values,
         _ => 0,
     };
     let grow = Estimate::of(vec![
         ("runtime".into(), RUNTIME),
         ("matrix".into(), matrix(rows, dims)),
+        ("f64 values".into(), kept_f64(rows, dims, stored)),
         ("synthetic rows".into(), matrix(synthetic, dims)),
         (
             "output set".into(),
-            matrix(out_rows, dims) + out_rows as u64 * ROW_EXTRA,
+            matrix(out_rows, dims) + kept_f64(out_rows, dims, stored) + out_rows as u64 * ROW_EXTRA,
         ),
         ("export image".into(), image),
     ]);
-    for_read(input, rows, dims).max(grow)
+    for_read(input, rows, dims, stored).max(grow)
 }
 
 /// Peak of `assess`: the matrix, one fold's train/test copies, the synthetic rows of the
 /// biggest method in that fold, and the linear probe's standardised copy of the real and
 /// synthetic training rows (it reads the two parts in place, so there is no stacked copy).
+/// The f64 values of an f64 input count while reading only: assess computes in f32 and lets
+/// them go.
 pub fn for_assess(
     input: &Path,
     rows: usize,
@@ -141,6 +174,7 @@ pub fn for_assess(
     synthetic: usize,
     folds: usize,
     linear: bool,
+    stored: FloatType,
 ) -> Estimate {
     let folds = folds.max(2);
     let train = rows - rows / folds;
@@ -153,7 +187,7 @@ pub fn for_assess(
         ("synthetic rows".into(), matrix(syn, dims)),
         ("linear probe".into(), probe),
     ]);
-    for_read(input, rows, dims).max(assess)
+    for_read(input, rows, dims, stored).max(assess)
 }
 
 /// MemAvailable from /proc/meminfo, where there is one.
@@ -240,9 +274,27 @@ mod tests {
         assert_eq!(parse_size("8GiB").unwrap(), 8 << 30);
         assert!(parse_size("lots").is_err());
         assert!(parse_size("-1G").is_err());
-        let est = for_grow(Path::new("a.npz"), 1000, 100, 1000, Path::new("b.npz"));
+        let est = for_grow(
+            Path::new("a.npz"),
+            1000,
+            100,
+            1000,
+            Path::new("b.npz"),
+            FloatType::F32,
+        );
         // 4 bytes per value: matrix 1000×100 → 400 000 bytes appears among the parts.
         assert!(est.parts.contains(&("matrix".to_string(), 400_000)));
+        // f64 input keeps its 8-byte values beside the f32 matrix: 1000×100×8 = 800 000.
+        let wide = for_grow(
+            Path::new("a.npz"),
+            1000,
+            100,
+            1000,
+            Path::new("b.npz"),
+            FloatType::F64,
+        );
+        assert!(wide.parts.contains(&("f64 values".to_string(), 800_000)));
+        assert!(wide.bytes > est.bytes);
         let err = check(&est, Some(1 << 20), "grow", "use --classes").unwrap_err();
         let msg = err.to_string();
         assert!(

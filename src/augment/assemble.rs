@@ -4,7 +4,7 @@
 use ndarray::{Axis, concatenate};
 
 use super::{AugmentParams, Grown, MethodKind, Plan, UnitNorm};
-use crate::data::Dataset;
+use crate::data::{Dataset, FloatType};
 use crate::error::{Error, Result};
 use crate::io::AugmentedSet;
 
@@ -42,19 +42,46 @@ pub fn assemble(ds: &Dataset, grown: &Grown, method: MethodKind) -> Result<Augme
     let mut labels = ds.labels.clone();
     labels.extend_from_slice(&grown.labels);
     // A synthetic row mixes its parent with a partner that may sit in another fold or group,
-    // so it belongs to neither: fold -1 and an empty group.
+    // so it belongs to neither: fold -1 and an empty group (-1 where groups are integers).
     let no_group = |v: &Option<Vec<String>>| {
         v.as_ref().map(|v| {
             let mut out = v.clone();
-            out.extend(std::iter::repeat_n(String::new(), n_syn));
+            let none = if ds.int_groups { "-1" } else { "" };
+            out.extend(std::iter::repeat_n(none.to_string(), n_syn));
             out
         })
     };
+    // Integer ids stay integers: a synthetic row has none, so -1, as for fold and partner.
     let ids = ds.ids.as_ref().map(|ids| {
         let mut out = ids.clone();
-        out.extend((0..n_syn).map(|i| format!("synthetic-{i}")));
+        if ds.int_ids {
+            out.extend(std::iter::repeat_n("-1".to_string(), n_syn));
+        } else {
+            out.extend((0..n_syn).map(|i| format!("synthetic-{i}")));
+        }
         out
     });
+    // Real rows keep the input's own f64 values; synthetic rows, computed in f32, widen
+    // exactly.
+    let x_f64 = (ds.float_type == FloatType::F64).then(|| {
+        let real = ds.x_f64.clone().unwrap_or_else(|| ds.x.mapv(f64::from));
+        let syn = grown.x.mapv(f64::from);
+        concatenate(Axis(0), &[real.view(), syn.view()])
+    });
+    let x_f64 = x_f64.transpose().map_err(|e| {
+        Error::data(
+            format!("cannot stack synthetic rows: {e}"),
+            "report this as a bug",
+        )
+    })?;
+    let real_source = ds.source_rows();
+    let mut source_row = real_source.clone();
+    source_row.extend(
+        grown
+            .provenance
+            .iter()
+            .map(|p| real_source.get(p.parent).copied().unwrap_or(-1)),
+    );
     let folds = ds.folds.as_ref().map(|f| {
         let mut out = f.clone();
         out.extend(std::iter::repeat_n(-1, n_syn));
@@ -67,7 +94,12 @@ pub fn assemble(ds: &Dataset, grown: &Grown, method: MethodKind) -> Result<Augme
         ids,
         groups: no_group(&ds.groups),
         folds,
-        stored_dtype: "f32".into(),
+        stored_dtype: ds.stored_dtype.clone(),
+        float_type: ds.float_type,
+        x_f64,
+        source_row: Some(source_row),
+        int_ids: ds.int_ids,
+        int_groups: ds.int_groups,
     };
     let mut origin = vec!["real".to_string(); n_real];
     origin.extend(std::iter::repeat_n(method.name().to_string(), n_syn));

@@ -127,6 +127,7 @@ pub fn execute_announced(
     results.command_line = command_line();
     results.warnings.extend(loaded.file.left_out.clone());
     results.warnings.extend(from_file_notes(&loaded.file));
+    results.warnings.extend(loaded.notes.iter().cloned());
     results.warnings.extend(clamped);
     results.warnings.extend(announced.iter().cloned());
     if loaded.dropped_nonfinite > 0 {
@@ -147,6 +148,8 @@ pub struct Input {
     pub file: GrownFile,
     pub info: InputInfo,
     pub dropped_nonfinite: usize,
+    /// How the file was read, where a user may want to know (an old key name accepted).
+    pub notes: Vec<String>,
 }
 
 /// Read the input and describe it for the results (path, SHA-256, shape, classes).
@@ -156,12 +159,15 @@ pub struct Input {
 /// with their provenance, for assess to use as methods of their own.
 pub fn load(path: &Path, read: &ReadOptions) -> Result<Input> {
     let io::Loaded {
-        dataset,
+        mut dataset,
         dropped_nonfinite,
         origin,
         parent,
         partner,
+        notes,
     } = io::read(path, read)?;
+    // Assess computes in f32 only; the input's f64 values would be copied into every fold.
+    dataset.drop_stored_values();
     embloom::neighbors::magnitude::check(path, dataset.x.view())?;
     let file = GrownFile::split(
         path,
@@ -175,6 +181,7 @@ pub fn load(path: &Path, read: &ReadOptions) -> Result<Input> {
         file,
         info,
         dropped_nonfinite,
+        notes,
     })
 }
 
@@ -310,6 +317,7 @@ fn check_memory(
         synthetic,
         config.folds,
         config.probes.contains(&embloom::probe::ProbeKind::Linear),
+        ds.float_type,
     )
     .with_fold_records(
         config.repeats.max(1)

@@ -172,6 +172,7 @@ fn check_memory(ds: &embloom::Dataset, plan: &Plan, opts: &GrowOptions) -> Resul
         ds.dims(),
         plan.total(),
         &opts.output,
+        ds.float_type,
     );
     embloom::memory::check(
         &est,
@@ -194,8 +195,12 @@ pub fn execute(opts: &GrowOptions) -> Result<GrowSummary> {
     let ds = &loaded.dataset;
     embloom::neighbors::magnitude::check(&opts.input, ds.x.view())?;
     let plan = plan_for(ds, opts.target, opts.classes.as_deref())?;
-    let bytes =
-        io::output_target::output_bytes(&opts.output, ds.n_rows() + plan.total(), ds.dims());
+    let bytes = io::output_target::output_bytes(
+        &opts.output,
+        ds.n_rows() + plan.total(),
+        ds.dims(),
+        ds.float_type.bytes(),
+    );
     io::output_target::check_file(&opts.output, opts.force, &inputs, Some(bytes))?;
     check_memory(ds, &plan, opts)?;
     let grown = grow_dataset(
@@ -235,6 +240,11 @@ pub fn execute(opts: &GrowOptions) -> Result<GrowSummary> {
                 after: counts[c] + added[c],
             })
             .collect(),
-        warnings: describe_notes(&grown.notes, &ds.classes, opts.method),
+        warnings: loaded
+            .notes
+            .iter()
+            .cloned()
+            .chain(describe_notes(&grown.notes, &ds.classes, opts.method))
+            .collect(),
     })
 }

@@ -202,6 +202,9 @@ pub fn inspect(path: &Path, read: &ReadOptions, json: bool) -> Result<()> {
         report
     } else {
         let loaded = io::read(path, &read)?;
+        for n in &loaded.notes {
+            eprintln!("note: {n}");
+        }
         Inspection::of(path, &loaded.dataset, loaded.origin.as_deref())
     };
     if json {

@@ -13,6 +13,42 @@ pub use stats::{DatasetStats, NonFinite, UNIT_NORM_TOL, is_unit_norm};
 
 use ndarray::{Array2, ArrayView2, Axis};
 
+/// The float type the input stored its embeddings in. Outputs store every row in the same
+/// type, so a file grown from f64 or f16 embeddings keeps its real rows bit for bit.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum FloatType {
+    /// IEEE half precision; every value is exact in f32, so `x` holds the input exactly.
+    F16,
+    /// bfloat16; every value is exact in f32, so `x` holds the input exactly.
+    BF16,
+    #[default]
+    F32,
+    /// Wider than the f32 `x`, so the input's values are kept beside it in `Dataset::x_f64`.
+    F64,
+}
+
+impl FloatType {
+    /// The type of a dtype name as the readers spell it ("f16", "bf16", "f32", "f64"); every
+    /// other name (CSV text, say) counts as f32, which is what the matrix is computed in.
+    pub fn of_dtype(dtype: &str) -> FloatType {
+        match dtype {
+            "f16" => FloatType::F16,
+            "bf16" => FloatType::BF16,
+            "f64" => FloatType::F64,
+            _ => FloatType::F32,
+        }
+    }
+
+    /// Bytes per value as stored.
+    pub fn bytes(self) -> usize {
+        match self {
+            FloatType::F16 | FloatType::BF16 => 2,
+            FloatType::F32 => 4,
+            FloatType::F64 => 8,
+        }
+    }
+}
+
 /// An embedding matrix with one class index per row.
 #[derive(Debug, Clone)]
 pub struct Dataset {
@@ -30,6 +66,18 @@ pub struct Dataset {
     pub folds: Option<Vec<i64>>,
     /// The element type as stored in the file ("f32", "f16", "f64", "i64", ...).
     pub stored_dtype: String,
+    /// The float type outputs store the rows in (the input's).
+    pub float_type: FloatType,
+    /// The input's own values when it stored f64, which `x` only rounds; the writers export
+    /// these for real rows so they come out bit-identical.
+    pub x_f64: Option<Array2<f64>>,
+    /// Each row's index in the file it was read from (rows dropped for NaN/Inf leave gaps);
+    /// `None` means the rows are the file's rows in order.
+    pub source_row: Option<Vec<i64>>,
+    /// The file stored ids as integers: outputs write them back as int64, not text.
+    pub int_ids: bool,
+    /// The file stored groups as integers: outputs write them back as int64, not text.
+    pub int_groups: bool,
 }
 
 impl Dataset {
@@ -44,6 +92,11 @@ impl Dataset {
             groups: None,
             folds: None,
             stored_dtype: "f32".into(),
+            float_type: FloatType::F32,
+            x_f64: None,
+            source_row: None,
+            int_ids: false,
+            int_groups: false,
         }
     }
 
@@ -122,6 +175,29 @@ impl Dataset {
                 .as_ref()
                 .map(|f| rows.iter().map(|&i| f[i]).collect()),
             stored_dtype: self.stored_dtype.clone(),
+            float_type: self.float_type,
+            x_f64: self.x_f64.as_ref().map(|o| o.select(Axis(0), rows)),
+            source_row: Some(
+                rows.iter()
+                    .map(|&i| self.source_row.as_ref().map_or(i as i64, |s| s[i]))
+                    .collect(),
+            ),
+            int_ids: self.int_ids,
+            int_groups: self.int_groups,
         }
+    }
+
+    /// The source row of every row (its index in the input file).
+    pub fn source_rows(&self) -> Vec<i64> {
+        match &self.source_row {
+            Some(s) => s.clone(),
+            None => (0..self.n_rows() as i64).collect(),
+        }
+    }
+
+    /// Forgets the input's f64 values, for work that only computes in f32 (assess) and
+    /// would otherwise copy them into every fold.
+    pub fn drop_stored_values(&mut self) {
+        self.x_f64 = None;
     }
 }

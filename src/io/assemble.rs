@@ -7,7 +7,7 @@ use std::path::Path;
 use ndarray::{Array2, Axis};
 
 use super::Loaded;
-use crate::data::{Dataset, RawLabels, encode_labels};
+use crate::data::{Dataset, FloatType, RawLabels, encode_labels};
 use crate::error::{Error, Result};
 
 /// The decoded pieces of a dataset, before the shared checks.
@@ -30,6 +30,18 @@ pub struct Parts {
     /// [`Loaded::parent`]).
     pub parent: Option<Vec<i64>>,
     pub partner: Option<Vec<i64>>,
+}
+
+/// How a file stored what it holds, beyond the f32 matrix every reader decodes: the input's
+/// own f64 values, its float type, whether ids and groups were integers, and notes on how it
+/// was read. Text tables have none of it (the default: f32, text ids).
+#[derive(Debug, Default)]
+pub struct Stored {
+    pub x_f64: Option<Array2<f64>>,
+    pub float_type: FloatType,
+    pub int_ids: bool,
+    pub int_groups: bool,
+    pub notes: Vec<String>,
 }
 
 fn row_name(lines: &Option<Vec<usize>>, row: usize) -> String {
@@ -59,6 +71,7 @@ fn keep_labels(raw: RawLabels, mask: &[bool]) -> RawLabels {
 pub fn finish(
     path: &Path,
     parts: Parts,
+    stored: Stored,
     drop_nonfinite: bool,
     keep_nonfinite: bool,
 ) -> Result<Loaded> {
@@ -157,46 +170,62 @@ pub fn finish(
             partner.map(|v| keep(v, &finite)),
         )
     };
-    let (x, labels, ids, groups, folds, origin) = if dropped == 0 || keep_nonfinite {
-        (x, labels, ids, groups, folds, origin)
-    } else if !drop_nonfinite {
-        let first = finite.iter().position(|f| !*f).unwrap_or(0);
-        return Err(Error::input_at(
-            path,
-            format!("{x_source}, {}", row_name(&row_lines, first)),
-            format!("{dropped} row(s) hold NaN or infinite values; the first is row {first}"),
-            "fix the embeddings, or pass --drop-nonfinite to skip those rows",
-        ));
-    } else {
-        if dropped == n {
+    let Stored {
+        x_f64,
+        float_type,
+        int_ids,
+        int_groups,
+        notes,
+    } = stored;
+    let (x, x_f64, labels, ids, groups, folds, origin, source_row) =
+        if dropped == 0 || keep_nonfinite {
+            (x, x_f64, labels, ids, groups, folds, origin, None)
+        } else if !drop_nonfinite {
+            let first = finite.iter().position(|f| !*f).unwrap_or(0);
             return Err(Error::input_at(
                 path,
-                x_source,
-                "every row holds NaN or infinite values",
-                "fix the embeddings",
+                format!("{x_source}, {}", row_name(&row_lines, first)),
+                format!("{dropped} row(s) hold NaN or infinite values; the first is row {first}"),
+                "fix the embeddings, or pass --drop-nonfinite to skip those rows",
             ));
-        }
-        let rows: Vec<usize> = (0..n).filter(|&i| finite[i]).collect();
-        (
-            x.select(Axis(0), &rows),
-            keep_labels(labels, &finite),
-            ids.map(|(k, v)| (k, keep(v, &finite))),
-            groups.map(|(k, v)| (k, keep(v, &finite))),
-            folds.map(|(k, v)| (k, keep(v, &finite))),
-            origin.map(|v| keep(v, &finite)),
-        )
-    };
+        } else {
+            if dropped == n {
+                return Err(Error::input_at(
+                    path,
+                    x_source,
+                    "every row holds NaN or infinite values",
+                    "fix the embeddings",
+                ));
+            }
+            let rows: Vec<usize> = (0..n).filter(|&i| finite[i]).collect();
+            (
+                x.select(Axis(0), &rows),
+                x_f64.map(|o| o.select(Axis(0), &rows)),
+                keep_labels(labels, &finite),
+                ids.map(|(k, v)| (k, keep(v, &finite))),
+                groups.map(|(k, v)| (k, keep(v, &finite))),
+                folds.map(|(k, v)| (k, keep(v, &finite))),
+                origin.map(|v| keep(v, &finite)),
+                Some(rows.iter().map(|&i| i as i64).collect()),
+            )
+        };
     let (codes, classes) = encode_labels(labels, path, &labels_source)?;
     let mut dataset = Dataset::new(x, codes, classes);
     dataset.ids = ids.map(|(_, v)| v);
     dataset.groups = groups.map(|(_, v)| v);
     dataset.folds = folds.map(|(_, v)| v);
     dataset.stored_dtype = stored_dtype;
+    dataset.float_type = float_type;
+    dataset.x_f64 = x_f64;
+    dataset.source_row = source_row;
+    dataset.int_ids = int_ids && dataset.ids.is_some();
+    dataset.int_groups = int_groups && dataset.groups.is_some();
     Ok(Loaded {
         dataset,
         dropped_nonfinite: dropped,
         origin,
         parent,
         partner,
+        notes,
     })
 }

@@ -203,7 +203,9 @@ pub fn read(path: &Path, sep: char, opts: &ReadOptions) -> Result<Parts> {
             "id" => Role::Id,
             "group" => Role::Group,
             n if n == opts.fold_key => Role::Fold,
-            n if is_export && PROVENANCE.contains(&n) => Role::Provenance,
+            n if is_export && (PROVENANCE.contains(&n) || n == super::export::SOURCE_ROW) => {
+                Role::Provenance
+            }
             _ => Role::Feature,
         })
         .collect();

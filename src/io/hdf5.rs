@@ -12,7 +12,7 @@ use ndarray::{ArrayView1, ArrayView2};
 
 use super::ReadOptions;
 use super::assemble::Parts;
-use super::export::{Column, Export};
+use super::export::{Column, Export, Matrix};
 use super::tensor::{Keyed, Tensor, Values, keyed_parts};
 use crate::error::{Error, Result};
 
@@ -185,7 +185,7 @@ fn tensor(file: &File, path: &Path, key: &str) -> Result<Tensor> {
 }
 
 /// Reads the pieces of a dataset from an HDF5 file.
-pub fn read(path: &Path, opts: &ReadOptions) -> Result<Parts> {
+pub fn read(path: &Path, opts: &ReadOptions) -> Result<(Parts, super::assemble::Stored)> {
     let file = File::open(path).map_err(|e| {
         Error::input(
             path,
@@ -215,8 +215,9 @@ impl Keyed for Opened<'_> {
     }
 }
 
-/// Writes the export: `embeddings` (f32), integer columns (i64), `weight` (f32) and text
-/// columns as variable-length UTF-8 strings.
+/// Writes the export: `embeddings` in the input's float type (bfloat16, which HDF5 has no
+/// standard type for, as f32: exact), integer columns (i64), `weight` (f32) and text columns
+/// as variable-length UTF-8 strings.
 pub fn write(tmp: &Path, export: &Export<'_>) -> Result<()> {
     let e = |err: ::hdf5::Error| {
         Error::output(
@@ -226,11 +227,18 @@ pub fn write(tmp: &Path, export: &Export<'_>) -> Result<()> {
         )
     };
     let file = File::create(tmp).map_err(e)?;
-    let x: ArrayView2<f32> = export.x.view();
-    file.new_dataset_builder()
-        .with_data(x)
-        .create("embeddings")
-        .map_err(e)?;
+    let b = file.new_dataset_builder();
+    match &export.stored {
+        Matrix::F16(x) => b
+            .with_data(x.mapv(half::f16::from_f32).view())
+            .create("embeddings"),
+        Matrix::BF16(x) | Matrix::F32(x) => {
+            let x: ArrayView2<f32> = x.view();
+            b.with_data(x).create("embeddings")
+        }
+        Matrix::F64(x) => b.with_data(x.view()).create("embeddings"),
+    }
+    .map_err(e)?;
     for (key, col) in &export.columns {
         let b = file.new_dataset_builder();
         match col {

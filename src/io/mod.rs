@@ -6,10 +6,12 @@
 //! | extension | read | write |
 //! |---|---|---|
 //! | `.npy` | embeddings; labels from `labels_file` | refused (one array cannot hold labels and provenance) |
-//! | `.npz` | members by key; `ids`, `groups`, fold carried | uncompressed archive |
-//! | `.csv` / `.tsv` | header row; label, `id`, `group`, fold columns; the rest are features | same layout |
+//! | `.npz` | members by key; `id`, `group` (or the older `ids`, `groups`), fold carried | uncompressed archive, embeddings in the input's float type |
+//! | `.csv` / `.tsv` | header row; label, `id`, `group`, fold columns; the rest are features | same layout, f32 text |
 //! | `.safetensors` | tensors by key | text columns as I64 codes, names in `__metadata__` |
 //! | `.h5` / `.hdf5` | datasets by path (feature `hdf5`) | variable-length UTF-8 strings |
+//!
+//! Every output carries `source_row`, each row's index in the input file.
 
 mod assemble;
 mod atomic;
@@ -82,6 +84,9 @@ pub struct Loaded {
     pub parent: Option<Vec<i64>>,
     /// Per-row `partner`, in the same index space as `parent`; −1 where no neighbour was used.
     pub partner: Option<Vec<i64>>,
+    /// How the file was read where a user may want to know (an old key name accepted, say);
+    /// the binary prints them, the library never does.
+    pub notes: Vec<String>,
 }
 
 /// An augmented set ready to export: real rows first, then synthetic rows, with provenance
@@ -170,12 +175,13 @@ fn require_file(path: &Path, what: &str) -> Result<()> {
 /// `inspect` gives); every other command needs labels. Returns the matrix and its dtype.
 pub fn read_unlabelled_npy(path: &Path) -> Result<(ndarray::Array2<f32>, String)> {
     require_file(path, "input file")?;
-    npy::read_file(path, "array")?.into_matrix(path, "array")
+    let m = npy::read_file(path, "array")?.into_matrix(path, "array")?;
+    Ok((m.x, m.dtype))
 }
 
 /// A `.npy` embeddings file plus its separate labels file.
-fn read_npy(path: &Path, opts: &ReadOptions) -> Result<assemble::Parts> {
-    let (x, stored_dtype) = npy::read_file(path, "array")?.into_matrix(path, "array")?;
+fn read_npy(path: &Path, opts: &ReadOptions) -> Result<(assemble::Parts, assemble::Stored)> {
+    let m = npy::read_file(path, "array")?.into_matrix(path, "array")?;
     let Some(lp) = opts.labels_file.as_deref() else {
         return Err(Error::input(
             path,
@@ -192,9 +198,14 @@ fn read_npy(path: &Path, opts: &ReadOptions) -> Result<assemble::Parts> {
         ));
     }
     let labels = npy::read_file(lp, "array")?.into_labels(lp, "array")?;
-    Ok(assemble::Parts {
-        x,
-        stored_dtype,
+    let stored = assemble::Stored {
+        x_f64: m.x_f64,
+        float_type: m.float_type,
+        ..Default::default()
+    };
+    let parts = assemble::Parts {
+        x: m.x,
+        stored_dtype: m.dtype,
         x_source: format!("embeddings {}", path.display()),
         labels,
         labels_source: format!("labels file {}", lp.display()),
@@ -205,25 +216,34 @@ fn read_npy(path: &Path, opts: &ReadOptions) -> Result<assemble::Parts> {
         origin: None,
         parent: None,
         partner: None,
-    })
+    };
+    Ok((parts, stored))
 }
 
 /// Read any supported format, chosen by extension.
 pub fn read(path: &Path, opts: &ReadOptions) -> Result<Loaded> {
     let format = Format::of(path)?;
     require_file(path, "input file")?;
-    let parts = match format {
+    // Text tables hold no float type or integer ids beyond what the text says.
+    let text = |parts| (parts, assemble::Stored::default());
+    let (parts, stored) = match format {
         Format::Npy => read_npy(path, opts)?,
         Format::Npz => npz::read(path, opts)?,
-        Format::Csv => csv::read(path, ',', opts)?,
-        Format::Tsv => csv::read(path, '\t', opts)?,
+        Format::Csv => text(csv::read(path, ',', opts)?),
+        Format::Tsv => text(csv::read(path, '\t', opts)?),
         Format::Safetensors => safetensors::read(path, opts)?,
         #[cfg(feature = "hdf5")]
         Format::Hdf5 => hdf5::read(path, opts)?,
         #[cfg(not(feature = "hdf5"))]
         Format::Hdf5 => return Err(no_hdf5(path)),
     };
-    assemble::finish(path, parts, opts.drop_nonfinite, opts.keep_nonfinite)
+    assemble::finish(
+        path,
+        parts,
+        stored,
+        opts.drop_nonfinite,
+        opts.keep_nonfinite,
+    )
 }
 
 /// Runs a stream writer on a buffered file at `tmp`.

@@ -360,7 +360,10 @@ fn to_c_order(values: Values, shape: &[usize]) -> Values {
 
 /// Element payloads embloom writes.
 pub enum Payload<'a> {
+    /// IEEE half bits.
+    F16(&'a [u16]),
     F32(&'a [f32]),
+    F64(&'a [f64]),
     I64(&'a [i64]),
     Text(&'a [String]),
 }
@@ -368,6 +371,14 @@ pub enum Payload<'a> {
 /// A version 1.0 `.npy` image (version 2.0 when the header would not fit 65535 bytes).
 pub fn encode(shape: &[usize], payload: Payload<'_>) -> Vec<u8> {
     let (descr, body): (String, Vec<u8>) = match payload {
+        Payload::F16(v) => (
+            "<f2".into(),
+            v.iter().flat_map(|x| x.to_le_bytes()).collect(),
+        ),
+        Payload::F64(v) => (
+            "<f8".into(),
+            v.iter().flat_map(|x| x.to_le_bytes()).collect(),
+        ),
         Payload::F32(v) => (
             "<f4".into(),
             v.iter().flat_map(|x| x.to_le_bytes()).collect(),

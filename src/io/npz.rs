@@ -1,5 +1,5 @@
 //! `.npz`: a zip archive of `.npy` members, as `np.savez` (stored) and `np.savez_compressed`
-//! (deflated) write it. Members are picked by key; the optional `ids`, `groups` and fold
+//! (deflated) write it. Members are picked by key; the optional `id`, `group` and fold
 //! members ride along when present.
 
 use std::fs::File;
@@ -11,7 +11,7 @@ use zip::write::SimpleFileOptions;
 
 use super::ReadOptions;
 use super::assemble::Parts;
-use super::export::{Column, Export};
+use super::export::{Column, Export, Matrix};
 use super::npy::{self, Payload};
 use super::tensor::{Keyed, Tensor, keyed_parts};
 use crate::error::{Error, Result};
@@ -99,7 +99,7 @@ impl Archive<'_> {
 }
 
 /// Reads the pieces of a dataset from an `.npz` archive.
-pub fn read(path: &Path, opts: &ReadOptions) -> Result<Parts> {
+pub fn read(path: &Path, opts: &ReadOptions) -> Result<(Parts, super::assemble::Stored)> {
     let file = File::open(path).map_err(|e| Error::io(path, e))?;
     let zip = ZipArchive::new(file).map_err(|e| zip_error(path, e))?;
     let keys = zip
@@ -113,18 +113,22 @@ pub fn read(path: &Path, opts: &ReadOptions) -> Result<Parts> {
     keyed_parts(&mut ar, path, opts)
 }
 
-/// Writes an uncompressed archive `np.load` reads: one `.npy` member per column.
+/// Writes an uncompressed archive `np.load` reads: one `.npy` member per column, the
+/// embeddings in the input's float type (bfloat16, which numpy lacks, as float32: exact).
 pub fn write(out: File, export: &Export<'_>) -> std::io::Result<()> {
     let mut zip = zip::ZipWriter::new(std::io::BufWriter::new(out));
     let opts = SimpleFileOptions::default()
         .compression_method(zip::CompressionMethod::Stored)
         .large_file(true);
-    let x = export.x;
-    let flat: Vec<f32> = x.iter().copied().collect();
-    let mut members = vec![(
-        "embeddings".to_string(),
-        npy::encode(&[x.nrows(), x.ncols()], Payload::F32(&flat)),
-    )];
+    let shape = export.stored.shape();
+    let embeddings = match &export.stored {
+        Matrix::F16(x) => npy::encode(&shape, Payload::F16(&Matrix::f16_bits(x))),
+        Matrix::BF16(x) | Matrix::F32(x) => {
+            npy::encode(&shape, Payload::F32(&x.iter().copied().collect::<Vec<_>>()))
+        }
+        Matrix::F64(x) => npy::encode(&shape, Payload::F64(&x.iter().copied().collect::<Vec<_>>())),
+    };
+    let mut members = vec![("embeddings".to_string(), embeddings)];
     for (name, col) in &export.columns {
         let n = col.len();
         let img = match col {

@@ -103,12 +103,12 @@ pub fn inputs_of<'a>(input: &'a Path, read: &'a crate::io::ReadOptions) -> Vec<&
     v
 }
 
-/// A lower bound on the bytes an output of `rows` × `dims` takes on disk: 4 bytes a value in
-/// the binary formats, about 8 characters a value in CSV/TSV.
-pub fn output_bytes(path: &Path, rows: usize, dims: usize) -> u64 {
+/// A lower bound on the bytes an output of `rows` × `dims` takes on disk: the stored type's
+/// bytes a value in the binary formats (`value_bytes`), about 8 characters a value in CSV/TSV.
+pub fn output_bytes(path: &Path, rows: usize, dims: usize, value_bytes: usize) -> u64 {
     let per_value = match path.extension().and_then(|e| e.to_str()) {
         Some("csv") | Some("tsv") => 8,
-        _ => 4,
+        _ => value_bytes as u64,
     };
     (rows as u64)
         .saturating_mul(dims as u64)

@@ -17,7 +17,7 @@ use safetensors::tensor::{Dtype, SafeTensorError, SafeTensors, TensorView};
 
 use super::ReadOptions;
 use super::assemble::Parts;
-use super::export::{Column, Export};
+use super::export::{Column, Export, Matrix};
 use super::tensor::{Keyed, Tensor, Values, keyed_parts};
 use crate::error::{Error, Result};
 
@@ -195,7 +195,7 @@ impl File<'_> {
 }
 
 /// Reads the pieces of a dataset from a `.safetensors` file.
-pub fn read(path: &Path, opts: &ReadOptions) -> Result<Parts> {
+pub fn read(path: &Path, opts: &ReadOptions) -> Result<(Parts, super::assemble::Stored)> {
     let bytes = std::fs::read(path).map_err(|e| Error::io(path, e))?;
     let (_, metadata) = SafeTensors::read_metadata(&bytes).map_err(|e| refused(path, &bytes, e))?;
     let meta = metadata.metadata().clone().unwrap_or_default();
@@ -224,15 +224,21 @@ fn codes(v: &[String]) -> (Vec<i64>, Vec<String>) {
     (codes, names)
 }
 
-/// Writes the export: embeddings F32, integer columns I64, weight F32, text columns as I64
-/// codes with their names in `__metadata__`.
+/// Writes the export: embeddings in the input's float type (F16, BF16, F32 or F64), integer
+/// columns I64, weight F32, text columns as I64 codes with their names in `__metadata__`.
 pub fn write(out: &mut dyn Write, export: &Export<'_>) -> std::io::Result<()> {
-    let x = export.x;
+    let half = |bits: Vec<u16>| bits.iter().flat_map(|v| v.to_le_bytes()).collect();
+    let (dtype, body): (Dtype, Vec<u8>) = match &export.stored {
+        Matrix::F16(x) => (Dtype::F16, half(Matrix::f16_bits(x))),
+        Matrix::BF16(x) => (Dtype::BF16, half(Matrix::bf16_bits(x))),
+        Matrix::F32(x) => (Dtype::F32, x.iter().flat_map(|v| v.to_le_bytes()).collect()),
+        Matrix::F64(x) => (Dtype::F64, x.iter().flat_map(|v| v.to_le_bytes()).collect()),
+    };
     let mut bodies: Vec<(String, Dtype, Vec<usize>, Vec<u8>)> = vec![(
         "embeddings".into(),
-        Dtype::F32,
-        vec![x.nrows(), x.ncols()],
-        x.iter().flat_map(|v| v.to_le_bytes()).collect(),
+        dtype,
+        export.stored.shape().to_vec(),
+        body,
     )];
     let mut meta = HashMap::new();
     meta.insert("format".to_string(), "embloom".to_string());

@@ -6,7 +6,7 @@ use std::path::Path;
 
 use ndarray::Array2;
 
-use crate::data::RawLabels;
+use crate::data::{FloatType, RawLabels};
 use crate::error::{Error, Result};
 
 /// Decoded element values, widened to a few working types.
@@ -17,6 +17,17 @@ pub enum Values {
     F64(Vec<f64>),
     Int(Vec<i64>),
     Text(Vec<String>),
+}
+
+/// An embeddings matrix as decoded: the f32 working copy, and for f64 input the input's own
+/// values, which the f32 copy only rounds.
+#[derive(Debug, Clone)]
+pub struct Matrix {
+    pub x: Array2<f32>,
+    pub x_f64: Option<Array2<f64>>,
+    pub float_type: FloatType,
+    /// The element type as stored ("f16", "f32", ...).
+    pub dtype: String,
 }
 
 /// A decoded array in C (row-major) order.
@@ -35,7 +46,7 @@ impl Tensor {
     }
 
     /// The embeddings matrix. Refuses non-float data and anything that is not 2-D.
-    pub fn into_matrix(self, path: &Path, key: &str) -> Result<(Array2<f32>, String)> {
+    pub fn into_matrix(self, path: &Path, key: &str) -> Result<Matrix> {
         if self.shape.len() != 2 {
             return Err(Error::input_at(
                 path,
@@ -48,9 +59,20 @@ impl Tensor {
             ));
         }
         let (rows, cols) = (self.shape[0], self.shape[1]);
-        let data: Vec<f32> = match self.values {
-            Values::F32(v) => v,
-            Values::F64(v) => v.into_iter().map(|x| x as f32).collect(),
+        let shaped = |e: ndarray::ShapeError| {
+            Error::input_at(
+                path,
+                format!("key '{key}'"),
+                format!("shape and data disagree: {e}"),
+                "rewrite the file",
+            )
+        };
+        let (data, x_f64): (Vec<f32>, _) = match self.values {
+            Values::F32(v) => (v, None),
+            Values::F64(v) => (
+                v.iter().map(|&x| x as f32).collect(),
+                Some(Array2::from_shape_vec((rows, cols), v).map_err(shaped)?),
+            ),
             Values::Int(_) | Values::Text(_) => {
                 return Err(Error::input_at(
                     path,
@@ -63,15 +85,18 @@ impl Tensor {
                 ));
             }
         };
-        let x = Array2::from_shape_vec((rows, cols), data).map_err(|e| {
-            Error::input_at(
-                path,
-                format!("key '{key}'"),
-                format!("shape and data disagree: {e}"),
-                "rewrite the file",
-            )
-        })?;
-        Ok((x, self.dtype))
+        let x = Array2::from_shape_vec((rows, cols), data).map_err(shaped)?;
+        let float_type = if x_f64.is_some() {
+            FloatType::F64
+        } else {
+            FloatType::of_dtype(&self.dtype)
+        };
+        Ok(Matrix {
+            x,
+            x_f64,
+            float_type,
+            dtype: self.dtype,
+        })
     }
 
     /// Checks the array is a column (n or n×1) and returns its length.
@@ -101,12 +126,13 @@ impl Tensor {
         })
     }
 
-    /// A text-like column (ids, groups): integers become their decimal strings.
-    pub fn into_strings(self, path: &Path, key: &str) -> Result<Vec<String>> {
+    /// A text-like column (ids, groups): integers become their decimal strings, and the
+    /// flag says they were integers so an output can store them as integers again.
+    pub fn into_strings(self, path: &Path, key: &str) -> Result<(Vec<String>, bool)> {
         self.column_len(path, key)?;
         match self.values {
-            Values::Int(v) => Ok(v.into_iter().map(|i| i.to_string()).collect()),
-            Values::Text(v) => Ok(v),
+            Values::Int(v) => Ok((v.into_iter().map(|i| i.to_string()).collect(), true)),
+            Values::Text(v) => Ok((v, false)),
             Values::F32(_) | Values::F64(_) => Err(Error::input_at(
                 path,
                 format!("key '{key}'"),
@@ -160,31 +186,53 @@ pub trait Keyed {
     fn get_optional(&mut self, key: &str) -> Result<Option<Tensor>>;
 }
 
+/// A role array (`id`, `group`) under its name, or under the plural name embloom once wrote,
+/// with a note: where it was found, its values as text, and whether they were integers.
+fn role_array(
+    src: &mut impl Keyed,
+    path: &Path,
+    key: &str,
+    old: &str,
+    notes: &mut Vec<String>,
+) -> Result<Option<(String, Vec<String>, bool)>> {
+    let (found, tensor) = match src.get_optional(key)? {
+        Some(t) => (key, Some(t)),
+        None => (old, src.get_optional(old)?),
+    };
+    let Some(tensor) = tensor else {
+        return Ok(None);
+    };
+    if found == old {
+        notes.push(format!(
+            "read key '{old}' as the row {key}s; embloom now names it '{key}', as CSV does"
+        ));
+    }
+    let (values, int) = tensor.into_strings(path, found)?;
+    Ok(Some((format!("key '{found}'"), values, int)))
+}
+
 /// The dataset parts of a keyed container: embeddings and labels by the chosen keys, and the
-/// optional `ids`, `groups` and fold arrays.
+/// optional `id`, `group` and fold arrays (`ids` and `groups`, the names embloom once wrote,
+/// are read too, with a note).
 pub fn keyed_parts(
     src: &mut impl Keyed,
     path: &Path,
     opts: &super::ReadOptions,
-) -> Result<super::assemble::Parts> {
-    let (x, stored_dtype) = src
+) -> Result<(super::assemble::Parts, super::assemble::Stored)> {
+    let matrix = src
         .get(&opts.embeddings_key)?
         .into_matrix(path, &opts.embeddings_key)?;
     let labels = src
         .get(&opts.labels_key)?
         .into_labels(path, &opts.labels_key)?;
-    let ids = src
-        .get_optional("ids")?
-        .map(|t| t.into_strings(path, "ids"))
-        .transpose()?;
-    let groups = src
-        .get_optional("groups")?
-        .map(|t| t.into_strings(path, "groups"))
-        .transpose()?;
+    let mut notes = Vec::new();
+    let ids = role_array(src, path, "id", "ids", &mut notes)?;
+    let groups = role_array(src, path, "group", "groups", &mut notes)?;
     let origin = src
         .get_optional("origin")?
         .map(|t| t.into_strings(path, "origin"))
-        .transpose()?;
+        .transpose()?
+        .map(|(v, _)| v);
     let mut provenance_ints = |key: &str| -> Result<Option<Vec<i64>>> {
         src.get_optional(key)?
             .map(|t| t.into_ints(path, key))
@@ -199,18 +247,26 @@ pub fn keyed_parts(
         .get_optional(&opts.fold_key)?
         .map(|t| t.into_ints(path, &opts.fold_key))
         .transpose()?;
-    Ok(super::assemble::Parts {
-        x,
-        stored_dtype,
+    let stored = super::assemble::Stored {
+        x_f64: matrix.x_f64,
+        float_type: matrix.float_type,
+        int_ids: ids.as_ref().is_some_and(|r| r.2),
+        int_groups: groups.as_ref().is_some_and(|r| r.2),
+        notes,
+    };
+    let parts = super::assemble::Parts {
+        x: matrix.x,
+        stored_dtype: matrix.dtype,
         x_source: format!("key '{}'", opts.embeddings_key),
         labels,
         labels_source: format!("key '{}'", opts.labels_key),
-        ids: ids.map(|v| ("key 'ids'".into(), v)),
-        groups: groups.map(|v| ("key 'groups'".into(), v)),
+        ids: ids.map(|(k, v, _)| (k, v)),
+        groups: groups.map(|(k, v, _)| (k, v)),
         folds: folds.map(|v| (format!("key '{}'", opts.fold_key), v)),
         row_lines: None,
         origin,
         parent,
         partner,
-    })
+    };
+    Ok((parts, stored))
 }

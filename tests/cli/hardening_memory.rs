@@ -12,12 +12,14 @@ use crate::common;
 use std::path::Path;
 use std::process::Command;
 
+use embloom::FloatType;
 use embloom::data::Dataset;
 use embloom::io::{AugmentedSet, write};
 use ndarray::Array2;
 
-/// Imbalanced classes so that `--target largest` adds many rows.
-fn make_set(path: &Path, counts: &[usize], dims: usize) -> usize {
+/// Imbalanced classes so that `--target largest` adds many rows, embeddings stored as
+/// `float_type`.
+fn make_set(path: &Path, counts: &[usize], dims: usize, float_type: FloatType) -> usize {
     let n: usize = counts.iter().sum();
     let mut labels = Vec::with_capacity(n);
     for (c, &k) in counts.iter().enumerate() {
@@ -27,12 +29,9 @@ fn make_set(path: &Path, counts: &[usize], dims: usize) -> usize {
         common::value(i, j, 7) + labels[i] as f32
     });
     let classes = (0..counts.len()).map(|c| format!("c{c}")).collect();
-    write(
-        path,
-        &AugmentedSet::all_real(Dataset::new(x, labels, classes)),
-        true,
-    )
-    .unwrap();
+    let mut ds = Dataset::new(x, labels, classes);
+    ds.float_type = float_type;
+    write(path, &AugmentedSet::all_real(ds), true).unwrap();
     let largest = *counts.iter().max().unwrap();
     counts.iter().map(|&c| largest - c).sum()
 }
@@ -69,13 +68,40 @@ fn within_factor(what: &str, estimate: u64, measured: u64) {
 #[test]
 fn grow_estimate_matches_measured_peak() {
     let dir = tempfile::tempdir().unwrap();
-    for (input, output, counts, dims) in [
-        ("in.npz", "out.npz", vec![60_000, 30_000, 10_000], 64),
-        ("in.csv", "out.csv", vec![20_000, 8_000, 2_000], 32),
+    for (input, output, counts, dims, stored) in [
+        (
+            "in.npz",
+            "out.npz",
+            vec![60_000, 30_000, 10_000],
+            64,
+            FloatType::F32,
+        ),
+        (
+            "in.csv",
+            "out.csv",
+            vec![20_000, 8_000, 2_000],
+            32,
+            FloatType::F32,
+        ),
+        // f64 input keeps its f64 values beside the f32 matrix and writes f64.
+        (
+            "in64.npz",
+            "out64.npz",
+            vec![60_000, 30_000, 10_000],
+            64,
+            FloatType::F64,
+        ),
+        (
+            "in64.safetensors",
+            "out64.safetensors",
+            vec![30_000, 15_000, 5_000],
+            64,
+            FloatType::F64,
+        ),
     ] {
         let inp = dir.path().join(input);
         let out = dir.path().join(output);
-        let synthetic = make_set(&inp, &counts, dims);
+        let synthetic = make_set(&inp, &counts, dims, stored);
         let rows: usize = counts.iter().sum();
         let (peak, _) = run_peak(&[
             "--threads",
@@ -90,7 +116,7 @@ fn grow_estimate_matches_measured_peak() {
             out.to_str().unwrap(),
             "--quiet",
         ]);
-        let est = embloom::memory::for_grow(&inp, rows, dims, synthetic, &out);
+        let est = embloom::memory::for_grow(&inp, rows, dims, synthetic, &out, stored);
         within_factor(&format!("grow {input} -> {output}"), est.bytes, peak);
     }
 }
@@ -101,7 +127,7 @@ fn assess_estimate_matches_measured_peak() {
     let inp = dir.path().join("in.npz");
     let counts = [30_000, 12_000, 3_000];
     let dims = 48;
-    let synthetic = make_set(&inp, &counts, dims);
+    let synthetic = make_set(&inp, &counts, dims, FloatType::F32);
     let rows: usize = counts.iter().sum();
     let (peak, _) = run_peak(&[
         "--threads",
@@ -121,7 +147,7 @@ fn assess_estimate_matches_measured_peak() {
         "--no-diagnostics",
         "--quiet",
     ]);
-    let est = embloom::memory::for_assess(&inp, rows, dims, synthetic, 2, true);
+    let est = embloom::memory::for_assess(&inp, rows, dims, synthetic, 2, true, FloatType::F32);
     within_factor("assess npz", est.bytes, peak);
 }
 
@@ -130,7 +156,7 @@ fn refuses_above_max_memory_before_growing() {
     let dir = tempfile::tempdir().unwrap();
     let inp = dir.path().join("in.npz");
     let out = dir.path().join("out.npz");
-    make_set(&inp, &[4000, 100], 32);
+    make_set(&inp, &[4000, 100], 32, FloatType::F32);
     let o = common::embloom(
         &[
             "grow",

@@ -80,9 +80,12 @@ fn npz_stored_and_deflated_with_extras() {
         ("set_stored.npz", &TEXT_LABELS),
         ("set_deflated.npz", &INT_LABELS),
     ] {
-        let d = read(&fixture(file), &ReadOptions::default())
-            .unwrap()
-            .dataset;
+        let l = read(&fixture(file), &ReadOptions::default()).unwrap();
+        // The fixtures use the older key names `ids` and `groups`: read, with a note each.
+        assert_eq!(l.notes.len(), 2, "{file}: {:?}", l.notes);
+        assert!(l.notes[0].contains("'ids'") && l.notes[1].contains("'groups'"));
+        let d = l.dataset;
+        assert!(d.int_ids && !d.int_groups, "{file}: int32 ids, text groups");
         assert_eq!(d.x, fixture_x(), "{file}");
         assert_eq!(names(&d), strs(want), "{file}");
         assert_eq!(d.groups, Some(strs(&["g0", "g0", "g1", "g1", "g2", "g2"])));
@@ -176,12 +179,16 @@ fn text_set() -> AugmentedSet {
     with_provenance(d)
 }
 
+/// Integer ids and groups (synthetic rows -1), and real rows 0, 1, 2 taken from input rows
+/// 4, 6 and 9 (as after dropping non-finite rows), synthetic rows carrying their parent's.
 fn int_set() -> AugmentedSet {
-    with_provenance(Dataset::new(
-        base_x(),
-        vec![0, 1, 0, 0, 1],
-        strs(&["7", "-2"]),
-    ))
+    let mut d = Dataset::new(base_x(), vec![0, 1, 0, 0, 1], strs(&["7", "-2"]));
+    d.ids = Some(strs(&["10", "11", "12", "-1", "-1"]));
+    d.groups = Some(strs(&["5", "5", "6", "-1", "-1"]));
+    d.int_ids = true;
+    d.int_groups = true;
+    d.source_row = Some(vec![4, 6, 9, 4, 6]);
+    with_provenance(d)
 }
 
 fn extensions() -> Vec<&'static str> {
@@ -207,6 +214,11 @@ fn written_files_read_back_and_check_in_python() {
             assert_eq!(back.ids, set.data.ids, "{}", out.display());
             assert_eq!(back.groups, set.data.groups, "{}", out.display());
             assert_eq!(back.folds, set.data.folds, "{}", out.display());
+            // Integer roles stay integers in the binary formats (CSV holds text).
+            if !matches!(ext, "csv" | "tsv") {
+                assert_eq!(back.int_ids, set.data.int_ids, "{}", out.display());
+                assert_eq!(back.int_groups, set.data.int_groups, "{}", out.display());
+            }
             written.push(out);
         }
     }
@@ -235,4 +247,29 @@ fn written_files_read_back_and_check_in_python() {
         String::from_utf8_lossy(&out.stdout),
         String::from_utf8_lossy(&out.stderr)
     );
+}
+
+#[test]
+fn half_types_are_written_as_half_types() {
+    // bf16 and f16 values are exact in f32, so a set that came in as either goes out as it
+    // came (bf16 as f32 in npz and HDF5, which have no bf16 type). The bits are the half
+    // crate's conversion of the f32 values, which are exact here (multiples of 1/4 below 4).
+    // Common practice, no source.
+    use embloom::FloatType;
+    let x = Array2::from_shape_fn((5, 3), |(i, j)| i as f32 * 0.5 - j as f32 * 0.25);
+    let dir = tempfile::tempdir().unwrap();
+    for (float_type, ext, want) in [
+        (FloatType::BF16, "safetensors", FloatType::BF16),
+        (FloatType::F16, "safetensors", FloatType::F16),
+        (FloatType::F16, "npz", FloatType::F16),
+        (FloatType::BF16, "npz", FloatType::F32),
+    ] {
+        let mut d = Dataset::new(x.clone(), vec![0, 1, 0, 0, 1], strs(&["a", "b"]));
+        d.float_type = float_type;
+        let out = dir.path().join(format!("{float_type:?}.{ext}"));
+        write(&out, &with_provenance(d), false).unwrap();
+        let back = read(&out, &ReadOptions::default()).unwrap().dataset;
+        assert_eq!(back.float_type, want, "{}", out.display());
+        assert_eq!(back.x, x, "{}", out.display());
+    }
 }

@@ -1,10 +1,12 @@
 #!/usr/bin/env bash
 # Rebuild every reference fixture under tests/fixtures/ from its committed script.
-# (io_check_written.py is not a generator: the round-trip test runs it on files embloom wrote.)
+# (io_check_written.py and io_check_dtypes.py are not generators: the round-trip tests run them
+# on files embloom wrote.)
 set -euo pipefail
 cd "$(dirname "$0")"
 for script in io_make_fixtures.py pca_iris.py principal_noise_cov.py probe_digits.py \
-              eval_metrics.py eval_stats.py eval_prdc.py eval_interval.py knn_ties.py; do
+              eval_metrics.py eval_stats.py eval_prdc.py eval_interval.py knn_ties.py \
+              io_make_dtypes.py; do
     echo "reference: $script"
     python3 "$script"
 done
