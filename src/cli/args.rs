@@ -60,13 +60,13 @@ pub struct MethodArgs {
     #[arg(long, action = clap::ArgAction::Append, value_name = "A,B")]
     pub classes: Option<Vec<String>>,
     /// K nearest same-class neighbours for interpolate/extrapolate.
-    #[arg(long, default_value_t = 5, value_name = "K")]
+    #[arg(long, default_value_t = AugmentParams::default().neighbours, value_name = "K")]
     pub neighbours: usize,
     /// λ for extrapolate, noise scale for principal-noise and gaussian-noise (default 0.5).
     #[arg(long, value_name = "X")]
     pub magnitude: Option<f32>,
     /// Share of a class's variance the principal-noise directions must explain.
-    #[arg(long, default_value_t = 0.95, value_name = "FRAC")]
+    #[arg(long, default_value_t = AugmentParams::default().variance_kept, value_name = "FRAC")]
     pub variance_kept: f64,
     /// Metric for same-class neighbours.
     #[arg(long, default_value = "euclidean", value_parser = parse_metric)]
@@ -106,6 +106,15 @@ pub fn parse_size(s: &str) -> Result<u64, String> {
 pub fn parse_target(s: &str) -> Result<Target, String> {
     s.parse().map_err(|e: embloom::Error| e.to_string())
 }
+/// The `--method` help, from the method registry: each method's name and what it does.
+pub fn method_help() -> String {
+    let lines: Vec<_> = MethodKind::ALL
+        .into_iter()
+        .map(|m| format!("{}: {}", m.name(), m.help()))
+        .collect();
+    lines.join("; ")
+}
+
 pub fn parse_method(s: &str) -> Result<MethodKind, String> {
     s.parse().map_err(|e: embloom::Error| e.to_string())
 }

@@ -5,7 +5,7 @@ use std::path::PathBuf;
 use clap::Args;
 use serde::Serialize;
 
-use super::args::{InputArgs, MethodArgs, parse_method, parse_size};
+use super::args::{InputArgs, MethodArgs, method_help, parse_method, parse_size};
 use embloom::augment::{
     AugmentParams, MethodKind, Plan, Target, UnitNorm, assemble, describe_notes, grow_dataset,
     plan_for,
@@ -21,8 +21,7 @@ pub struct GrowArgs {
     /// Output file; its extension picks the format (.npz, .csv, .tsv, .safetensors, .h5).
     #[arg(long, short)]
     pub output: PathBuf,
-    /// none, interpolate (SMOTE), extrapolate, principal-noise, gaussian-noise.
-    #[arg(long, value_parser = parse_method)]
+    #[arg(long, value_parser = parse_method, help = method_help())]
     pub method: MethodKind,
     #[command(flatten)]
     pub how: MethodArgs,
