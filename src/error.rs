@@ -1,5 +1,7 @@
-//! One error type for the library. Every variant says what went wrong *and* what the user can
-//! do about it, because the binary prints these straight to the terminal.
+//! One error type for the library. Every variant says what went wrong, where (the file, key,
+//! row, parameter or job) *and* what the user can do about it. The library names parameters
+//! by their own names (`Param { name: "neighbours", .. }`) and never by a command-line flag: the
+//! binary adds the flag spelling when it prints.
 
 use std::path::{Path, PathBuf};
 
@@ -23,7 +25,8 @@ pub enum Error {
         #[source]
         source: std::io::Error,
     },
-    /// A parameter is out of range or inconsistent with the data.
+    /// A parameter is out of range or inconsistent with the data. `name` is the parameter's
+    /// library name (`k`, `target`, `variance-kept`), never a flag.
     #[error("invalid {name}: {detail}\n  fix: {fix}")]
     Param {
         name: String,
@@ -33,6 +36,20 @@ pub enum Error {
     /// The data cannot support the requested operation (too few rows, a single class, ...).
     #[error("{detail}\n  fix: {fix}")]
     Data { detail: String, fix: String },
+    /// A job would need more of a resource than it may use: refused before any work starts.
+    #[error("{what} would need about {needed} of {resource}, more than {limit}\n  fix: {fix}")]
+    Resource {
+        /// The job, e.g. "growing a.npz to 500 more rows".
+        what: String,
+        /// What runs short, e.g. "memory".
+        resource: String,
+        /// The estimate as the user reads it, with its breakdown.
+        needed: String,
+        /// The estimate in bytes.
+        needed_bytes: u64,
+        limit: Limit,
+        fix: String,
+    },
     /// An output cannot be written as asked.
     #[error("{}: {detail}\n  fix: {fix}", path.display())]
     Output {
@@ -40,6 +57,35 @@ pub enum Error {
         detail: String,
         fix: String,
     },
+}
+
+/// The bound a [`Error::Resource`] estimate was held against.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Limit {
+    pub bytes: u64,
+    pub source: LimitSource,
+    /// `bytes` as the user reads it.
+    pub shown: String,
+}
+
+/// Where a limit came from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum LimitSource {
+    /// The limit the caller gave (the `max_memory` setting).
+    Given,
+    /// What the machine has available.
+    Available,
+}
+
+impl std::fmt::Display for Limit {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self.source {
+            LimitSource::Given => write!(f, "the given limit ({})", self.shown),
+            LimitSource::Available => {
+                write!(f, "the memory available on this machine ({})", self.shown)
+            }
+        }
+    }
 }
 
 impl Error {

@@ -125,6 +125,17 @@ pub fn describe_notes(
     classes: &[String],
     method: super::MethodKind,
 ) -> Vec<String> {
+    describe_notes_with(notes, classes, method, "set strict")
+}
+
+/// [`describe_notes`], with `strict` naming how the caller's user turns on strict mode (the
+/// binary names its flag).
+pub fn describe_notes_with(
+    notes: &[FitNote],
+    classes: &[String],
+    method: super::MethodKind,
+    strict: &str,
+) -> Vec<String> {
     let mut skipped = Vec::new();
     let mut out = Vec::new();
     for n in notes {
@@ -140,7 +151,7 @@ pub fn describe_notes(
     }
     if !skipped.is_empty() {
         out.push(format!(
-            "{method} cannot grow {} and left {} unchanged; use another method for them, or --strict to make this an error",
+            "{method} cannot grow {} and left {} unchanged; use another method for them, or {strict} to make this an error",
             skipped.join(", "),
             if skipped.len() == 1 { "it" } else { "them" }
         ));

@@ -99,12 +99,84 @@ impl MethodArgs {
     }
 }
 
+/// The flag spelling of each library parameter name the command line sets, and what the
+/// binary adds to the library's fix (the library knows nothing of flags, so a fix that needs
+/// one is completed here).
+const FLAGS: &[(&str, &str, &str)] = &[
+    ("target", "--target", ""),
+    (
+        "classes",
+        "--classes",
+        "repeat --classes to give a name holding a comma",
+    ),
+    ("neighbours", "--neighbours", ""),
+    ("magnitude", "--magnitude", ""),
+    ("variance-kept", "--variance-kept", ""),
+    ("neighbour-metric", "--neighbour-metric", ""),
+    ("neighbour-index", "--neighbour-index", ""),
+    ("strict", "--strict", ""),
+    ("unit-norm", "--unit-norm", ""),
+    ("probes", "--probes", ""),
+    ("folds", "--folds", ""),
+    ("repeats", "--repeats", ""),
+    ("max-memory", "--max-memory", ""),
+    ("k", "--knn-k", ""),
+    ("temperature", "--knn-temperature", ""),
+    ("l2", "--linear-l2", ""),
+    ("max_iter", "--linear-max-iter", ""),
+];
+
+/// A library error as the command line prints it: parameters by their flags, a memory limit
+/// the user gave by `--max-memory`, and fixes completed with the flag to use.
+pub fn error_text(e: &embloom::Error) -> String {
+    use embloom::error::{Limit, LimitSource};
+    match e {
+        embloom::Error::Param { name, detail, fix } => {
+            let (flag, extra) = FLAGS
+                .iter()
+                .find(|(n, ..)| n == name)
+                .map_or((name.as_str(), ""), |(_, f, x)| (*f, *x));
+            let fix = if extra.is_empty() {
+                fix.clone()
+            } else {
+                format!("{fix} ({extra})")
+            };
+            format!("invalid {flag}: {detail}\n  fix: {fix}")
+        }
+        embloom::Error::Resource {
+            what,
+            resource,
+            needed,
+            limit:
+                Limit {
+                    source: LimitSource::Given,
+                    shown,
+                    ..
+                },
+            fix,
+            ..
+        } => format!(
+            "{what} would need about {needed} of {resource}, more than --max-memory ({shown})\n  fix: {fix}"
+        ),
+        other => other.to_string(),
+    }
+}
+
+/// The binary's text for a failed command: [`error_text`] for a library error on its own,
+/// anyhow's chain otherwise.
+pub fn failure_text(err: &anyhow::Error) -> String {
+    match err.downcast_ref::<embloom::Error>() {
+        Some(e) if err.chain().count() == 1 => error_text(e),
+        _ => format!("{err:#}"),
+    }
+}
+
 pub fn parse_size(s: &str) -> Result<u64, String> {
-    embloom::memory::parse_size(s).map_err(|e| e.to_string())
+    embloom::memory::parse_size(s).map_err(|e| error_text(&e))
 }
 
 pub fn parse_target(s: &str) -> Result<Target, String> {
-    s.parse().map_err(|e: embloom::Error| e.to_string())
+    s.parse().map_err(|e: embloom::Error| error_text(&e))
 }
 /// The `--method` help, from the method registry: each method's name and what it does.
 pub fn method_help() -> String {
@@ -116,10 +188,10 @@ pub fn method_help() -> String {
 }
 
 pub fn parse_method(s: &str) -> Result<MethodKind, String> {
-    s.parse().map_err(|e: embloom::Error| e.to_string())
+    s.parse().map_err(|e: embloom::Error| error_text(&e))
 }
 pub fn parse_unit_norm(s: &str) -> Result<UnitNorm, String> {
-    s.parse().map_err(|e: embloom::Error| e.to_string())
+    s.parse().map_err(|e: embloom::Error| error_text(&e))
 }
 pub fn parse_metric(s: &str) -> Result<Metric, String> {
     match s {

@@ -7,7 +7,7 @@ use serde::Serialize;
 
 use super::args::{InputArgs, MethodArgs, method_help, parse_method, parse_size};
 use embloom::augment::{
-    AugmentParams, MethodKind, Plan, Target, UnitNorm, assemble, describe_notes, grow_dataset,
+    AugmentParams, MethodKind, Plan, Target, UnitNorm, assemble, describe_notes_with, grow_dataset,
     plan_for,
 };
 use embloom::error::Result;
@@ -234,6 +234,6 @@ pub fn execute(opts: &GrowOptions) -> Result<GrowSummary> {
                 after: counts[c] + added[c],
             })
             .collect(),
-        warnings: describe_notes(&grown.notes, &ds.classes, opts.method),
+        warnings: describe_notes_with(&grown.notes, &ds.classes, opts.method, "--strict"),
     })
 }
