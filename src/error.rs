@@ -5,6 +5,8 @@
 
 use std::path::{Path, PathBuf};
 
+use crate::memory::human;
+
 /// Library result alias.
 pub type Result<T, E = Error> = std::result::Result<T, E>;
 
@@ -42,7 +44,7 @@ pub enum Error {
         /// The job, e.g. "growing a.npz to 500 more rows".
         what: String,
         /// What runs short, e.g. "memory".
-        resource: String,
+        resource: &'static str,
         /// The estimate as the user reads it, with its breakdown.
         needed: String,
         /// The estimate in bytes.
@@ -64,8 +66,6 @@ pub enum Error {
 pub struct Limit {
     pub bytes: u64,
     pub source: LimitSource,
-    /// `bytes` as the user reads it.
-    pub shown: String,
 }
 
 /// Where a limit came from.
@@ -80,10 +80,12 @@ pub enum LimitSource {
 impl std::fmt::Display for Limit {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
         match self.source {
-            LimitSource::Given => write!(f, "the given limit ({})", self.shown),
-            LimitSource::Available => {
-                write!(f, "the memory available on this machine ({})", self.shown)
-            }
+            LimitSource::Given => write!(f, "the given limit ({})", human(self.bytes)),
+            LimitSource::Available => write!(
+                f,
+                "the memory available on this machine ({})",
+                human(self.bytes)
+            ),
         }
     }
 }

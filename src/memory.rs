@@ -206,14 +206,10 @@ pub fn check(est: &Estimate, max_memory: Option<u64>, what: &str, suggest: &str)
     if est.bytes > bytes {
         return Err(Error::Resource {
             what: what.to_string(),
-            resource: "memory".to_string(),
+            resource: "memory",
             needed: est.describe(),
             needed_bytes: est.bytes,
-            limit: Limit {
-                bytes,
-                source,
-                shown: human(bytes),
-            },
+            limit: Limit { bytes, source },
             fix: suggest.to_string(),
         });
     }

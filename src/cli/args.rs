@@ -150,13 +150,13 @@ pub fn error_text(e: &embloom::Error) -> String {
             limit:
                 Limit {
                     source: LimitSource::Given,
-                    shown,
-                    ..
+                    bytes,
                 },
             fix,
             ..
         } => format!(
-            "{what} would need about {needed} of {resource}, more than --max-memory ({shown})\n  fix: {fix}"
+            "{what} would need about {needed} of {resource}, more than --max-memory ({})\n  fix: {fix}",
+            embloom::memory::human(*bytes)
         ),
         other => other.to_string(),
     }
