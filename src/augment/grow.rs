@@ -65,11 +65,9 @@ pub fn grow(
         Array2::zeros((0, train.dims()))
     } else {
         concatenate(Axis(0), &views).map_err(|e| {
-            Error::data(
-                format!(
-                    "{}: synthetic rows of different widths ({e})",
-                    method.kind()
-                ),
+            Error::data_at(
+                method.kind().name(),
+                format!("synthetic rows of different widths ({e})"),
                 "this is a bug in the method; please report it",
             )
         })?
