@@ -1,7 +1,11 @@
-//! One error type for the library. Every variant says what went wrong *and* what the user can
-//! do about it, because the binary prints these straight to the terminal.
+//! One error type for the library. Every variant says what went wrong, where (the file, key,
+//! row, parameter or job) *and* what the user can do about it. The library names parameters
+//! by their own names (`Param { name: "neighbours", .. }`) and never by a command-line flag: the
+//! binary adds the flag spelling when it prints.
 
 use std::path::{Path, PathBuf};
+
+use crate::memory::human;
 
 /// Library result alias.
 pub type Result<T, E = Error> = std::result::Result<T, E>;
@@ -23,7 +27,8 @@ pub enum Error {
         #[source]
         source: std::io::Error,
     },
-    /// A parameter is out of range or inconsistent with the data.
+    /// A parameter is out of range or inconsistent with the data. `name` is the parameter's
+    /// library name (`k`, `target`, `variance-kept`), never a flag.
     #[error("invalid {name}: {detail}\n  fix: {fix}")]
     Param {
         name: String,
@@ -31,8 +36,27 @@ pub enum Error {
         fix: String,
     },
     /// The data cannot support the requested operation (too few rows, a single class, ...).
-    #[error("{detail}\n  fix: {fix}")]
-    Data { detail: String, fix: String },
+    /// `at` names where, when one place is to blame (a method, a class).
+    #[error("{}{detail}\n  fix: {fix}", at.as_deref().map(|a| format!("{a}: ")).unwrap_or_default())]
+    Data {
+        at: Option<String>,
+        detail: String,
+        fix: String,
+    },
+    /// A job would need more of a resource than it may use: refused before any work starts.
+    #[error("{what} would need about {needed} of {resource}, more than {limit}\n  fix: {fix}")]
+    Resource {
+        /// The job, e.g. "growing a.npz to 500 more rows".
+        what: String,
+        /// What runs short, e.g. "memory".
+        resource: &'static str,
+        /// The estimate as the user reads it, with its breakdown.
+        needed: String,
+        /// The estimate in bytes.
+        needed_bytes: u64,
+        limit: Limit,
+        fix: String,
+    },
     /// An output cannot be written as asked.
     #[error("{}: {detail}\n  fix: {fix}", path.display())]
     Output {
@@ -40,6 +64,35 @@ pub enum Error {
         detail: String,
         fix: String,
     },
+}
+
+/// The bound a [`Error::Resource`] estimate was held against.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Limit {
+    pub bytes: u64,
+    pub source: LimitSource,
+}
+
+/// Where a limit came from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum LimitSource {
+    /// The limit the caller gave (the `max_memory` setting).
+    Given,
+    /// What the machine has available.
+    Available,
+}
+
+impl std::fmt::Display for Limit {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self.source {
+            LimitSource::Given => write!(f, "the given limit ({})", human(self.bytes)),
+            LimitSource::Available => write!(
+                f,
+                "the memory available on this machine ({})",
+                human(self.bytes)
+            ),
+        }
+    }
 }
 
 impl Error {
@@ -89,6 +142,20 @@ impl Error {
 
     pub fn data(detail: impl Into<String>, fix: impl Into<String>) -> Self {
         Error::Data {
+            at: None,
+            detail: detail.into(),
+            fix: fix.into(),
+        }
+    }
+
+    /// Data that cannot support the operation, at the method or class named by `at`.
+    pub fn data_at(
+        at: impl Into<String>,
+        detail: impl Into<String>,
+        fix: impl Into<String>,
+    ) -> Self {
+        Error::Data {
+            at: Some(at.into()),
             detail: detail.into(),
             fix: fix.into(),
         }
@@ -120,5 +187,39 @@ mod capped_tests {
         let e = super::Error::input(std::path::Path::new("f.npy"), "x".repeat(50_000_000), "fix");
         assert!(e.to_string().len() < 600);
         assert!(e.to_string().contains("more bytes"));
+    }
+}
+
+#[cfg(test)]
+mod kind_tests {
+    use super::*;
+
+    /// Each kind says what and where; the library text names parameters, never flags
+    /// (common practice, no source).
+    #[test]
+    fn each_kind_says_what_and_where() {
+        let e = Error::data_at("interpolate", "class index 9 is not there", "grow fewer");
+        assert_eq!(
+            e.to_string(),
+            "interpolate: class index 9 is not there\n  fix: grow fewer"
+        );
+        let e = Error::param("k", "k-NN needs at least one neighbour", "set k to 1");
+        assert!(e.to_string().starts_with("invalid k: "), "{e}");
+        let e = Error::Resource {
+            what: "growing a.npz".into(),
+            resource: "memory",
+            needed: "2.0 GiB (matrix 2.0 GiB)".into(),
+            needed_bytes: 2 << 30,
+            limit: Limit {
+                bytes: 1 << 30,
+                source: LimitSource::Given,
+            },
+            fix: "grow fewer classes".into(),
+        };
+        assert_eq!(
+            e.to_string(),
+            "growing a.npz would need about 2.0 GiB (matrix 2.0 GiB) of memory, more than the given limit (1.0 GiB)\n  fix: grow fewer classes"
+        );
+        assert!(!e.to_string().contains("--"));
     }
 }

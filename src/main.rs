@@ -13,7 +13,7 @@ fn main() -> ExitCode {
     match cli::run(args) {
         Ok(()) => ExitCode::SUCCESS,
         Err(err) => {
-            let text = embloom::report::display_text(&format!("{err:#}"), 2000, 40);
+            let text = embloom::report::display_text(&cli::failure_text(&err), 2000, 40);
             eprintln!("error: {text}");
             ExitCode::from(2)
         }

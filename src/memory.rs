@@ -9,7 +9,7 @@
 use std::path::Path;
 
 use crate::data::FloatType;
-use crate::error::{Error, Result};
+use crate::error::{Error, Limit, LimitSource, Result};
 use crate::io::Format;
 
 /// Fixed allowance: the binary, thread stacks, allocator arenas, small tables.
@@ -198,7 +198,7 @@ pub fn available() -> Option<u64> {
     Some(kib * 1024)
 }
 
-/// Parses `--max-memory`: bytes, or a number with K, M, G or T (powers of 1024).
+/// Parses a memory limit: bytes, or a number with K, M, G or T (powers of 1024).
 pub fn parse_size(s: &str) -> Result<u64> {
     let t = s.trim();
     let (num, mult) = match t.char_indices().find(|(_, c)| c.is_ascii_alphabetic()) {
@@ -219,7 +219,7 @@ pub fn parse_size(s: &str) -> Result<u64> {
     let v: f64 = num.trim().parse().unwrap_or(f64::NAN);
     if mult == 0 || !v.is_finite() || v <= 0.0 {
         return Err(Error::param(
-            "--max-memory",
+            "max-memory",
             format!("'{s}' is not a size"),
             "give a size such as 512M, 8G or 2.5G",
         ));
@@ -227,25 +227,25 @@ pub fn parse_size(s: &str) -> Result<u64> {
     Ok((v * mult as f64) as u64)
 }
 
-/// Refuses when the estimate exceeds `--max-memory` or the memory the system has available.
-/// `suggest` says what to change for this command.
+/// Refuses, with [`Error::Resource`], when the estimate exceeds `max_memory` or the memory the
+/// system has available. `what` names the job; `suggest` says what to change for it.
 pub fn check(est: &Estimate, max_memory: Option<u64>, what: &str, suggest: &str) -> Result<()> {
     let avail = available();
-    let (limit, source) = match (max_memory, avail) {
-        (Some(m), Some(a)) if a < m => (a, "the memory available on this machine"),
-        (Some(m), _) => (m, "--max-memory"),
-        (None, Some(a)) => (a, "the memory available on this machine"),
+    let (bytes, source) = match (max_memory, avail) {
+        (Some(m), Some(a)) if a < m => (a, LimitSource::Available),
+        (Some(m), _) => (m, LimitSource::Given),
+        (None, Some(a)) => (a, LimitSource::Available),
         (None, None) => return Ok(()),
     };
-    if est.bytes > limit {
-        return Err(Error::data(
-            format!(
-                "{what} would need about {} of memory, more than {source} ({})",
-                est.describe(),
-                human(limit)
-            ),
-            suggest.to_string(),
-        ));
+    if est.bytes > bytes {
+        return Err(Error::Resource {
+            what: what.to_string(),
+            resource: "memory",
+            needed: est.describe(),
+            needed_bytes: est.bytes,
+            limit: Limit { bytes, source },
+            fix: suggest.to_string(),
+        });
     }
     Ok(())
 }
@@ -295,12 +295,21 @@ mod tests {
         );
         assert!(wide.parts.contains(&("f64 values".to_string(), 800_000)));
         assert!(wide.bytes > est.bytes);
-        let err = check(&est, Some(1 << 20), "grow", "use --classes").unwrap_err();
+        let err = check(&est, Some(1 << 20), "grow", "grow fewer classes").unwrap_err();
         let msg = err.to_string();
-        assert!(
-            msg.contains("--max-memory") && msg.contains("use --classes"),
-            "{msg}"
-        );
+        assert!(msg.contains("grow fewer classes"), "{msg}");
+        match err {
+            Error::Resource {
+                needed_bytes,
+                limit,
+                ..
+            } => {
+                assert_eq!(needed_bytes, est.bytes);
+                assert!(limit.bytes < est.bytes);
+                assert!(limit.source == LimitSource::Given || available().is_some());
+            }
+            other => panic!("not a resource error: {other}"),
+        }
         assert!(check(&est, Some(1 << 40), "grow", "x").is_ok() || available().is_some());
     }
 }

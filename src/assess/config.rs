@@ -70,7 +70,7 @@ impl AssessConfig {
         self.methods = methods;
         if self.probes.is_empty() {
             return Err(Error::param(
-                "--probes",
+                "probes",
                 "no probe given",
                 "use knn, linear or knn,linear",
             ));
@@ -78,23 +78,23 @@ impl AssessConfig {
         self.probes.dedup();
         if self.folds < 2 {
             return Err(Error::param(
-                "--folds",
+                "folds",
                 format!("{} folds cannot hold out data", self.folds),
                 "use 2 or more folds (5 is usual)",
             ));
         }
         if self.repeats < 1 {
             return Err(Error::param(
-                "--repeats",
+                "repeats",
                 "must be at least 1",
-                "use --repeats 1 or more",
+                "use 1 or more repeats",
             ));
         }
         // Per-fold results are kept for the report, so memory and time grow with repeats;
         // past this, more repeats no longer move the corrected intervals in any reported digit.
         if self.repeats > MAX_REPEATS {
             return Err(Error::param(
-                "--repeats",
+                "repeats",
                 format!(
                     "{} is more than the {MAX_REPEATS} embloom allows",
                     self.repeats

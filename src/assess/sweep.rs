@@ -9,7 +9,7 @@ use serde::Serialize;
 use super::config::AssessConfig;
 use super::results::InputInfo;
 use super::run::assess;
-use crate::augment::{MethodKind, Target};
+use crate::augment::{MethodKind, Param, Target};
 use crate::data::Dataset;
 use crate::error::{Error, Result};
 
@@ -40,18 +40,23 @@ impl Knob {
         }
     }
 
+    /// The method parameter this knob sets; `None` for the target, which is not a method's.
+    pub fn param(self) -> Option<Param> {
+        match self {
+            Knob::Magnitude => Some(Param::Magnitude),
+            Knob::Neighbours => Some(Param::Neighbours),
+            Knob::Target => None,
+            Knob::VarianceKept => Some(Param::VarianceKept),
+        }
+    }
+
     /// Whether `method` reads this knob. Target is read by every method that makes rows; the
-    /// others only by the methods whose rule contains them, so sweeping an unused knob would
+    /// others only by the methods whose params read them, so sweeping an unused knob would
     /// print the same row at every value.
     pub fn used_by(self, method: MethodKind) -> bool {
-        match self {
-            Knob::Target => method != MethodKind::None,
-            Knob::Neighbours => method.uses_neighbours(),
-            Knob::Magnitude => matches!(
-                method,
-                MethodKind::Extrapolate | MethodKind::PrincipalNoise | MethodKind::GaussianNoise
-            ),
-            Knob::VarianceKept => method == MethodKind::PrincipalNoise,
+        match self.param() {
+            Some(p) => method.reads_param(p),
+            None => method != MethodKind::None,
         }
     }
 

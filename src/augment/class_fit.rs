@@ -47,9 +47,10 @@ impl<T: Send> PerClass<T> {
         wanted.sort_unstable();
         wanted.dedup();
         if let Some(&bad) = wanted.iter().find(|&&c| c as usize >= train.n_classes()) {
-            return Err(Error::data(
+            return Err(Error::data_at(
+                kind.name(),
                 format!(
-                    "{kind}: class index {bad} is not in the training set ({} classes)",
+                    "class index {bad} is not in the training set ({} classes)",
                     train.n_classes()
                 ),
                 "grow only classes that occur in the training data",
@@ -104,11 +105,9 @@ impl<T> PerClass<T> {
     pub(super) fn get(&self, class: u32) -> Result<Option<&T>> {
         match self.models.get(&class) {
             Some(m) => Ok(m.as_ref()),
-            None => Err(Error::data(
-                format!(
-                    "{}: class index {class} was not among the classes it was fitted on",
-                    self.kind
-                ),
+            None => Err(Error::data_at(
+                self.kind.name(),
+                format!("class index {class} was not among the classes it was fitted on"),
                 "fit the method on every class you want to sample",
             )),
         }

@@ -2,86 +2,115 @@
 //! from one of its K nearest same-class neighbours n: x + λ·(x − n), λ fixed (default 0.5).
 //! Unlike interpolation it can reach past the class hull, towards where the class may extend.
 
-use super::class_fit::{ClassFit, PerClass};
-use super::class_neighbours::ClassNeighbours;
-use super::{
-    AugmentParams, Augmenter, FitNote, FittedAugmenter, MethodKind, Provenance, Synthetic,
-    check_finite,
-};
+use super::neighbour_methods::{self, NeighbourParams, PairRule};
+use super::params::{AugmentParams, MethodParams, Param, ParamGuard, check_magnitude};
+use super::{Augmenter, FittedAugmenter, MethodKind};
 use crate::data::Dataset;
-use crate::error::Result;
-use crate::neighbors::{IndexKind, Metric};
+use crate::error::{Error, Result};
 use crate::seed::Rng;
-use ndarray::Array2;
 
-/// Configured extrapolation.
-pub(super) struct Extrapolate {
-    k: usize,
-    /// λ, validated finite and > 0.
+/// λ when none is given.
+const DEFAULT_LAMBDA: f32 = 0.5;
+
+/// Unchecked extrapolation parameters; [`ParamGuard::check`] gives the valid ones.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct ExtrapolateParams(ExtrapolateValidParams);
+
+/// Extrapolation parameters that passed their check: K ≥ 1 and a finite λ > 0.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ExtrapolateValidParams {
+    neighbours: NeighbourParams,
     lambda: f32,
-    metric: Metric,
-    index: IndexKind,
-    strict: bool,
 }
 
-impl Extrapolate {
-    pub(super) fn new(params: &AugmentParams, lambda: f32) -> Self {
-        Extrapolate {
-            k: params.neighbours,
-            lambda,
-            metric: params.metric,
-            index: params.index,
-            strict: params.strict,
+impl Default for ExtrapolateValidParams {
+    fn default() -> Self {
+        ExtrapolateValidParams {
+            neighbours: NeighbourParams::default(),
+            lambda: DEFAULT_LAMBDA,
         }
     }
 }
 
-impl Augmenter for Extrapolate {
+impl ExtrapolateParams {
+    pub fn neighbours(mut self, neighbours: NeighbourParams) -> Self {
+        self.0.neighbours = neighbours;
+        self
+    }
+
+    pub fn lambda(mut self, lambda: f32) -> Self {
+        self.0.lambda = lambda;
+        self
+    }
+}
+
+impl ParamGuard for ExtrapolateParams {
+    type Checked = ExtrapolateValidParams;
+    type Error = Error;
+
+    fn check_ref(&self) -> Result<&ExtrapolateValidParams> {
+        self.0.neighbours.check()?;
+        check_magnitude(self.0.lambda, DEFAULT_LAMBDA)?;
+        if self.0.lambda <= 0.0 {
+            return Err(Error::param(
+                Param::Magnitude.name(),
+                "extrapolate needs λ > 0 (λ = 0 only copies real rows)",
+                format!("give a positive λ, e.g. the default {DEFAULT_LAMBDA}"),
+            ));
+        }
+        Ok(&self.0)
+    }
+
+    fn check(self) -> Result<ExtrapolateValidParams> {
+        self.check_ref()?;
+        Ok(self.0)
+    }
+}
+
+impl MethodParams for ExtrapolateParams {
+    const READS: &'static [Param] = &[
+        Param::Neighbours,
+        Param::Magnitude,
+        Param::NeighbourMetric,
+        Param::NeighbourIndex,
+        Param::Strict,
+    ];
+    const DEFAULT_MAGNITUDE: Option<f32> = Some(DEFAULT_LAMBDA);
+
+    fn from_shared(shared: &AugmentParams) -> Self {
+        ExtrapolateParams::default()
+            .neighbours(NeighbourParams::from_shared(shared))
+            .lambda(shared.magnitude.unwrap_or(DEFAULT_LAMBDA))
+    }
+}
+
+/// x + λ·(x − n) with the one fixed λ.
+#[derive(Clone, Copy)]
+struct Away {
+    lambda: f32,
+}
+
+impl PairRule for Away {
+    const KIND: MethodKind = MethodKind::Extrapolate;
+
+    fn weight(&self, _rng: &mut Rng) -> f32 {
+        self.lambda
+    }
+
+    fn combine(l: f32, a: f32, b: f32) -> f32 {
+        a + l * (a - b)
+    }
+}
+
+impl Augmenter for ExtrapolateValidParams {
     fn kind(&self) -> MethodKind {
         MethodKind::Extrapolate
     }
 
     fn fit(&self, train: &Dataset, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
-        let fit = |c: u32, rows: &[usize]| -> Result<ClassFit<ClassNeighbours>> {
-            ClassNeighbours::fit(train, c, rows, self.k, self.metric, self.index)
-        };
-        let per_class = PerClass::fit(self.kind(), train, classes, self.strict, fit)?;
-        Ok(Box::new(FittedExtrapolate {
-            per_class,
+        let rule = Away {
             lambda: self.lambda,
-        }))
-    }
-}
-
-struct FittedExtrapolate {
-    per_class: PerClass<ClassNeighbours>,
-    lambda: f32,
-}
-
-impl FittedAugmenter for FittedExtrapolate {
-    fn sample(&self, class: u32, n: usize, rng: &mut Rng) -> Result<Synthetic> {
-        let Some(nb) = self.per_class.get(class)? else {
-            return Ok(self.per_class.empty());
         };
-        let mut x = Array2::<f32>::zeros((n, nb.dims()));
-        let mut provenance = Vec::with_capacity(n);
-        for mut out in x.rows_mut() {
-            let pair = nb.draw(rng);
-            let l = self.lambda;
-            for ((o, &a), &b) in out.iter_mut().zip(pair.x).zip(pair.n) {
-                *o = a + l * (a - b);
-            }
-            provenance.push(Provenance {
-                parent: pair.parent,
-                partner: Some(pair.partner),
-                weight: l,
-            });
-        }
-        check_finite(MethodKind::Extrapolate, class, &x)?;
-        Ok(Synthetic { x, provenance })
-    }
-
-    fn notes(&self) -> &[FitNote] {
-        self.per_class.notes()
+        neighbour_methods::fit(rule, &self.neighbours, train, classes)
     }
 }

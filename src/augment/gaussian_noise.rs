@@ -9,26 +9,70 @@ use rand::Rng as _;
 use rand_distr::StandardNormal;
 
 use super::class_fit::{ClassFit, PerClass};
-use super::{
-    AugmentParams, Augmenter, FitNote, FittedAugmenter, MethodKind, Provenance, Synthetic,
-    check_finite,
-};
+use super::params::{AugmentParams, MethodParams, Param, ParamGuard, check_magnitude};
+use super::{Augmenter, FitNote, FittedAugmenter, MethodKind, Provenance, Synthetic, check_finite};
 use crate::data::Dataset;
-use crate::error::Result;
+use crate::error::{Error, Result};
 use crate::seed::Rng;
 
-/// Configured isotropic noise.
-pub(super) struct GaussianNoise {
+/// The noise scale, in class spreads, when none is given.
+const DEFAULT_MAGNITUDE: f32 = 0.5;
+
+/// Unchecked isotropic-noise parameters; [`ParamGuard::check`] gives the valid ones.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct GaussianNoiseParams(GaussianNoiseValidParams);
+
+/// Isotropic-noise parameters that passed their check: a finite magnitude ≥ 0.
+#[derive(Debug, Clone, PartialEq)]
+pub struct GaussianNoiseValidParams {
     magnitude: f32,
     strict: bool,
 }
 
-impl GaussianNoise {
-    pub(super) fn new(params: &AugmentParams, magnitude: f32) -> Self {
-        GaussianNoise {
-            magnitude,
-            strict: params.strict,
+impl Default for GaussianNoiseValidParams {
+    fn default() -> Self {
+        GaussianNoiseValidParams {
+            magnitude: DEFAULT_MAGNITUDE,
+            strict: false,
         }
+    }
+}
+
+impl GaussianNoiseParams {
+    pub fn magnitude(mut self, magnitude: f32) -> Self {
+        self.0.magnitude = magnitude;
+        self
+    }
+
+    pub fn strict(mut self, strict: bool) -> Self {
+        self.0.strict = strict;
+        self
+    }
+}
+
+impl ParamGuard for GaussianNoiseParams {
+    type Checked = GaussianNoiseValidParams;
+    type Error = Error;
+
+    fn check_ref(&self) -> Result<&GaussianNoiseValidParams> {
+        check_magnitude(self.0.magnitude, DEFAULT_MAGNITUDE)?;
+        Ok(&self.0)
+    }
+
+    fn check(self) -> Result<GaussianNoiseValidParams> {
+        self.check_ref()?;
+        Ok(self.0)
+    }
+}
+
+impl MethodParams for GaussianNoiseParams {
+    const READS: &'static [Param] = &[Param::Magnitude, Param::Strict];
+    const DEFAULT_MAGNITUDE: Option<f32> = Some(DEFAULT_MAGNITUDE);
+
+    fn from_shared(shared: &AugmentParams) -> Self {
+        GaussianNoiseParams::default()
+            .magnitude(shared.magnitude.unwrap_or(DEFAULT_MAGNITUDE))
+            .strict(shared.strict)
     }
 }
 
@@ -53,7 +97,7 @@ fn mean_sd(x: &Array2<f32>) -> f64 {
     sds.sum::<f64>() / x.ncols().max(1) as f64
 }
 
-impl Augmenter for GaussianNoise {
+impl Augmenter for GaussianNoiseValidParams {
     fn kind(&self) -> MethodKind {
         MethodKind::GaussianNoise
     }

@@ -65,11 +65,9 @@ pub fn grow(
         Array2::zeros((0, train.dims()))
     } else {
         concatenate(Axis(0), &views).map_err(|e| {
-            Error::data(
-                format!(
-                    "{}: synthetic rows of different widths ({e})",
-                    method.kind()
-                ),
+            Error::data_at(
+                method.kind().name(),
+                format!("synthetic rows of different widths ({e})"),
                 "this is a bug in the method; please report it",
             )
         })?
@@ -125,6 +123,17 @@ pub fn describe_notes(
     classes: &[String],
     method: super::MethodKind,
 ) -> Vec<String> {
+    describe_notes_with(notes, classes, method, "set strict")
+}
+
+/// [`describe_notes`], with `strict` naming how the caller's user turns on strict mode (the
+/// binary names its flag).
+pub fn describe_notes_with(
+    notes: &[FitNote],
+    classes: &[String],
+    method: super::MethodKind,
+    strict: &str,
+) -> Vec<String> {
     let mut skipped = Vec::new();
     let mut out = Vec::new();
     for n in notes {
@@ -140,7 +149,7 @@ pub fn describe_notes(
     }
     if !skipped.is_empty() {
         out.push(format!(
-            "{method} cannot grow {} and left {} unchanged; use another method for them, or --strict to make this an error",
+            "{method} cannot grow {} and left {} unchanged; use another method for them, or {strict} to make this an error",
             skipped.join(", "),
             if skipped.len() == 1 { "it" } else { "them" }
         ));

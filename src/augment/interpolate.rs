@@ -2,81 +2,77 @@
 //! a real row x to one of its K nearest same-class neighbours n: x + u·(n − x), u ~ U(0,1).
 //! It never leaves the convex hull of the class, which is why it is the conservative default.
 
-use ndarray::Array2;
 use rand::Rng as _;
 
-use super::class_fit::{ClassFit, PerClass};
-use super::class_neighbours::ClassNeighbours;
-use super::{
-    AugmentParams, Augmenter, FitNote, FittedAugmenter, MethodKind, Provenance, Synthetic,
-    check_finite,
-};
+use super::neighbour_methods::{self, NeighbourParams, PairRule};
+use super::params::{AugmentParams, MethodParams, Param, ParamGuard};
+use super::{Augmenter, FittedAugmenter, MethodKind};
 use crate::data::Dataset;
-use crate::error::Result;
-use crate::neighbors::{IndexKind, Metric};
+use crate::error::{Error, Result};
 use crate::seed::Rng;
 
-/// Configured interpolation.
-pub(super) struct Interpolate {
-    k: usize,
-    metric: Metric,
-    index: IndexKind,
-    strict: bool,
+/// Unchecked interpolation parameters; [`ParamGuard::check`] gives the valid ones.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct InterpolateParams(InterpolateValidParams);
+
+/// Interpolation parameters that passed their check: K ≥ 1.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct InterpolateValidParams {
+    neighbours: NeighbourParams,
 }
 
-impl Interpolate {
-    pub(super) fn new(params: &AugmentParams) -> Self {
-        Interpolate {
-            k: params.neighbours,
-            metric: params.metric,
-            index: params.index,
-            strict: params.strict,
-        }
+impl InterpolateParams {
+    pub fn neighbours(mut self, neighbours: NeighbourParams) -> Self {
+        self.0.neighbours = neighbours;
+        self
     }
 }
 
-impl Augmenter for Interpolate {
+impl ParamGuard for InterpolateParams {
+    type Checked = InterpolateValidParams;
+    type Error = Error;
+
+    fn check_ref(&self) -> Result<&InterpolateValidParams> {
+        self.0.neighbours.check()?;
+        Ok(&self.0)
+    }
+
+    fn check(self) -> Result<InterpolateValidParams> {
+        self.check_ref()?;
+        Ok(self.0)
+    }
+}
+
+impl MethodParams for InterpolateParams {
+    const READS: &'static [Param] = &NeighbourParams::READS;
+
+    fn from_shared(shared: &AugmentParams) -> Self {
+        InterpolateParams::default().neighbours(NeighbourParams::from_shared(shared))
+    }
+}
+
+/// u ~ U(0,1) per row, then x + u·(n − x).
+#[derive(Clone, Copy)]
+struct Uniform;
+
+impl PairRule for Uniform {
+    const KIND: MethodKind = MethodKind::Interpolate;
+
+    fn weight(&self, rng: &mut Rng) -> f32 {
+        rng.r#gen()
+    }
+
+    fn combine(u: f32, a: f32, b: f32) -> f32 {
+        a + u * (b - a)
+    }
+}
+
+impl Augmenter for InterpolateValidParams {
     fn kind(&self) -> MethodKind {
         MethodKind::Interpolate
     }
 
     fn fit(&self, train: &Dataset, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
-        let fit = |c: u32, rows: &[usize]| -> Result<ClassFit<ClassNeighbours>> {
-            ClassNeighbours::fit(train, c, rows, self.k, self.metric, self.index)
-        };
-        let per_class = PerClass::fit(self.kind(), train, classes, self.strict, fit)?;
-        Ok(Box::new(FittedInterpolate { per_class }))
-    }
-}
-
-struct FittedInterpolate {
-    per_class: PerClass<ClassNeighbours>,
-}
-
-impl FittedAugmenter for FittedInterpolate {
-    fn sample(&self, class: u32, n: usize, rng: &mut Rng) -> Result<Synthetic> {
-        let Some(nb) = self.per_class.get(class)? else {
-            return Ok(self.per_class.empty());
-        };
-        let mut x = Array2::<f32>::zeros((n, nb.dims()));
-        let mut provenance = Vec::with_capacity(n);
-        for mut out in x.rows_mut() {
-            let pair = nb.draw(rng);
-            let u: f32 = rng.r#gen();
-            for ((o, &a), &b) in out.iter_mut().zip(pair.x).zip(pair.n) {
-                *o = a + u * (b - a);
-            }
-            provenance.push(Provenance {
-                parent: pair.parent,
-                partner: Some(pair.partner),
-                weight: u,
-            });
-        }
-        check_finite(MethodKind::Interpolate, class, &x)?;
-        Ok(Synthetic { x, provenance })
-    }
-
-    fn notes(&self) -> &[FitNote] {
-        self.per_class.notes()
+        neighbour_methods::fit(Uniform, &self.neighbours, train, classes)
     }
 }

@@ -4,18 +4,16 @@
 
 mod assemble;
 mod class_fit;
-mod class_neighbours;
-mod extrapolate;
-mod gaussian_noise;
 mod grow;
-mod interpolate;
-mod none;
+mod neighbour_methods;
+mod params;
 mod plan;
-mod principal_noise;
 mod unit_norm;
 
 pub use assemble::{assemble, grow_dataset};
-pub use grow::{Grown, describe_notes, grow};
+pub use grow::{Grown, describe_notes, describe_notes_with, grow};
+pub use neighbour_methods::NeighbourParams;
+pub use params::{AugmentParams, MethodParams, Param, ParamGuard};
 pub use plan::{Plan, Target, class_indices, plan_for};
 pub use unit_norm::UnitNorm;
 
@@ -27,56 +25,79 @@ use serde::Serialize;
 
 use crate::data::Dataset;
 use crate::error::{Error, Result};
-use crate::neighbors::{IndexKind, Metric};
 use crate::seed::Rng;
 
-/// The methods embloom knows.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize)]
-#[serde(rename_all = "kebab-case")]
-pub enum MethodKind {
-    /// No synthetic rows: the baseline.
-    None,
-    /// SMOTE's rule, x + u·(n − x) (Chawla et al. 2002).
-    Interpolate,
-    /// x + λ·(x − n) (DeVries & Taylor 2017).
-    Extrapolate,
-    /// Gaussian noise along the class's principal directions.
-    PrincipalNoise,
-    /// Isotropic Gaussian noise (baseline).
-    GaussianNoise,
+/// The registry: one line per method, `Variant => module, "name", "help", ParamsType;`. It
+/// declares the module (`src/augment/<module>.rs`), re-exports its params types, and gives
+/// `MethodKind` its variant, name, help text and constructor; what the method reads and its
+/// default magnitude come from its params type (see [`MethodParams`]).
+macro_rules! methods {
+    ($($variant:ident => $module:ident, $name:literal, $help:literal, $params:ident, $valid:ident;)*) => {
+        $(mod $module;)*
+        $(pub use $module::{$params, $valid};)*
+
+        /// The methods embloom knows.
+        #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+        pub enum MethodKind {
+            $(#[doc = $help] $variant,)*
+        }
+
+        impl MethodKind {
+            pub const ALL: [MethodKind; [$($name),*].len()] = [$(MethodKind::$variant),*];
+
+            pub fn name(self) -> &'static str {
+                match self { $(MethodKind::$variant => $name,)* }
+            }
+
+            /// One line for the user on what the method does.
+            pub fn help(self) -> &'static str {
+                match self { $(MethodKind::$variant => $help,)* }
+            }
+
+            /// The shared parameters the method reads.
+            pub fn reads(self) -> &'static [Param] {
+                match self { $(MethodKind::$variant => <$params as MethodParams>::READS,)* }
+            }
+
+            /// The magnitude the method uses when none is given (0 for a method that reads
+            /// none, as results.json records it).
+            pub fn default_magnitude(self) -> f32 {
+                let m = match self {
+                    $(MethodKind::$variant => <$params as MethodParams>::DEFAULT_MAGNITUDE,)*
+                };
+                m.unwrap_or(0.0)
+            }
+
+            fn build(self, shared: &AugmentParams) -> Result<Box<dyn Augmenter>> {
+                match self { $(MethodKind::$variant => params::build_with::<$params>(shared),)* }
+            }
+        }
+    };
+}
+
+methods! {
+    None => none, "none", "no synthetic rows: the baseline", NoneParams, NoneValidParams;
+    Interpolate => interpolate, "interpolate", "SMOTE's rule x + u·(n − x) (Chawla et al. 2002)", InterpolateParams, InterpolateValidParams;
+    Extrapolate => extrapolate, "extrapolate", "x + λ·(x − n), away from a neighbour (DeVries & Taylor 2017)", ExtrapolateParams, ExtrapolateValidParams;
+    PrincipalNoise => principal_noise, "principal-noise", "Gaussian noise along the class's principal directions", PrincipalNoiseParams, PrincipalNoiseValidParams;
+    GaussianNoise => gaussian_noise, "gaussian-noise", "isotropic Gaussian noise (baseline)", GaussianNoiseParams, GaussianNoiseValidParams;
 }
 
 impl MethodKind {
-    pub const ALL: [MethodKind; 5] = [
-        MethodKind::None,
-        MethodKind::Interpolate,
-        MethodKind::Extrapolate,
-        MethodKind::PrincipalNoise,
-        MethodKind::GaussianNoise,
-    ];
-
-    pub fn name(self) -> &'static str {
-        match self {
-            MethodKind::None => "none",
-            MethodKind::Interpolate => "interpolate",
-            MethodKind::Extrapolate => "extrapolate",
-            MethodKind::PrincipalNoise => "principal-noise",
-            MethodKind::GaussianNoise => "gaussian-noise",
-        }
+    /// Whether the method reads `param`.
+    pub fn reads_param(self, param: Param) -> bool {
+        self.reads().contains(&param)
     }
 
     /// Whether the method needs same-class neighbours (so a one-row class cannot grow).
     pub fn uses_neighbours(self) -> bool {
-        matches!(self, MethodKind::Interpolate | MethodKind::Extrapolate)
+        self.reads_param(Param::Neighbours)
     }
+}
 
-    /// The magnitude used when the user gives none.
-    pub fn default_magnitude(self) -> f32 {
-        match self {
-            MethodKind::None | MethodKind::Interpolate => 0.0,
-            MethodKind::Extrapolate | MethodKind::PrincipalNoise => 0.5,
-            MethodKind::GaussianNoise => 0.5,
-        }
+impl Serialize for MethodKind {
+    fn serialize<S: serde::Serializer>(&self, s: S) -> std::result::Result<S::Ok, S::Error> {
+        s.serialize_str(self.name())
     }
 }
 
@@ -100,37 +121,6 @@ impl FromStr for MethodKind {
                     format!("use one of: {}", names.join(", ")),
                 )
             })
-    }
-}
-
-/// Parameters shared by the methods; each method reads the ones it uses.
-#[derive(Debug, Clone, Serialize)]
-pub struct AugmentParams {
-    /// K nearest same-class neighbours for interpolate/extrapolate (default 5).
-    pub neighbours: usize,
-    /// λ for extrapolate, the noise scale for the noise methods; `None` means the method's default.
-    pub magnitude: Option<f32>,
-    /// Share of class variance the principal-noise directions must explain (default 0.95).
-    pub variance_kept: f64,
-    /// Neighbour metric for the neighbour methods (default euclidean, as in SMOTE).
-    pub metric: Metric,
-    /// Refuse (instead of skipping with a warning) classes a method cannot grow.
-    pub strict: bool,
-    /// How same-class neighbours are found: exact (default) or the approximate k-d tree,
-    /// worth it only for very large classes.
-    pub index: IndexKind,
-}
-
-impl Default for AugmentParams {
-    fn default() -> Self {
-        AugmentParams {
-            neighbours: 5,
-            magnitude: None,
-            variance_kept: 0.95,
-            metric: Metric::Euclidean,
-            strict: false,
-            index: IndexKind::Exact,
-        }
     }
 }
 
@@ -176,61 +166,10 @@ pub trait FittedAugmenter: Send + Sync {
     fn notes(&self) -> &[FitNote];
 }
 
-/// A validated augmenter for `kind`.
-///
-/// Only the parameters the method reads are checked: K for the neighbour methods, the
-/// magnitude for extrapolate and the noise methods (extrapolate needs λ > 0, since λ = 0 would
-/// only copy rows), and the kept variance for principal-noise.
+/// A validated augmenter for `kind`, configured from the shared values: the method checks
+/// only the parameters it reads (see each method's `ParamGuard` impl).
 pub fn build(kind: MethodKind, params: &AugmentParams) -> Result<Box<dyn Augmenter>> {
-    if kind.uses_neighbours() && params.neighbours == 0 {
-        return Err(Error::param(
-            "neighbours",
-            "K must be at least 1",
-            "use 1 or more same-class neighbours (SMOTE's usual K is 5)",
-        ));
-    }
-    let magnitude = params.magnitude.unwrap_or(kind.default_magnitude());
-    let uses_magnitude = matches!(
-        kind,
-        MethodKind::Extrapolate | MethodKind::PrincipalNoise | MethodKind::GaussianNoise
-    );
-    if uses_magnitude && !(magnitude.is_finite() && magnitude >= 0.0) {
-        return Err(Error::param(
-            "magnitude",
-            format!("{magnitude} is not a finite number >= 0"),
-            format!(
-                "give a finite magnitude, e.g. the default {}",
-                kind.default_magnitude()
-            ),
-        ));
-    }
-    if kind == MethodKind::Extrapolate && magnitude <= 0.0 {
-        return Err(Error::param(
-            "magnitude",
-            "extrapolate needs λ > 0 (λ = 0 only copies real rows)",
-            "give a positive λ, e.g. the default 0.5",
-        ));
-    }
-    if kind == MethodKind::PrincipalNoise
-        && !(params.variance_kept > 0.0 && params.variance_kept <= 1.0)
-    {
-        return Err(Error::param(
-            "variance-kept",
-            format!("{} is not in (0, 1]", params.variance_kept),
-            "give the share of class variance to keep, e.g. 0.95",
-        ));
-    }
-    Ok(match kind {
-        MethodKind::None => Box::new(none::NoAugment),
-        MethodKind::Interpolate => Box::new(interpolate::Interpolate::new(params)),
-        MethodKind::Extrapolate => Box::new(extrapolate::Extrapolate::new(params, magnitude)),
-        MethodKind::PrincipalNoise => {
-            Box::new(principal_noise::PrincipalNoise::new(params, magnitude))
-        }
-        MethodKind::GaussianNoise => {
-            Box::new(gaussian_noise::GaussianNoise::new(params, magnitude))
-        }
-    })
+    kind.build(params)
 }
 
 /// Refuse synthetic rows holding NaN or ±Inf (e.g. an overflow from a huge magnitude on large

@@ -3,15 +3,42 @@
 
 use ndarray::Array2;
 
+use super::params::{AugmentParams, MethodParams, Param, ParamGuard};
 use super::{Augmenter, FitNote, FittedAugmenter, MethodKind, Synthetic};
 use crate::data::Dataset;
-use crate::error::Result;
+use crate::error::{Error, Result};
 use crate::seed::Rng;
 
-/// The no-op method.
-pub(super) struct NoAugment;
+/// The baseline has no parameters, so its check always passes.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct NoneParams(NoneValidParams);
 
-impl Augmenter for NoAugment {
+/// The (empty) parameters of the baseline.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct NoneValidParams;
+
+impl ParamGuard for NoneParams {
+    type Checked = NoneValidParams;
+    type Error = Error;
+
+    fn check_ref(&self) -> Result<&NoneValidParams> {
+        Ok(&self.0)
+    }
+
+    fn check(self) -> Result<NoneValidParams> {
+        Ok(self.0)
+    }
+}
+
+impl MethodParams for NoneParams {
+    const READS: &'static [Param] = &[];
+
+    fn from_shared(_shared: &AugmentParams) -> Self {
+        NoneParams::default()
+    }
+}
+
+impl Augmenter for NoneValidParams {
     fn kind(&self) -> MethodKind {
         MethodKind::None
     }

@@ -26,7 +26,7 @@ impl FromStr for Target {
     fn from_str(s: &str) -> Result<Self> {
         let bad = || {
             Error::param(
-                "--target",
+                "target",
                 format!("'{s}' is not a target"),
                 "use largest, median, a count such as 200, or a factor such as x2",
             )
@@ -117,7 +117,7 @@ impl Plan {
     }
 }
 
-/// Class indices for the values of `--classes`; an unknown name is an error listing the
+/// Class indices for the given class names; an unknown name is an error listing the
 /// classes. Each value is one class name when it names a class exactly (so a name holding a
 /// comma can be given), else a comma-separated list of names.
 pub fn class_indices(names: &[String], ds: &crate::data::Dataset) -> Result<Vec<u32>> {
@@ -130,12 +130,9 @@ pub fn class_indices(names: &[String], ds: &crate::data::Dataset) -> Result<Vec<
         for n in given.split(',') {
             out.push(ds.class_index(n).ok_or_else(|| {
                 Error::param(
-                    "--classes",
+                    "classes",
                     format!("no class named '{n}'"),
-                    format!(
-                        "the classes are: {} (repeat --classes to give a name holding a comma)",
-                        ds.classes.join(", ")
-                    ),
+                    format!("the classes are: {}", ds.classes.join(", ")),
                 )
             })?);
         }
@@ -143,7 +140,7 @@ pub fn class_indices(names: &[String], ds: &crate::data::Dataset) -> Result<Vec<
     Ok(out)
 }
 
-/// The growth plan for a whole dataset: `target` for the classes named in `--classes` (all
+/// The growth plan for a whole dataset: `target` for the classes named in `classes` (all
 /// classes when none are named).
 pub fn plan_for(
     ds: &crate::data::Dataset,

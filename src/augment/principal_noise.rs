@@ -10,31 +10,94 @@ use rand::Rng as _;
 use rand_distr::StandardNormal;
 
 use super::class_fit::{ClassFit, PerClass};
-use super::{
-    AugmentParams, Augmenter, FitNote, FittedAugmenter, MethodKind, Provenance, Synthetic,
-    check_finite,
-};
+use super::params::{AugmentParams, MethodParams, Param, ParamGuard, check_magnitude};
+use super::{Augmenter, FitNote, FittedAugmenter, MethodKind, Provenance, Synthetic, check_finite};
 use crate::data::Dataset;
-use crate::error::Result;
+use crate::error::{Error, Result};
 use crate::pca::Pca;
 use crate::seed::Rng;
 
-/// Configured principal-direction noise.
-pub(super) struct PrincipalNoise {
+/// The noise scale when none is given.
+const DEFAULT_MAGNITUDE: f32 = 0.5;
+/// The share of class variance kept when none is given.
+pub(super) const DEFAULT_VARIANCE_KEPT: f64 = 0.95;
+
+/// Unchecked principal-noise parameters; [`ParamGuard::check`] gives the valid ones.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct PrincipalNoiseParams(PrincipalNoiseValidParams);
+
+/// Principal-noise parameters that passed their check: a finite magnitude ≥ 0 and a kept
+/// variance in (0, 1].
+#[derive(Debug, Clone, PartialEq)]
+pub struct PrincipalNoiseValidParams {
     magnitude: f32,
     variance_kept: f64,
     strict: bool,
 }
 
-impl PrincipalNoise {
-    pub(super) fn new(params: &AugmentParams, magnitude: f32) -> Self {
-        PrincipalNoise {
-            magnitude,
-            variance_kept: params.variance_kept,
-            strict: params.strict,
+impl Default for PrincipalNoiseValidParams {
+    fn default() -> Self {
+        PrincipalNoiseValidParams {
+            magnitude: DEFAULT_MAGNITUDE,
+            variance_kept: DEFAULT_VARIANCE_KEPT,
+            strict: false,
         }
     }
+}
 
+impl PrincipalNoiseParams {
+    pub fn magnitude(mut self, magnitude: f32) -> Self {
+        self.0.magnitude = magnitude;
+        self
+    }
+
+    pub fn variance_kept(mut self, variance_kept: f64) -> Self {
+        self.0.variance_kept = variance_kept;
+        self
+    }
+
+    pub fn strict(mut self, strict: bool) -> Self {
+        self.0.strict = strict;
+        self
+    }
+}
+
+impl ParamGuard for PrincipalNoiseParams {
+    type Checked = PrincipalNoiseValidParams;
+    type Error = Error;
+
+    fn check_ref(&self) -> Result<&PrincipalNoiseValidParams> {
+        check_magnitude(self.0.magnitude, DEFAULT_MAGNITUDE)?;
+        let v = self.0.variance_kept;
+        if !(v > 0.0 && v <= 1.0) {
+            return Err(Error::param(
+                Param::VarianceKept.name(),
+                format!("{v} is not in (0, 1]"),
+                format!("give the share of class variance to keep, e.g. {DEFAULT_VARIANCE_KEPT}"),
+            ));
+        }
+        Ok(&self.0)
+    }
+
+    fn check(self) -> Result<PrincipalNoiseValidParams> {
+        self.check_ref()?;
+        Ok(self.0)
+    }
+}
+
+impl MethodParams for PrincipalNoiseParams {
+    const READS: &'static [Param] = &[Param::Magnitude, Param::VarianceKept, Param::Strict];
+    const DEFAULT_MAGNITUDE: Option<f32> = Some(DEFAULT_MAGNITUDE);
+
+    fn from_shared(shared: &AugmentParams) -> Self {
+        PrincipalNoiseParams::default()
+            .magnitude(shared.magnitude.unwrap_or(DEFAULT_MAGNITUDE))
+            .variance_kept(shared.variance_kept)
+            .strict(shared.strict)
+    }
+}
+
+impl PrincipalNoiseValidParams {
     fn fit_class(&self, train: &Dataset, rows: &[usize]) -> Result<ClassFit<ClassDirections>> {
         if rows.len() < 2 {
             return Ok(ClassFit::Skip(
@@ -79,7 +142,7 @@ struct ClassDirections {
     scaled: Array2<f64>,
 }
 
-impl Augmenter for PrincipalNoise {
+impl Augmenter for PrincipalNoiseValidParams {
     fn kind(&self) -> MethodKind {
         MethodKind::PrincipalNoise
     }

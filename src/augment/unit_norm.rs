@@ -37,7 +37,7 @@ impl FromStr for UnitNorm {
             "on" => Ok(UnitNorm::On),
             "off" => Ok(UnitNorm::Off),
             _ => Err(Error::param(
-                "--unit-norm",
+                "unit-norm",
                 format!("'{s}' is not a choice"),
                 "use auto, on or off",
             )),

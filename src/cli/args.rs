@@ -5,7 +5,7 @@ use std::path::PathBuf;
 
 use clap::Args;
 
-use embloom::augment::{AugmentParams, MethodKind, Target, UnitNorm};
+use embloom::augment::{AugmentParams, MethodKind, Param, Target, UnitNorm};
 use embloom::io::ReadOptions;
 use embloom::neighbors::{IndexKind, Metric};
 
@@ -59,24 +59,23 @@ pub struct MethodArgs {
     /// a class exactly is taken whole, so a name holding a comma can be given).
     #[arg(long, action = clap::ArgAction::Append, value_name = "A,B")]
     pub classes: Option<Vec<String>>,
-    /// K nearest same-class neighbours for interpolate/extrapolate.
-    #[arg(long, default_value_t = 5, value_name = "K")]
+    #[arg(long, default_value_t = AugmentParams::default().neighbours, value_name = "K",
+          help = param_help(Param::Neighbours, "K nearest same-class neighbours"))]
     pub neighbours: usize,
-    /// λ for extrapolate, noise scale for principal-noise and gaussian-noise (default 0.5).
-    #[arg(long, value_name = "X")]
+    #[arg(long, value_name = "X",
+          help = param_help(Param::Magnitude, "λ of extrapolate, noise scale of the noise methods"))]
     pub magnitude: Option<f32>,
-    /// Share of a class's variance the principal-noise directions must explain.
-    #[arg(long, default_value_t = 0.95, value_name = "FRAC")]
+    #[arg(long, default_value_t = AugmentParams::default().variance_kept, value_name = "FRAC",
+          help = param_help(Param::VarianceKept, "Share of a class's variance the principal directions must explain"))]
     pub variance_kept: f64,
-    /// Metric for same-class neighbours.
-    #[arg(long, default_value = "euclidean", value_parser = parse_metric)]
+    #[arg(long, default_value = "euclidean", value_parser = parse_metric,
+          help = param_help(Param::NeighbourMetric, "Metric for same-class neighbours"))]
     pub neighbour_metric: Metric,
     /// Renormalise synthetic rows to unit norm: auto (when the input rows are), on, off.
     #[arg(long, default_value = "auto", value_parser = parse_unit_norm)]
     pub unit_norm: UnitNorm,
-    /// Same-class neighbour search: exact, or kdtree (approximate: a k-d tree over the leading
-    /// principal components, for very large classes).
-    #[arg(long, default_value = "exact", value_parser = parse_index)]
+    #[arg(long, default_value = "exact", value_parser = parse_index,
+          help = param_help(Param::NeighbourIndex, "Same-class neighbour search: exact, or kdtree (approximate: a k-d tree over the leading principal components, for very large classes)"))]
     pub neighbour_index: IndexKind,
     /// Make classes a method cannot grow (e.g. a single row) an error instead of a warning.
     #[arg(long)]
@@ -99,18 +98,114 @@ impl MethodArgs {
     }
 }
 
+/// The flag spelling of each library parameter name the command line sets, and what the
+/// binary adds to the library's fix (the library knows nothing of flags, so a fix that needs
+/// one is completed here).
+const FLAGS: &[(&str, &str, &str)] = &[
+    ("target", "--target", ""),
+    (
+        "classes",
+        "--classes",
+        "repeat --classes to give a name holding a comma",
+    ),
+    ("neighbours", "--neighbours", ""),
+    ("magnitude", "--magnitude", ""),
+    ("variance-kept", "--variance-kept", ""),
+    ("neighbour-metric", "--neighbour-metric", ""),
+    ("neighbour-index", "--neighbour-index", ""),
+    ("strict", "--strict", ""),
+    ("unit-norm", "--unit-norm", ""),
+    ("probes", "--probes", ""),
+    ("folds", "--folds", ""),
+    ("repeats", "--repeats", ""),
+    ("max-memory", "--max-memory", ""),
+    ("k", "--knn-k", ""),
+    ("temperature", "--knn-temperature", ""),
+    ("l2", "--linear-l2", ""),
+    ("max_iter", "--linear-max-iter", ""),
+];
+
+/// A library error as the command line prints it: parameters by their flags, a memory limit
+/// the user gave by `--max-memory`, and fixes completed with the flag to use.
+pub fn error_text(e: &embloom::Error) -> String {
+    use embloom::error::{Limit, LimitSource};
+    match e {
+        embloom::Error::Param { name, detail, fix } => {
+            let (flag, extra) = FLAGS
+                .iter()
+                .find(|(n, ..)| n == name)
+                .map_or((name.as_str(), ""), |(_, f, x)| (*f, *x));
+            let fix = if extra.is_empty() {
+                fix.clone()
+            } else {
+                format!("{fix} ({extra})")
+            };
+            format!("invalid {flag}: {detail}\n  fix: {fix}")
+        }
+        embloom::Error::Resource {
+            what,
+            resource,
+            needed,
+            limit:
+                Limit {
+                    source: LimitSource::Given,
+                    bytes,
+                },
+            fix,
+            ..
+        } => format!(
+            "{what} would need about {needed} of {resource}, more than --max-memory ({})\n  fix: {fix}",
+            embloom::memory::human(*bytes)
+        ),
+        other => other.to_string(),
+    }
+}
+
+/// The binary's text for a failed command: [`error_text`] for a library error on its own,
+/// anyhow's chain otherwise.
+pub fn failure_text(err: &anyhow::Error) -> String {
+    match err.downcast_ref::<embloom::Error>() {
+        Some(e) if err.chain().count() == 1 => error_text(e),
+        _ => format!("{err:#}"),
+    }
+}
+
 pub fn parse_size(s: &str) -> Result<u64, String> {
-    embloom::memory::parse_size(s).map_err(|e| e.to_string())
+    embloom::memory::parse_size(s).map_err(|e| error_text(&e))
 }
 
 pub fn parse_target(s: &str) -> Result<Target, String> {
-    s.parse().map_err(|e: embloom::Error| e.to_string())
+    s.parse().map_err(|e: embloom::Error| error_text(&e))
 }
+/// The help of a shared method parameter's flag: `what`, then the methods whose params read
+/// it (from the registry, so a new method shows up without editing this file), with their
+/// default magnitudes.
+fn param_help(param: Param, what: &str) -> String {
+    let users: Vec<String> = MethodKind::ALL
+        .into_iter()
+        .filter(|m| m.reads_param(param))
+        .map(|m| match param {
+            Param::Magnitude => format!("{} (default {})", m.name(), m.default_magnitude()),
+            _ => m.name().to_string(),
+        })
+        .collect();
+    format!("{what}; read by {}", users.join(", "))
+}
+
+/// The `--method` help, from the method registry: each method's name and what it does.
+pub fn method_help() -> String {
+    let lines: Vec<_> = MethodKind::ALL
+        .into_iter()
+        .map(|m| format!("{}: {}", m.name(), m.help()))
+        .collect();
+    lines.join("; ")
+}
+
 pub fn parse_method(s: &str) -> Result<MethodKind, String> {
-    s.parse().map_err(|e: embloom::Error| e.to_string())
+    s.parse().map_err(|e: embloom::Error| error_text(&e))
 }
 pub fn parse_unit_norm(s: &str) -> Result<UnitNorm, String> {
-    s.parse().map_err(|e: embloom::Error| e.to_string())
+    s.parse().map_err(|e: embloom::Error| error_text(&e))
 }
 pub fn parse_metric(s: &str) -> Result<Metric, String> {
     match s {

@@ -5,9 +5,9 @@ use std::path::PathBuf;
 use clap::Args;
 use serde::Serialize;
 
-use super::args::{InputArgs, MethodArgs, parse_method, parse_size};
+use super::args::{InputArgs, MethodArgs, method_help, parse_method, parse_size};
 use embloom::augment::{
-    AugmentParams, MethodKind, Plan, Target, UnitNorm, assemble, describe_notes, grow_dataset,
+    AugmentParams, MethodKind, Plan, Target, UnitNorm, assemble, describe_notes_with, grow_dataset,
     plan_for,
 };
 use embloom::error::Result;
@@ -21,8 +21,7 @@ pub struct GrowArgs {
     /// Output file; its extension picks the format (.npz, .csv, .tsv, .safetensors, .h5).
     #[arg(long, short)]
     pub output: PathBuf,
-    /// none, interpolate (SMOTE), extrapolate, principal-noise, gaussian-noise.
-    #[arg(long, value_parser = parse_method)]
+    #[arg(long, value_parser = parse_method, help = method_help())]
     pub method: MethodKind,
     #[command(flatten)]
     pub how: MethodArgs,
@@ -244,7 +243,12 @@ pub fn execute(opts: &GrowOptions) -> Result<GrowSummary> {
             .notes
             .iter()
             .cloned()
-            .chain(describe_notes(&grown.notes, &ds.classes, opts.method))
+            .chain(describe_notes_with(
+                &grown.notes,
+                &ds.classes,
+                opts.method,
+                "--strict",
+            ))
             .collect(),
     })
 }

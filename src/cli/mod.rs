@@ -3,6 +3,7 @@
 //! sentences live here (or in the library's `report` renderers).
 
 mod args;
+pub use args::failure_text;
 mod assess;
 mod demo;
 mod grow;

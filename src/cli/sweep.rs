@@ -45,7 +45,8 @@ pub struct SweepArgs {
 }
 
 fn parse_knob(s: &str) -> std::result::Result<Knob, String> {
-    s.parse().map_err(|e: embloom::Error| e.to_string())
+    s.parse()
+        .map_err(|e: embloom::Error| super::args::error_text(&e))
 }
 
 /// Run `embloom sweep` and print its table (or JSON).

@@ -91,3 +91,69 @@ fn a_huge_linear_l2_advises_a_smaller_one() {
         "{all}"
     );
 }
+
+/// The library names parameters (`classes`, `repeats`, `k`); the binary prints them as the
+/// flags that set them and completes the fix with the flag to use (common practice, no source).
+#[test]
+fn parameter_errors_name_the_flag_that_sets_them() {
+    let dir = common::tempdir();
+    let input = dir.path().join("in.csv");
+    small_csv(&input);
+    let out = dir.path().join("out.csv");
+    let run = |args: &[&str]| {
+        let o = embloom(args, &[]);
+        assert!(!o.status.success());
+        stderr(&o)
+    };
+    let i = input.to_str().unwrap();
+    let o = out.to_str().unwrap();
+    let e = run(&[
+        "grow",
+        i,
+        "-o",
+        o,
+        "--method",
+        "interpolate",
+        "--classes",
+        "c9",
+    ]);
+    assert!(
+        e.contains("invalid --classes: no class named 'c9'")
+            && e.contains("the classes are: c0, c1, c2")
+            && e.contains("repeat --classes"),
+        "{e}"
+    );
+    let e = run(&[
+        "grow",
+        i,
+        "-o",
+        o,
+        "--method",
+        "extrapolate",
+        "--magnitude",
+        "0",
+    ]);
+    assert!(
+        e.contains("invalid --magnitude: extrapolate needs λ > 0"),
+        "{e}"
+    );
+    let e = run(&[
+        "grow",
+        i,
+        "-o",
+        o,
+        "--method",
+        "interpolate",
+        "--neighbours",
+        "0",
+    ]);
+    assert!(
+        e.contains("invalid --neighbours: K must be at least 1"),
+        "{e}"
+    );
+    let e = run(&["assess", i, "--repeats", "0"]);
+    assert!(e.contains("invalid --repeats: must be at least 1"), "{e}");
+    let e = run(&["assess", i, "--knn-k", "0"]);
+    assert!(e.contains("invalid --knn-k:"), "{e}");
+    assert!(!out.exists());
+}

@@ -541,6 +541,61 @@ fn parameters_are_validated() {
     }
 }
 
+/// Each method's own params follow linfa's `ParamGuard`: only checked params configure a
+/// method, and a failed check names the parameter, never a command-line flag.
+#[test]
+fn method_params_are_checked_before_use() {
+    use embloom::augment::{
+        ExtrapolateParams, GaussianNoiseParams, InterpolateParams, MethodParams, NeighbourParams,
+        Param, ParamGuard, PrincipalNoiseParams,
+    };
+    let name_of = |e: Error| match e {
+        Error::Param { name, .. } => name,
+        other => panic!("not a parameter error: {other}"),
+    };
+    // Defaults are the methods' documented ones and pass their own check.
+    assert!(InterpolateParams::default().check().is_ok());
+    assert!(ExtrapolateParams::default().check().is_ok());
+    assert!(GaussianNoiseParams::default().check().is_ok());
+    assert!(PrincipalNoiseParams::default().check().is_ok());
+    let no_k = NeighbourParams {
+        k: 0,
+        ..NeighbourParams::default()
+    };
+    let e = InterpolateParams::default()
+        .neighbours(no_k)
+        .check()
+        .unwrap_err();
+    assert_eq!(name_of(e), "neighbours");
+    let p = ExtrapolateParams::default().lambda(0.0);
+    assert!(p.check_ref().is_err());
+    assert_eq!(name_of(p.check().unwrap_err()), "magnitude");
+    let e = PrincipalNoiseParams::default()
+        .variance_kept(1.5)
+        .check()
+        .unwrap_err();
+    assert_eq!(name_of(e), "variance-kept");
+    let e = GaussianNoiseParams::default()
+        .magnitude(f32::NAN)
+        .check()
+        .unwrap_err();
+    assert!(!e.to_string().contains("--"), "{e}");
+    // What each method reads comes from its params, and the registry reports it.
+    assert_eq!(
+        MethodKind::Interpolate.reads(),
+        <InterpolateParams as MethodParams>::READS
+    );
+    assert!(!MethodKind::Interpolate.reads_param(Param::Magnitude));
+    assert!(MethodKind::Extrapolate.reads_param(Param::Magnitude));
+    assert!(MethodKind::PrincipalNoise.reads_param(Param::VarianceKept));
+    assert!(MethodKind::None.reads().is_empty());
+    // Names are unique, parse back, and every method has help text.
+    for m in MethodKind::ALL {
+        assert_eq!(m.name().parse::<MethodKind>().unwrap(), m);
+        assert!(!m.help().is_empty());
+    }
+}
+
 #[test]
 fn none_adds_nothing() {
     let ds = blobs(&[10, 3], 4, 9);

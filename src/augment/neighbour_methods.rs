@@ -1,0 +1,197 @@
+//! What the neighbour methods (interpolate, extrapolate) share: their parameters (K, metric,
+//! index, strict) and its check, the same-class neighbour lists (for every real row of a class,
+//! its K nearest other rows of that class, by exact search or the approximate k-d tree), the
+//! draw of a (base row, partner) pair, and the fit and sampling loop around it. A neighbour
+//! method only supplies its [`PairRule`]: how a drawn pair becomes one synthetic value.
+
+use ndarray::{Array2, ArrayView1, Axis};
+use rand::Rng as _;
+
+use super::class_fit::{ClassFit, PerClass};
+use super::params::{AugmentParams, Param};
+use super::{FitNote, FittedAugmenter, MethodKind, Provenance, Synthetic, check_finite};
+use crate::data::Dataset;
+use crate::error::{Error, Result};
+use crate::neighbors::{IndexKind, Knn, Metric, knn_within_with};
+use crate::seed::Rng;
+
+/// The parameters every neighbour method reads.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct NeighbourParams {
+    /// K nearest same-class neighbours (SMOTE's usual 5).
+    pub k: usize,
+    /// Euclidean by default, as in SMOTE.
+    pub metric: Metric,
+    pub index: IndexKind,
+    pub strict: bool,
+}
+
+impl Default for NeighbourParams {
+    fn default() -> Self {
+        NeighbourParams {
+            k: 5,
+            metric: Metric::Euclidean,
+            index: IndexKind::Exact,
+            strict: false,
+        }
+    }
+}
+
+impl NeighbourParams {
+    /// The shared parameters a neighbour method reads.
+    pub const READS: [Param; 4] = [
+        Param::Neighbours,
+        Param::NeighbourMetric,
+        Param::NeighbourIndex,
+        Param::Strict,
+    ];
+
+    pub(super) fn from_shared(p: &AugmentParams) -> Self {
+        NeighbourParams {
+            k: p.neighbours,
+            metric: p.metric,
+            index: p.index,
+            strict: p.strict,
+        }
+    }
+
+    pub(super) fn check(&self) -> Result<()> {
+        if self.k == 0 {
+            return Err(Error::param(
+                Param::Neighbours.name(),
+                "K must be at least 1",
+                "use 1 or more same-class neighbours (SMOTE's usual K is 5)",
+            ));
+        }
+        Ok(())
+    }
+}
+
+/// How a neighbour method turns a drawn pair (x, n) into a synthetic row.
+pub(super) trait PairRule: Copy + Send + Sync + 'static {
+    const KIND: MethodKind;
+    /// The row's weight, drawn (if at all) after its pair, so the draw order is fixed.
+    fn weight(&self, rng: &mut Rng) -> f32;
+    /// One coordinate of the synthetic row from x's coordinate `a` and n's `b`.
+    fn combine(w: f32, a: f32, b: f32) -> f32;
+}
+
+/// Fit `rule` with `params` on the classes `classes` of `train`.
+pub(super) fn fit<R: PairRule>(
+    rule: R,
+    params: &NeighbourParams,
+    train: &Dataset,
+    classes: &[u32],
+) -> Result<Box<dyn FittedAugmenter>> {
+    let fit = |c: u32, rows: &[usize]| -> Result<ClassFit<ClassNeighbours>> {
+        ClassNeighbours::fit(train, c, rows, params.k, params.metric, params.index)
+    };
+    let per_class = PerClass::fit(R::KIND, train, classes, params.strict, fit)?;
+    Ok(Box::new(FittedPairs { per_class, rule }))
+}
+
+struct FittedPairs<R> {
+    per_class: PerClass<ClassNeighbours>,
+    rule: R,
+}
+
+impl<R: PairRule> FittedAugmenter for FittedPairs<R> {
+    fn sample(&self, class: u32, n: usize, rng: &mut Rng) -> Result<Synthetic> {
+        let Some(nb) = self.per_class.get(class)? else {
+            return Ok(self.per_class.empty());
+        };
+        let mut x = Array2::<f32>::zeros((n, nb.dims()));
+        let mut provenance = Vec::with_capacity(n);
+        for mut out in x.rows_mut() {
+            let pair = nb.draw(rng);
+            let w = self.rule.weight(rng);
+            for ((o, &a), &b) in out.iter_mut().zip(pair.x).zip(pair.n) {
+                *o = R::combine(w, a, b);
+            }
+            provenance.push(Provenance {
+                parent: pair.parent,
+                partner: Some(pair.partner),
+                weight: w,
+            });
+        }
+        check_finite(R::KIND, class, &x)?;
+        Ok(Synthetic { x, provenance })
+    }
+
+    fn notes(&self) -> &[FitNote] {
+        self.per_class.notes()
+    }
+}
+
+/// One class's rows and their neighbour lists.
+struct ClassNeighbours {
+    /// Train row index of each class row.
+    rows: Vec<usize>,
+    /// The class rows, in `rows` order.
+    x: Array2<f32>,
+    /// Neighbours within `x` (local indices), K per row, never the row itself.
+    knn: Knn,
+}
+
+/// A drawn pair: the base row and one of its K neighbours.
+struct Pair<'a> {
+    pub parent: usize,
+    pub partner: usize,
+    pub x: ArrayView1<'a, f32>,
+    pub n: ArrayView1<'a, f32>,
+}
+
+impl ClassNeighbours {
+    /// Neighbour lists for the class rows `rows` of `train`. A one-row class has no
+    /// neighbour and is skipped; K is reduced to `rows - 1` when the class is that small.
+    fn fit(
+        train: &Dataset,
+        class: u32,
+        rows: &[usize],
+        k: usize,
+        metric: Metric,
+        index: IndexKind,
+    ) -> Result<ClassFit<Self>> {
+        let m = rows.len();
+        if m < 2 {
+            return Ok(ClassFit::Skip(
+                "only one training row, so no same-class neighbour".into(),
+            ));
+        }
+        let used = k.min(m - 1);
+        let note = (used < k).then_some(FitNote::Clamped { class, k: used });
+        let x = train.x.select(Axis(0), rows);
+        let knn = knn_within_with(index, x.view(), used, metric);
+        if knn.k == 0 || knn.n_queries() != m {
+            return Ok(ClassFit::Skip(
+                "the neighbour search returned no neighbours".into(),
+            ));
+        }
+        Ok(ClassFit::Ready {
+            model: ClassNeighbours {
+                rows: rows.to_vec(),
+                x,
+                knn,
+            },
+            note,
+        })
+    }
+
+    /// A base row uniform over the class and a partner uniform among its K neighbours.
+    /// Draw order (base, then partner) is fixed, so a seed always gives the same pairs.
+    fn draw(&self, rng: &mut Rng) -> Pair<'_> {
+        let base = rng.gen_range(0..self.rows.len());
+        let j = rng.gen_range(0..self.knn.k);
+        let other = self.knn.row(base).0[j] as usize;
+        Pair {
+            parent: self.rows[base],
+            partner: self.rows[other],
+            x: self.x.row(base),
+            n: self.x.row(other),
+        }
+    }
+
+    fn dims(&self) -> usize {
+        self.x.ncols()
+    }
+}
