@@ -3,6 +3,7 @@
 
 mod config;
 mod input;
+mod method_id;
 pub mod results;
 mod run;
 mod scatter;
@@ -10,9 +11,10 @@ mod shared_knn;
 mod summary;
 mod sweep;
 
-pub use config::AssessConfig;
+pub use config::{AssessConfig, ResultsConfig};
 pub use input::sha256_of;
+pub use method_id::MethodId;
 pub use results::{AssessResults, InputInfo};
 pub use run::{Progress, assess, assess_observed, assess_with, assess_with_observed};
 pub use summary::{LEVEL, summary_with};
-pub use sweep::{Knob, SweepPoint, SweepResults, sweep};
+pub use sweep::{Knob, SweepPoint, SweepResults, SweepValue, sweep};

@@ -8,11 +8,13 @@ use std::time::Instant;
 use ndarray::Array2;
 
 use super::config::AssessConfig;
+use super::method_id::MethodId;
 use super::results::{AssessResults, DiagnosticRow, FoldRecord, InputInfo, WorkCounters};
 use super::{scatter, shared_knn, summary};
 use crate::augment::{self, Augmenter, Grown, MethodKind, Plan, class_indices, describe_notes};
 use crate::data::{Dataset, RowIndex};
 use crate::error::{Error, Result};
+use crate::eval::Metric;
 use crate::eval::diagnostics::{TrainingRows, class_diagnostics, ratio_distance_name};
 use crate::eval::interval::TestOutcome;
 use crate::eval::metrics::{ece, grown_class_recall, log_loss, score};
@@ -235,8 +237,8 @@ pub fn assess_with_observed(
         }
     }
     warnings.extend(fold_warnings.finish(folds.len()));
-    let methods: Vec<String> = cfg.methods.iter().map(|m| m.name().to_string()).collect();
-    let probes: Vec<String> = cfg.probes.iter().map(|p| p.name().to_string()).collect();
+    let methods: Vec<MethodId> = cfg.methods.iter().map(|&m| m.into()).collect();
+    let probes = cfg.probes.clone();
     let (summary_rows, per_class, sentences) = {
         let agg = summary::Aggregate::new(
             &records,
@@ -254,12 +256,9 @@ pub fn assess_with_observed(
         embloom_version: env!("CARGO_PKG_VERSION").to_string(),
         command_line: String::new(),
         input,
-        config: cfg.to_json(),
+        config: cfg.record(),
         seed: cfg.seed,
-        split: serde_json::to_value(split)
-            .ok()
-            .and_then(|v| v.as_str().map(str::to_string))
-            .unwrap_or_default(),
+        split,
         methods,
         probes,
         grown_classes: grown_anywhere
@@ -324,30 +323,28 @@ impl<'a> FoldContext<'a> {
     ) -> FoldRecord {
         let n_classes = self.train.n_classes();
         let scores = score(&self.test.labels, pred, n_classes);
-        let mut metrics = vec![
-            ("accuracy".to_string(), scores.accuracy),
-            ("balanced_accuracy".to_string(), scores.balanced_accuracy),
-            ("macro_f1".to_string(), scores.macro_f1),
-            (
-                "grown_class_recall".to_string(),
-                grown_class_recall(&scores, &self.grown).unwrap_or(f64::NAN),
-            ),
-        ];
-        if let Some(p) = proba {
-            metrics.push((
-                "log_loss".to_string(),
-                log_loss(&self.test.labels, p.view()),
-            ));
-            metrics.push((
-                "ece".to_string(),
-                ece(&self.test.labels, p.view(), ECE_BINS),
-            ));
-        }
+        let metrics = Metric::ALL
+            .into_iter()
+            .filter_map(|m| {
+                let value = match (m, proba) {
+                    (Metric::Accuracy, _) => scores.accuracy,
+                    (Metric::BalancedAccuracy, _) => scores.balanced_accuracy,
+                    (Metric::MacroF1, _) => scores.macro_f1,
+                    (Metric::GrownClassRecall, _) => {
+                        grown_class_recall(&scores, &self.grown).unwrap_or(f64::NAN)
+                    }
+                    (Metric::LogLoss, Some(p)) => log_loss(&self.test.labels, p.view()),
+                    (Metric::Ece, Some(p)) => ece(&self.test.labels, p.view(), ECE_BINS),
+                    (Metric::LogLoss | Metric::Ece, None) => return None,
+                };
+                Some((m, value))
+            })
+            .collect();
         FoldRecord {
             repeat: self.fold.repeat,
             fold: self.fold.index,
-            method: kind.name().to_string(),
-            probe: probe.name().to_string(),
+            method: kind.into(),
+            probe,
             train_real: self.train.n_rows(),
             train_synthetic: grown.x.nrows(),
             test: self.test.n_rows(),
@@ -382,7 +379,7 @@ impl<'a> FoldContext<'a> {
         );
         rows.into_iter()
             .map(|d| DiagnosticRow {
-                method: kind.name().to_string(),
+                method: kind.into(),
                 class: self.train.classes[d.class as usize].clone(),
                 synthetic_rows: d.synthetic as f64,
                 intrusion_synthetic: d.intrusion_synthetic,

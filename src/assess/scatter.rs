@@ -38,7 +38,7 @@ pub fn class_scatters(
             let synthetic = grown.x.select(Axis(0), &syn_rows);
             let others = nearest_others(train, c, &pca);
             Some(Scatter {
-                method: kind.name().to_string(),
+                method: kind.into(),
                 class: train.classes[c as usize].clone(),
                 real: points(&pca, &real),
                 synthetic: points(&pca, &synthetic),
