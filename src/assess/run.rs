@@ -18,8 +18,8 @@ use crate::eval::Metric;
 use crate::eval::diagnostics::{TrainingRows, class_diagnostics, ratio_distance_name};
 use crate::eval::interval::TestOutcome;
 use crate::eval::metrics::{ece, grown_class_recall, log_loss, score};
-use crate::eval::protocol::{Fold, make_folds};
-use crate::neighbors;
+use crate::eval::protocol::{Fold, SplitKind, make_folds};
+use crate::neighbors::{self, Knn};
 use crate::probe::KnnProbe;
 use crate::probe::ProbeKind;
 use crate::probe::{LinearModel, LinearProbe};
@@ -83,6 +83,53 @@ pub fn assess_with_observed(
     augmenters: &[Box<dyn Augmenter>],
     on_progress: &mut dyn FnMut(Progress),
 ) -> Result<AssessResults> {
+    assess_reusing(
+        ds,
+        cfg,
+        input,
+        augmenters,
+        on_progress,
+        &mut Reuse::default(),
+    )
+}
+
+/// What one assessment leaves for the next on the same data, folds, seed, probes and
+/// `none` (a sweep, which changes only the knob of the other method): the folds, and per fold
+/// the test-to-real neighbours and what `none` predicted. Filled by the first assessment and
+/// read by the rest, so `none` runs once per (repeat, fold, probe).
+#[derive(Default)]
+pub(super) struct Reuse {
+    folds: Option<(SplitKind, Vec<Fold>)>,
+    baselines: Vec<FoldBaseline>,
+}
+
+/// The `none` baseline on one fold.
+struct FoldBaseline {
+    real_knn: Option<Knn>,
+    /// One per probe, in the configuration's order.
+    probes: Vec<Evaluated>,
+}
+
+/// One probe's result on one fold's test rows.
+#[derive(Clone)]
+struct Evaluated {
+    pred: Vec<u32>,
+    /// Log loss and ECE, for a probe that gives probabilities.
+    calibration: Option<(f64, f64)>,
+    converged: Option<bool>,
+    /// The linear probe's model: where the other methods' fits start from.
+    model: Option<LinearModel>,
+}
+
+/// [`assess_with_observed`], reusing (or filling) what an earlier assessment left.
+pub(super) fn assess_reusing(
+    ds: &Dataset,
+    cfg: &AssessConfig,
+    input: InputInfo,
+    augmenters: &[Box<dyn Augmenter>],
+    on_progress: &mut dyn FnMut(Progress),
+    reuse: &mut Reuse,
+) -> Result<AssessResults> {
     let started = Instant::now();
     if augmenters.first().map(|a| a.kind()) != Some(MethodKind::None) {
         return Err(Error::param(
@@ -100,7 +147,11 @@ pub fn assess_with_observed(
             "assess needs at least two classes",
         ));
     }
-    let (split, folds) = make_folds(ds, cfg.folds, cfg.repeats, cfg.seed)?;
+    let (split, folds) = match reuse.folds.take() {
+        Some(made) => made,
+        None => make_folds(ds, cfg.folds, cfg.repeats, cfg.seed)?,
+    };
+    let filling = reuse.baselines.is_empty();
     let only = cfg
         .classes
         .as_ref()
@@ -123,15 +174,24 @@ pub fn assess_with_observed(
     let mut work = WorkCounters::default();
     for (fi, fold) in folds.iter().enumerate() {
         let ctx = FoldContext::new(ds, fold, cfg, only.as_deref());
-        let real_knn = cfg.probes.contains(&ProbeKind::Knn).then(|| {
-            work.test_real_knn_passes += 1;
-            neighbors::knn(ctx.test.view(), ctx.train.view(), cfg.knn.k, cfg.knn.metric)
-        });
+        let reused = if filling {
+            None
+        } else {
+            reuse.baselines.get(fi)
+        };
+        let real_knn = match reused {
+            Some(b) => b.real_knn.clone(),
+            None => cfg.probes.contains(&ProbeKind::Knn).then(|| {
+                work.test_real_knn_passes += 1;
+                neighbors::knn(ctx.test.view(), ctx.train.view(), cfg.knn.k, cfg.knn.metric)
+            }),
+        };
         let guard = LeakGuard::new(&ctx.train, &ctx.test);
         let diagnosed = cfg
             .diagnostics
             .then(|| TrainingRows::new(ctx.train.view(), &ctx.train.labels, cfg.knn.metric));
         let mut baseline_linear: Option<LinearModel> = None;
+        let mut baseline = Vec::new();
         for augmenter in augmenters {
             let kind = augmenter.kind();
             on_progress(Progress {
@@ -156,9 +216,13 @@ pub fn assess_with_observed(
                 .chain(&grown.labels)
                 .copied()
                 .collect();
-            for &probe in &cfg.probes {
-                let (pred, proba, converged) = match probe {
-                    ProbeKind::Knn => {
+            for (pi, &probe) in cfg.probes.iter().enumerate() {
+                let cached = reused
+                    .filter(|_| kind == MethodKind::None)
+                    .and_then(|b| b.probes.get(pi));
+                let evaluated = match (cached, probe) {
+                    (Some(e), _) => e.clone(),
+                    (None, ProbeKind::Knn) => {
                         work.test_synthetic_knn_passes += usize::from(grown.x.nrows() > 0);
                         let synthetic = neighbors::knn(
                             ctx.test.view(),
@@ -175,13 +239,18 @@ pub fn assess_with_observed(
                             ctx.train.n_rows() as u32,
                             cfg.knn.k,
                         );
-                        (
-                            knn_probe.predict_from_neighbours(&merged, &labels, ds.n_classes()),
-                            None,
-                            None,
-                        )
+                        Evaluated {
+                            pred: knn_probe.predict_from_neighbours(
+                                &merged,
+                                &labels,
+                                ds.n_classes(),
+                            ),
+                            calibration: None,
+                            converged: None,
+                            model: None,
+                        }
                     }
-                    ProbeKind::Linear => {
+                    (None, ProbeKind::Linear) => {
                         work.linear_fits += 1;
                         work.linear_warm_starts += usize::from(baseline_linear.is_some());
                         let model = linear_probe.fit_parts(
@@ -190,37 +259,31 @@ pub fn assess_with_observed(
                             ds.n_classes(),
                             baseline_linear.as_ref(),
                         )?;
-                        if !model.converged {
-                            // A larger λ helps an ill-conditioned fit; past 1 the penalty
-                            // swamps the loss and its scale breaks the solver, so go back down.
-                            let advice = if cfg.linear.l2 > 1.0 {
-                                format!(
-                                    "--linear-l2 {:e} is very large; try a smaller one (default 1e-4) or a larger --linear-max-iter",
-                                    cfg.linear.l2
-                                )
-                            } else {
-                                "try a larger --linear-l2 or --linear-max-iter".to_string()
-                            };
-                            fold_warnings.add(
-                                format!(
-                                    "the linear probe did not converge for {} within {} iterations; {advice}",
-                                    kind.name(),
-                                    cfg.linear.max_iter
-                                ),
-                                fold,
-                            );
-                        }
                         let proba = model.predict_proba(ctx.test.view());
-                        let pred = model.predict(ctx.test.view());
-                        let converged = model.converged;
                         work.linear_iterations_total += model.iterations;
-                        if kind == MethodKind::None {
-                            baseline_linear = Some(model);
+                        Evaluated {
+                            pred: model.predict(ctx.test.view()),
+                            calibration: Some((
+                                log_loss(&ctx.test.labels, proba.view()),
+                                ece(&ctx.test.labels, proba.view(), ECE_BINS),
+                            )),
+                            converged: Some(model.converged),
+                            model: Some(model),
                         }
-                        (pred, Some(proba), Some(converged))
                     }
                 };
-                records.push(ctx.record(kind, probe, &grown, &pred, proba.as_ref(), converged));
+                if evaluated.converged == Some(false) {
+                    fold_warnings.add(not_converged(kind, cfg), fold);
+                }
+                records.push(ctx.record(kind, probe, &grown, &evaluated));
+                if kind == MethodKind::None {
+                    if let Some(model) = &evaluated.model {
+                        baseline_linear = Some(model.clone());
+                    }
+                    if filling {
+                        baseline.push(evaluated);
+                    }
+                }
             }
             if let Some(train_rows) = &diagnosed
                 && kind != MethodKind::None
@@ -235,8 +298,15 @@ pub fn assess_with_observed(
             }
             done += 1;
         }
+        if filling {
+            reuse.baselines.push(FoldBaseline {
+                real_knn,
+                probes: baseline,
+            });
+        }
     }
     warnings.extend(fold_warnings.finish(folds.len()));
+    reuse.folds = Some((split, folds));
     let methods: Vec<MethodId> = cfg.methods.iter().map(|&m| m.into()).collect();
     let probes = cfg.probes.clone();
     let (summary_rows, per_class, sentences) = {
@@ -275,6 +345,25 @@ pub fn assess_with_observed(
         work,
         elapsed_seconds: started.elapsed().as_secs_f64(),
     })
+}
+
+/// Why a linear fit that did not converge may not have, and what to try.
+fn not_converged(kind: MethodKind, cfg: &AssessConfig) -> String {
+    // A larger λ helps an ill-conditioned fit; past 1 the penalty swamps the loss and its
+    // scale breaks the solver, so go back down.
+    let advice = if cfg.linear.l2 > 1.0 {
+        format!(
+            "--linear-l2 {:e} is very large; try a smaller one (default 1e-4) or a larger --linear-max-iter",
+            cfg.linear.l2
+        )
+    } else {
+        "try a larger --linear-l2 or --linear-max-iter".to_string()
+    };
+    format!(
+        "the linear probe did not converge for {} within {} iterations; {advice}",
+        kind.name(),
+        cfg.linear.max_iter
+    )
 }
 
 /// The real training and test rows of one fold and its growth plan.
@@ -317,24 +406,23 @@ impl<'a> FoldContext<'a> {
         kind: MethodKind,
         probe: ProbeKind,
         grown: &Grown,
-        pred: &[u32],
-        proba: Option<&Array2<f64>>,
-        converged: Option<bool>,
+        evaluated: &Evaluated,
     ) -> FoldRecord {
         let n_classes = self.train.n_classes();
+        let pred = &evaluated.pred;
         let scores = score(&self.test.labels, pred, n_classes);
         let metrics = Metric::ALL
             .into_iter()
             .filter_map(|m| {
-                let value = match (m, proba) {
+                let value = match (m, evaluated.calibration) {
                     (Metric::Accuracy, _) => scores.accuracy,
                     (Metric::BalancedAccuracy, _) => scores.balanced_accuracy,
                     (Metric::MacroF1, _) => scores.macro_f1,
                     (Metric::GrownClassRecall, _) => {
                         grown_class_recall(&scores, &self.grown).unwrap_or(f64::NAN)
                     }
-                    (Metric::LogLoss, Some(p)) => log_loss(&self.test.labels, p.view()),
-                    (Metric::Ece, Some(p)) => ece(&self.test.labels, p.view(), ECE_BINS),
+                    (Metric::LogLoss, Some((loss, _))) => loss,
+                    (Metric::Ece, Some((_, ece))) => ece,
                     (Metric::LogLoss | Metric::Ece, None) => return None,
                 };
                 Some((m, value))
@@ -354,7 +442,7 @@ impl<'a> FoldContext<'a> {
                 .iter()
                 .map(|c| if c.support > 0 { c.recall } else { f64::NAN })
                 .collect(),
-            converged,
+            converged: evaluated.converged,
             outcome: TestOutcome {
                 rows: self.fold.test.clone(),
                 labels: self.test.labels.clone(),

@@ -8,8 +8,8 @@ use serde::Serialize;
 
 use super::config::AssessConfig;
 use super::results::InputInfo;
-use super::run::assess;
-use crate::augment::{MethodKind, Target};
+use super::run::{Reuse, assess_reusing};
+use crate::augment::{self, MethodKind, Target};
 use crate::data::Dataset;
 use crate::error::{Error, Result};
 use crate::eval::Metric;
@@ -224,8 +224,15 @@ pub fn sweep(
     let mut points = Vec::new();
     // Each warning once, with the values it arose at.
     let mut warned: Vec<(String, Vec<String>)> = Vec::new();
+    // Every value shares the folds and the `none` baseline: only the method's rows change.
+    let mut reuse = Reuse::default();
     for (i, (value, cfg)) in values.iter().zip(&configs).enumerate() {
-        let r = assess(ds, cfg, input.clone())?;
+        let augmenters = cfg
+            .methods
+            .iter()
+            .map(|&m| augment::build(m, &cfg.augment))
+            .collect::<Result<Vec<_>>>()?;
+        let r = assess_reusing(ds, cfg, input.clone(), &augmenters, &mut |_| {}, &mut reuse)?;
         if i == 0 {
             // Same folds and seed at every value, so the baseline is the same throughout.
             for row in r

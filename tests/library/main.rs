@@ -8,6 +8,7 @@ mod assess_digits;
 mod assess_grown;
 mod assess_intervals;
 mod assess_leakage;
+mod assess_sweep;
 mod augment_methods;
 mod eval_diagnostics;
 mod eval_interval;
