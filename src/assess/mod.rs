@@ -15,6 +15,8 @@ pub use config::{AssessConfig, ResultsConfig};
 pub use input::sha256_of;
 pub use method_id::MethodId;
 pub use results::{AssessResults, InputInfo};
-pub use run::{Progress, assess, assess_observed, assess_with, assess_with_observed};
+pub use run::{
+    Progress, assess, assess_observed, assess_with, assess_with_observed, fold_copies_bytes,
+};
 pub use summary::{LEVEL, summary_with};
 pub use sweep::{Knob, SweepPoint, SweepResults, SweepValue, sweep};

@@ -366,6 +366,12 @@ fn not_converged(kind: MethodKind, cfg: &AssessConfig) -> String {
     )
 }
 
+/// Bytes of one fold's training and test copies of a `rows × dims` matrix (every row is in
+/// one or the other), for the memory estimate.
+pub fn fold_copies_bytes(rows: usize, dims: usize) -> u64 {
+    (rows as u64).saturating_mul(dims as u64).saturating_mul(4)
+}
+
 /// The real training and test rows of one fold and its growth plan.
 struct FoldContext<'a> {
     fold: &'a Fold,

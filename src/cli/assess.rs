@@ -208,15 +208,25 @@ fn check_memory(ds: &embloom::Dataset, config: &AssessConfig, opts: &AssessOptio
     } else {
         0
     };
-    let est = embloom::memory::for_assess(
+    let mut est = embloom::memory::for_assess(
         &opts.input,
         ds.n_rows(),
         ds.dims(),
         synthetic,
         config.folds,
         config.probes.contains(&embloom::probe::ProbeKind::Linear),
-    )
-    .with_fold_records(
+    );
+    if config.probes.contains(&embloom::probe::ProbeKind::Knn) {
+        let test = ds.n_rows() / config.folds.max(2);
+        est = est.with_neighbour_search(
+            test,
+            ds.n_rows() - test,
+            ds.dims(),
+            config.knn.k,
+            rayon::current_num_threads(),
+        );
+    }
+    let est = est.with_fold_records(
         config.repeats.max(1) * config.folds.max(2) * config.methods.len() * config.probes.len(),
         ds.n_classes(),
     );

@@ -126,6 +126,38 @@ fn assess_estimate_matches_measured_peak() {
 }
 
 #[test]
+fn assess_knn_estimate_with_its_neighbour_search_matches_measured_peak() {
+    // The k-NN probe alone: the stages are the matrix, the fold copies, the synthetic rows and
+    // the test-to-real search (its results and per-worker score blocks).
+    let dir = tempfile::tempdir().unwrap();
+    let inp = dir.path().join("in.npz");
+    let counts = [40_000, 16_000, 4_000];
+    let dims = 32;
+    let synthetic = make_set(&inp, &counts, dims);
+    let rows: usize = counts.iter().sum();
+    let (peak, _) = run_peak(&[
+        "--threads",
+        "2",
+        "assess",
+        inp.to_str().unwrap(),
+        "--methods",
+        "interpolate",
+        "--probes",
+        "knn",
+        "--folds",
+        "2",
+        "--target",
+        "largest",
+        "--no-diagnostics",
+        "--quiet",
+    ]);
+    let test = rows / 2;
+    let est = embloom::memory::for_assess(&inp, rows, dims, synthetic, 2, false)
+        .with_neighbour_search(test, rows - test, dims, 10, 2);
+    within_factor("assess knn npz", est.bytes, peak);
+}
+
+#[test]
 fn refuses_above_max_memory_before_growing() {
     let dir = tempfile::tempdir().unwrap();
     let inp = dir.path().join("in.npz");
