@@ -16,6 +16,7 @@ use crate::assess::results::FoldRecord;
 use crate::error::{Error, Result};
 use crate::io::{Format, read_staging_bytes};
 use crate::neighbors::search_peak_bytes;
+use crate::pca::Pca;
 use crate::probe::LinearProbe;
 
 /// Fixed allowance: the binary, thread stacks, allocator arenas, small tables.
@@ -68,6 +69,16 @@ impl Estimate {
     ) -> Estimate {
         let bytes = search_peak_bytes(test, train, dims, k, threads);
         self.parts.push(("neighbour search".into(), bytes));
+        self.bytes += bytes;
+        self
+    }
+
+    /// Add `workers` PCA fits on `rows × dims` at once ([`Pca::fit_peak_bytes`]): the
+    /// principal-noise fits of the grown classes run in parallel, the report's scatter
+    /// projections one at a time.
+    pub fn with_pca(mut self, rows: usize, dims: usize, workers: usize) -> Estimate {
+        let bytes = (workers as u64).saturating_mul(Pca::fit_peak_bytes(rows, dims));
+        self.parts.push(("PCA".into(), bytes));
         self.bytes += bytes;
         self
     }

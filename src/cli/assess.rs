@@ -199,11 +199,7 @@ pub fn thin_class_warning(ds: &embloom::Dataset, folds: usize) -> Option<String>
 /// Refuses before the fold loop when one fold's work would not fit in memory.
 fn check_memory(ds: &embloom::Dataset, config: &AssessConfig, opts: &AssessOptions) -> Result<()> {
     let plan = embloom::augment::plan_for(ds, config.target, config.classes.as_deref())?;
-    let synthetic = if config
-        .methods
-        .iter()
-        .any(|m| *m != embloom::augment::MethodKind::None)
-    {
+    let synthetic = if config.methods.iter().any(|m| *m != MethodKind::None) {
         plan.total()
     } else {
         0
@@ -225,6 +221,25 @@ fn check_memory(ds: &embloom::Dataset, config: &AssessConfig, opts: &AssessOptio
             config.knn.k,
             rayon::current_num_threads(),
         );
+    }
+    // Every method besides none fits a PCA per grown class for the report's scatter, and
+    // principal-noise one per grown class in parallel; the largest grown class bounds them.
+    let grown: Vec<usize> = plan
+        .add
+        .iter()
+        .zip(ds.class_counts())
+        .filter(|(add, _)| **add > 0)
+        .map(|(_, count)| count)
+        .collect();
+    if synthetic > 0
+        && let Some(&largest) = grown.iter().max()
+    {
+        let workers = if config.methods.contains(&MethodKind::PrincipalNoise) {
+            rayon::current_num_threads().min(grown.len())
+        } else {
+            1
+        };
+        est = est.with_pca(largest - largest / config.folds.max(2), ds.dims(), workers);
     }
     let est = est.with_fold_records(
         config.repeats.max(1) * config.folds.max(2) * config.methods.len() * config.probes.len(),
