@@ -5,7 +5,7 @@
 //! fields, the export image) and takes the largest stage; small per-row bookkeeping is folded
 //! into a per-row allowance and a fixed runtime allowance. Each stage's own figure lives
 //! beside the code that allocates it (the reader's staging in `io`, the neighbour search in
-//! `neighbors`, the linear probe in `probe`, fold copies and fold records in `assess`); this
+//! `neighbors`, PCA fits in `pca`, the linear probe in `probe`, fold copies and fold records in `assess`); this
 //! module only adds them up. It is checked against the measured peak (VmHWM) in
 //! tests/cli/hardening_memory.rs.
 
