@@ -101,6 +101,32 @@ pub fn assess_with_observed(
 pub(super) struct Reuse {
     folds: Option<(SplitKind, Vec<Fold>)>,
     baselines: Vec<FoldBaseline>,
+    /// What the shared work depends on, as the first assessment ran it.
+    made_for: Option<ReuseKey>,
+}
+
+/// The settings the folds and the `none` predictions depend on.
+#[derive(Debug, Clone, PartialEq)]
+struct ReuseKey {
+    folds: usize,
+    repeats: usize,
+    seed: u64,
+    probes: Vec<ProbeKind>,
+    knn: crate::probe::KnnParams,
+    linear: crate::probe::LinearParams,
+}
+
+impl ReuseKey {
+    fn of(cfg: &AssessConfig) -> Self {
+        ReuseKey {
+            folds: cfg.folds,
+            repeats: cfg.repeats,
+            seed: cfg.seed,
+            probes: cfg.probes.clone(),
+            knn: cfg.knn,
+            linear: cfg.linear,
+        }
+    }
 }
 
 /// The `none` baseline on one fold.
@@ -146,6 +172,18 @@ pub(super) fn assess_reusing(
             ),
             "assess needs at least two classes",
         ));
+    }
+    let key = ReuseKey::of(cfg);
+    match &reuse.made_for {
+        Some(made) if *made != key => {
+            return Err(Error::param(
+                "sweep",
+                "the values of a sweep changed the folds, the seed or a probe setting, so the baseline cannot be shared",
+                "report this as a bug",
+            ));
+        }
+        Some(_) => {}
+        None => reuse.made_for = Some(key),
     }
     let (split, folds) = match reuse.folds.take() {
         Some(made) => made,
