@@ -3,20 +3,25 @@
 //!
 //! The model counts the large buffers each stage holds at once (matrices of f32, parsed CSV
 //! fields, the export image) and takes the largest stage; small per-row bookkeeping is folded
-//! into a per-row allowance and a fixed runtime allowance. It is checked against the measured
-//! peak (VmHWM) in tests/cli/hardening_memory.rs.
+//! into a per-row allowance and a fixed runtime allowance. Each stage's own figure lives
+//! beside the code that allocates it (the reader's staging in `io`, the neighbour search in
+//! `neighbors`, PCA fits in `pca`, the linear probe in `probe`, fold copies and fold records in `assess`); this
+//! module only adds them up. It is checked against the measured peak (VmHWM) in
+//! tests/cli/hardening_memory.rs.
 
 use std::path::Path;
 
+use crate::assess::fold_copies_bytes;
+use crate::assess::results::FoldRecord;
 use crate::data::FloatType;
 use crate::error::{Error, Limit, LimitSource, Result};
-use crate::io::Format;
+use crate::io::{Format, read_staging_bytes};
+use crate::neighbors::search_peak_bytes;
+use crate::pca::Pca;
+use crate::probe::LinearProbe;
 
 /// Fixed allowance: the binary, thread stacks, allocator arenas, small tables.
 const RUNTIME: u64 = 24 << 20;
-/// Bytes per parsed CSV field while the table is in memory (a `String` header plus its heap
-/// block, which the allocator rounds up to at least 32 bytes).
-const CSV_FIELD: u64 = 56;
 /// Per-row bookkeeping (labels, provenance, origin strings, ids) of an output set.
 const ROW_EXTRA: u64 = 96;
 
@@ -45,14 +50,36 @@ impl Estimate {
     }
 
     /// Add the per-fold records that `assess` keeps until the report is written: one per
-    /// repeat × fold × method × probe, each with a recall per class, and their report text.
-    /// They are the only part that grows with `--repeats`. Measured on 60 rows × 16, 3
-    /// classes, 2 folds: 6.0 MB peak RSS at 1 repeat, 7.4 MB at 50, 36 MB at 1000, about
-    /// 2.5 KiB per record; 2 KiB plus 64 bytes a class (recall in the record, the JSON and
-    /// the CSVs) covers it.
+    /// repeat × fold × method × probe ([`FoldRecord::estimated_bytes`]).
     pub fn with_fold_records(mut self, records: usize, classes: usize) -> Estimate {
-        let bytes = records as u64 * (2048 + 64 * classes as u64);
+        let bytes = (records as u64).saturating_mul(FoldRecord::estimated_bytes(classes));
         self.parts.push(("fold records".into(), bytes));
+        self.bytes += bytes;
+        self
+    }
+
+    /// Add the k-NN probe's search of a fold's `test` rows against its `train` real rows
+    /// ([`search_peak_bytes`]); the search of the synthetic rows is smaller and runs after it.
+    pub fn with_neighbour_search(
+        mut self,
+        test: usize,
+        train: usize,
+        dims: usize,
+        k: usize,
+        threads: usize,
+    ) -> Estimate {
+        let bytes = search_peak_bytes(test, train, dims, k, threads);
+        self.parts.push(("neighbour search".into(), bytes));
+        self.bytes += bytes;
+        self
+    }
+
+    /// Add `workers` PCA fits on `rows × dims` at once ([`Pca::fit_peak_bytes`]): the
+    /// principal-noise fits of the grown classes run in parallel, the report's scatter
+    /// projections one at a time.
+    pub fn with_pca(mut self, rows: usize, dims: usize, workers: usize) -> Estimate {
+        let bytes = (workers as u64).saturating_mul(Pca::fit_peak_bytes(rows, dims));
+        self.parts.push(("PCA".into(), bytes));
         self.bytes += bytes;
         self
     }
@@ -96,26 +123,14 @@ fn kept_f64(rows: usize, dims: usize, stored: FloatType) -> u64 {
 /// Peak while reading `path` (embeddings stored as `stored`) into a `rows × dims` matrix: the
 /// file image or parsed text, the decoded matrix, and for f64 input its kept f64 values.
 pub fn for_read(path: &Path, rows: usize, dims: usize, stored: FloatType) -> Estimate {
-    let file = std::fs::metadata(path).map(|m| m.len()).unwrap_or(0);
-    let x = matrix(rows, dims);
-    let kept = kept_f64(rows, dims, stored);
-    let staging = match Format::of(path) {
-        Ok(Format::Csv) | Ok(Format::Tsv) => {
-            file + (rows as u64 * (dims as u64 + 1)).saturating_mul(CSV_FIELD)
-        }
-        // npy and npz decode into their final buffer a chunk at a time, and HDF5 reads into
-        // one: for f64 input that buffer is the kept values themselves.
-        Ok(Format::Npy) | Ok(Format::Npz) | Ok(Format::Hdf5) if kept > 0 => 0,
-        // npz members are decompressed into memory; the others are read whole. Either way
-        // about one decoded-size image sits beside the matrix.
-        Ok(Format::Hdf5) => x,
-        _ => file.max(x),
-    };
     Estimate::of(vec![
         ("runtime".into(), RUNTIME),
-        ("file image".into(), staging),
-        ("matrix".into(), x),
-        ("f64 values".into(), kept),
+        (
+            "file image".into(),
+            read_staging_bytes(path, rows, dims, stored),
+        ),
+        ("matrix".into(), matrix(rows, dims)),
+        ("f64 values".into(), kept_f64(rows, dims, stored)),
     ])
 }
 
@@ -179,11 +194,15 @@ pub fn for_assess(
     let folds = folds.max(2);
     let train = rows - rows / folds;
     let syn = synthetic - synthetic / folds;
-    let probe = if linear { matrix(train + syn, dims) } else { 0 };
+    let probe = if linear {
+        LinearProbe::fit_peak_bytes(train + syn, dims)
+    } else {
+        0
+    };
     let assess = Estimate::of(vec![
         ("runtime".into(), RUNTIME),
         ("matrix".into(), matrix(rows, dims)),
-        ("fold copies".into(), matrix(rows, dims)),
+        ("fold copies".into(), fold_copies_bytes(rows, dims)),
         ("synthetic rows".into(), matrix(syn, dims)),
         ("linear probe".into(), probe),
     ]);

@@ -29,6 +29,16 @@ pub struct Pca {
 }
 
 impl Pca {
+    /// Peak bytes of [`Pca::fit`] on `rows × dims`, for the memory estimate checked before
+    /// any work: the centred f64 copy, the m × m matrix decomposed (m the smaller side) with
+    /// its eigenvectors and the solver's workspace, and the directions and kept components
+    /// (m × d each).
+    pub fn fit_peak_bytes(rows: usize, dims: usize) -> u64 {
+        let (n, d) = (rows as u64, dims as u64);
+        let m = n.min(d);
+        (n * d + 3 * m * m + 2 * m * d).saturating_mul(8)
+    }
+
     /// Fit on the rows of `x` (n ≥ 2). Keeps every direction with non-negligible variance.
     ///
     /// Each direction's sign is fixed so that its largest-magnitude entry is positive, which

@@ -7,43 +7,14 @@
 //! is free of that, which is why the two are reported side by side.
 
 use std::collections::HashMap;
-use std::fmt;
 use std::path::Path;
 
 use ndarray::{Array2, Axis};
 
-use crate::augment::{Grown, MethodKind, Provenance};
+use super::MethodId;
+use crate::augment::{Grown, Provenance};
 use crate::data::Dataset;
 use crate::error::{Error, Result};
-
-/// What an assessment compares: a method it fits on each fold's training rows, or the
-/// synthetic rows a grown file brought, named by the file's `origin`.
-#[derive(Debug, Clone, PartialEq, Eq)]
-pub enum MethodId {
-    Fitted(MethodKind),
-    FromFile(String),
-}
-
-impl MethodId {
-    /// The name every output shows: the method's own name, or `<origin> (from file)`.
-    pub fn name(&self) -> String {
-        match self {
-            MethodId::Fitted(kind) => kind.name().to_string(),
-            MethodId::FromFile(origin) => format!("{origin} (from file)"),
-        }
-    }
-
-    /// Whether this is the `none` baseline every other method is paired with.
-    pub fn is_baseline(&self) -> bool {
-        *self == MethodId::Fitted(MethodKind::None)
-    }
-}
-
-impl fmt::Display for MethodId {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        f.write_str(&self.name())
-    }
-}
 
 /// The synthetic rows of one `origin` of a grown file. `parent` and `partner` are rows of the
 /// real-row dataset the assessment runs on.
@@ -98,6 +69,11 @@ impl FileRows {
         self.x.nrows()
     }
 
+    /// Each row's class index.
+    pub fn labels(&self) -> &[u32] {
+        &self.labels
+    }
+
     /// Each row's parent, as a row of the data assessed.
     pub fn parents(&self) -> &[usize] {
         &self.parent
@@ -111,7 +87,7 @@ impl FileRows {
     /// Refuses rows that do not fit `ds`: another width, an unknown class, or a parent or
     /// partner past its last row.
     pub(super) fn check_against(&self, ds: &Dataset) -> Result<()> {
-        let name = self.id().name();
+        let name = self.id().to_string();
         if self.x.nrows() > 0 && self.x.ncols() != ds.dims() {
             return Err(Error::data(
                 format!(

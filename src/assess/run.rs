@@ -8,17 +8,19 @@ use std::time::Instant;
 use ndarray::Array2;
 
 use super::config::AssessConfig;
-use super::from_file::{FileRows, MethodId};
+use super::from_file::FileRows;
+use super::method_id::MethodId;
 use super::results::{AssessResults, DiagnosticRow, FoldRecord, InputInfo, WorkCounters};
 use super::{scatter, shared_knn, summary};
 use crate::augment::{self, Augmenter, Grown, MethodKind, Plan, class_indices, describe_notes};
 use crate::data::{Dataset, RowIndex};
 use crate::error::{Error, Result};
+use crate::eval::Metric;
 use crate::eval::diagnostics::{TrainingRows, class_diagnostics, ratio_distance_name};
 use crate::eval::interval::TestOutcome;
 use crate::eval::metrics::{ece, grown_class_recall, log_loss, score};
-use crate::eval::protocol::{Fold, make_folds};
-use crate::neighbors;
+use crate::eval::protocol::{Fold, SplitKind, make_folds};
+use crate::neighbors::{self, Knn};
 use crate::probe::KnnProbe;
 use crate::probe::ProbeKind;
 use crate::probe::{LinearModel, LinearProbe};
@@ -77,7 +79,15 @@ pub fn assess_grown_observed(
         .iter()
         .map(|&m| augment::build(m, &cfg.augment))
         .collect::<Result<Vec<_>>>()?;
-    run(ds, cfg, input, &augmenters, from_file, on_progress)
+    assess_reusing(
+        ds,
+        cfg,
+        input,
+        &augmenters,
+        from_file,
+        on_progress,
+        &mut Reuse::default(),
+    )
 }
 
 /// Assess with augmenters supplied by the caller (the first must be the `none` baseline);
@@ -99,7 +109,15 @@ pub fn assess_with_observed(
     augmenters: &[Box<dyn Augmenter>],
     on_progress: &mut dyn FnMut(Progress),
 ) -> Result<AssessResults> {
-    run(ds, cfg, input, augmenters, &[], on_progress)
+    assess_reusing(
+        ds,
+        cfg,
+        input,
+        augmenters,
+        &[],
+        on_progress,
+        &mut Reuse::default(),
+    )
 }
 
 /// Where a method's synthetic rows of a fold come from.
@@ -113,19 +131,75 @@ enum Arm<'a> {
 impl Arm<'_> {
     fn id(&self) -> MethodId {
         match self {
-            Arm::Fit(a) => MethodId::Fitted(a.kind()),
+            Arm::Fit(a) => MethodId::Kind(a.kind()),
             Arm::File(f) => f.id(),
         }
     }
 }
 
-fn run(
+/// What one assessment leaves for the next on the same data, folds, seed, probes and
+/// `none` (a sweep, which changes only the knob of the other method): the folds, and per fold
+/// the test-to-real neighbours and what `none` predicted. Filled by the first assessment and
+/// read by the rest, so `none` runs once per (repeat, fold, probe).
+#[derive(Default)]
+pub(super) struct Reuse {
+    folds: Option<(SplitKind, Vec<Fold>)>,
+    baselines: Vec<FoldBaseline>,
+    /// What the shared work depends on, as the first assessment ran it.
+    made_for: Option<ReuseKey>,
+}
+
+/// The settings the folds and the `none` predictions depend on.
+#[derive(Debug, Clone, PartialEq)]
+struct ReuseKey {
+    folds: usize,
+    repeats: usize,
+    seed: u64,
+    probes: Vec<ProbeKind>,
+    knn: crate::probe::KnnParams,
+    linear: crate::probe::LinearParams,
+}
+
+impl ReuseKey {
+    fn of(cfg: &AssessConfig) -> Self {
+        ReuseKey {
+            folds: cfg.folds,
+            repeats: cfg.repeats,
+            seed: cfg.seed,
+            probes: cfg.probes.clone(),
+            knn: cfg.knn,
+            linear: cfg.linear,
+        }
+    }
+}
+
+/// The `none` baseline on one fold.
+struct FoldBaseline {
+    real_knn: Option<Knn>,
+    /// One per probe, in the configuration's order.
+    probes: Vec<Evaluated>,
+}
+
+/// One probe's result on one fold's test rows.
+#[derive(Clone)]
+struct Evaluated {
+    pred: Vec<u32>,
+    /// Log loss and ECE, for a probe that gives probabilities.
+    calibration: Option<(f64, f64)>,
+    converged: Option<bool>,
+    /// The linear probe's model: where the other methods' fits start from.
+    model: Option<LinearModel>,
+}
+
+/// [`assess_with_observed`], reusing (or filling) what an earlier assessment left.
+pub(super) fn assess_reusing(
     ds: &Dataset,
     cfg: &AssessConfig,
     input: InputInfo,
     augmenters: &[Box<dyn Augmenter>],
     from_file: &[FileRows],
     on_progress: &mut dyn FnMut(Progress),
+    reuse: &mut Reuse,
 ) -> Result<AssessResults> {
     let started = Instant::now();
     if augmenters.first().map(|a| a.kind()) != Some(MethodKind::None) {
@@ -152,7 +226,28 @@ fn run(
         .map(|a| Arm::Fit(a.as_ref()))
         .chain(from_file.iter().map(Arm::File))
         .collect();
-    let (split, folds) = make_folds(ds, cfg.folds, cfg.repeats, cfg.seed)?;
+    // Classes the file's rows grow, whatever this run's plan says (for diagnostics).
+    let file_classes: BTreeSet<u32> = from_file
+        .iter()
+        .flat_map(|f| f.labels().iter().copied())
+        .collect();
+    let key = ReuseKey::of(cfg);
+    match &reuse.made_for {
+        Some(made) if *made != key => {
+            return Err(Error::param(
+                "sweep",
+                "the values of a sweep changed the folds, the seed or a probe setting, so the baseline cannot be shared",
+                "report this as a bug",
+            ));
+        }
+        Some(_) => {}
+        None => reuse.made_for = Some(key),
+    }
+    let (split, folds) = match reuse.folds.take() {
+        Some(made) => made,
+        None => make_folds(ds, cfg.folds, cfg.repeats, cfg.seed)?,
+    };
+    let filling = reuse.baselines.is_empty();
     let only = cfg
         .classes
         .as_ref()
@@ -175,25 +270,41 @@ fn run(
     let mut work = WorkCounters::default();
     for (fi, fold) in folds.iter().enumerate() {
         let ctx = FoldContext::new(ds, fold, cfg, only.as_deref());
-        let real_knn = cfg.probes.contains(&ProbeKind::Knn).then(|| {
-            work.test_real_knn_passes += 1;
-            neighbors::knn(ctx.test.view(), ctx.train.view(), cfg.knn.k, cfg.knn.metric)
-        });
+        let reused = if filling {
+            None
+        } else {
+            reuse.baselines.get(fi)
+        };
+        let real_knn = match reused {
+            Some(b) => b.real_knn.clone(),
+            None => cfg.probes.contains(&ProbeKind::Knn).then(|| {
+                work.test_real_knn_passes += 1;
+                neighbors::knn(ctx.test.view(), ctx.train.view(), cfg.knn.k, cfg.knn.metric)
+            }),
+        };
         let guard = LeakGuard::new(&ctx.train, &ctx.test);
         // Only the grown classes are diagnosed, so only their rows need a nearest neighbour.
-        let diagnosed = (cfg.diagnostics && !ctx.grown.is_empty()).then(|| {
+        let diagnosed_classes: Vec<u32> = ctx
+            .grown
+            .iter()
+            .copied()
+            .chain(file_classes.iter().copied())
+            .collect::<BTreeSet<u32>>()
+            .into_iter()
+            .collect();
+        let diagnosed = (cfg.diagnostics && !diagnosed_classes.is_empty()).then(|| {
             TrainingRows::for_classes(
                 ctx.train.view(),
                 &ctx.train.labels,
                 cfg.knn.metric,
-                &ctx.grown,
+                &diagnosed_classes,
             )
         });
         let mut baseline_linear: Option<LinearModel> = None;
+        let mut baseline = Vec::new();
         let train_pos = ctx.train_positions(ds.n_rows());
         for arm in &arms {
             let id = arm.id();
-            let name = id.name();
             on_progress(Progress {
                 done,
                 total,
@@ -212,7 +323,7 @@ fn run(
                 }
                 Arm::File(rows) => {
                     let (grown, file_rows) = rows.for_fold(&train_pos);
-                    guard.check_file(&grown.x, &name, &file_rows)?;
+                    guard.check_file(&grown.x, &id, &file_rows)?;
                     grown
                 }
             };
@@ -226,9 +337,13 @@ fn run(
                 .chain(&grown.labels)
                 .copied()
                 .collect();
-            for &probe in &cfg.probes {
-                let (pred, proba, converged) = match probe {
-                    ProbeKind::Knn => {
+            for (pi, &probe) in cfg.probes.iter().enumerate() {
+                let cached = reused
+                    .filter(|_| id.is_baseline())
+                    .and_then(|b| b.probes.get(pi));
+                let evaluated = match (cached, probe) {
+                    (Some(e), _) => e.clone(),
+                    (None, ProbeKind::Knn) => {
                         work.test_synthetic_knn_passes += usize::from(grown.x.nrows() > 0);
                         let synthetic = neighbors::knn(
                             ctx.test.view(),
@@ -245,13 +360,18 @@ fn run(
                             ctx.train.n_rows() as u32,
                             cfg.knn.k,
                         );
-                        (
-                            knn_probe.predict_from_neighbours(&merged, &labels, ds.n_classes()),
-                            None,
-                            None,
-                        )
+                        Evaluated {
+                            pred: knn_probe.predict_from_neighbours(
+                                &merged,
+                                &labels,
+                                ds.n_classes(),
+                            ),
+                            calibration: None,
+                            converged: None,
+                            model: None,
+                        }
                     }
-                    ProbeKind::Linear => {
+                    (None, ProbeKind::Linear) => {
                         work.linear_fits += 1;
                         work.linear_warm_starts += usize::from(baseline_linear.is_some());
                         let model = linear_probe.fit_parts(
@@ -260,63 +380,65 @@ fn run(
                             ds.n_classes(),
                             baseline_linear.as_ref(),
                         )?;
-                        if !model.converged {
-                            // A larger λ helps an ill-conditioned fit; past 1 the penalty
-                            // swamps the loss and its scale breaks the solver, so go back down.
-                            let advice = if cfg.linear.l2 > 1.0 {
-                                format!(
-                                    "--linear-l2 {:e} is very large; try a smaller one (default 1e-4) or a larger --linear-max-iter",
-                                    cfg.linear.l2
-                                )
-                            } else {
-                                "try a larger --linear-l2 or --linear-max-iter".to_string()
-                            };
-                            fold_warnings.add(
-                                format!(
-                                    "the linear probe did not converge for {name} within {} iterations; {advice}",
-                                    cfg.linear.max_iter
-                                ),
-                                fold,
-                            );
-                        }
                         let proba = model.predict_proba(ctx.test.view());
-                        let pred = model.predict(ctx.test.view());
-                        let converged = model.converged;
                         work.linear_iterations_total += model.iterations;
-                        if id.is_baseline() {
-                            baseline_linear = Some(model);
+                        Evaluated {
+                            pred: model.predict(ctx.test.view()),
+                            calibration: Some((
+                                log_loss(&ctx.test.labels, proba.view()),
+                                ece(&ctx.test.labels, proba.view(), ECE_BINS),
+                            )),
+                            converged: Some(model.converged),
+                            model: Some(model),
                         }
-                        (pred, Some(proba), Some(converged))
                     }
                 };
-                records.push(ctx.record(&name, probe, &grown, &pred, proba.as_ref(), converged));
+                if evaluated.converged == Some(false) {
+                    fold_warnings.add(not_converged(&id, cfg), fold);
+                }
+                records.push(ctx.record(&id, probe, &grown, &evaluated));
+                if id.is_baseline() {
+                    if let Some(model) = &evaluated.model {
+                        baseline_linear = Some(model.clone());
+                    }
+                    if filling {
+                        baseline.push(evaluated);
+                    }
+                }
             }
+            // A file's rows need not follow this fold's plan: use the classes they grew.
+            let classes: Vec<u32> = match arm {
+                Arm::Fit(_) => ctx.grown.clone(),
+                Arm::File(_) => grown
+                    .labels
+                    .iter()
+                    .copied()
+                    .collect::<BTreeSet<u32>>()
+                    .into_iter()
+                    .collect(),
+            };
             if let Some(train_rows) = &diagnosed
                 && !id.is_baseline()
                 && grown.x.nrows() > 0
             {
-                diagnostics.extend(ctx.diagnostics(&name, &grown, train_rows));
+                diagnostics.extend(ctx.diagnostics(&id, &grown, train_rows, &classes));
             }
             if fi == 0 && !id.is_baseline() {
-                // A file's rows need not follow this fold's plan: draw the classes they grew.
-                let classes: Vec<u32> = match arm {
-                    Arm::Fit(_) => ctx.grown.clone(),
-                    Arm::File(_) => grown
-                        .labels
-                        .iter()
-                        .copied()
-                        .collect::<BTreeSet<u32>>()
-                        .into_iter()
-                        .collect(),
-                };
-                scatters.extend(scatter::class_scatters(&ctx.train, &grown, &classes, &name));
+                scatters.extend(scatter::class_scatters(&ctx.train, &grown, &classes, &id));
             }
             done += 1;
         }
+        if filling {
+            reuse.baselines.push(FoldBaseline {
+                real_knn,
+                probes: baseline,
+            });
+        }
     }
     warnings.extend(fold_warnings.finish(folds.len()));
-    let methods: Vec<String> = arms.iter().map(|a| a.id().name()).collect();
-    let probes: Vec<String> = cfg.probes.iter().map(|p| p.name().to_string()).collect();
+    reuse.folds = Some((split, folds));
+    let methods: Vec<MethodId> = arms.iter().map(Arm::id).collect();
+    let probes = cfg.probes.clone();
     let (summary_rows, per_class, sentences) = {
         let agg = summary::Aggregate::new(
             &records,
@@ -334,12 +456,9 @@ fn run(
         embloom_version: env!("CARGO_PKG_VERSION").to_string(),
         command_line: String::new(),
         input,
-        config: cfg.to_json(),
+        config: cfg.record(),
         seed: cfg.seed,
-        split: serde_json::to_value(split)
-            .ok()
-            .and_then(|v| v.as_str().map(str::to_string))
-            .unwrap_or_default(),
+        split,
         methods,
         probes,
         grown_classes: grown_anywhere
@@ -356,6 +475,30 @@ fn run(
         work,
         elapsed_seconds: started.elapsed().as_secs_f64(),
     })
+}
+
+/// Why a linear fit that did not converge may not have, and what to try.
+fn not_converged(method: &MethodId, cfg: &AssessConfig) -> String {
+    // A larger λ helps an ill-conditioned fit; past 1 the penalty swamps the loss and its
+    // scale breaks the solver, so go back down.
+    let advice = if cfg.linear.l2 > 1.0 {
+        format!(
+            "--linear-l2 {:e} is very large; try a smaller one (default 1e-4) or a larger --linear-max-iter",
+            cfg.linear.l2
+        )
+    } else {
+        "try a larger --linear-l2 or --linear-max-iter".to_string()
+    };
+    format!(
+        "the linear probe did not converge for {method} within {} iterations; {advice}",
+        cfg.linear.max_iter
+    )
+}
+
+/// Bytes of one fold's training and test copies of a `rows × dims` matrix (every row is in
+/// one or the other), for the memory estimate.
+pub fn fold_copies_bytes(rows: usize, dims: usize) -> u64 {
+    (rows as u64).saturating_mul(dims as u64).saturating_mul(4)
 }
 
 /// The real training and test rows of one fold and its growth plan.
@@ -404,39 +547,36 @@ impl<'a> FoldContext<'a> {
 
     fn record(
         &self,
-        method: &str,
+        method: &MethodId,
         probe: ProbeKind,
         grown: &Grown,
-        pred: &[u32],
-        proba: Option<&Array2<f64>>,
-        converged: Option<bool>,
+        evaluated: &Evaluated,
     ) -> FoldRecord {
         let n_classes = self.train.n_classes();
+        let pred = &evaluated.pred;
         let scores = score(&self.test.labels, pred, n_classes);
-        let mut metrics = vec![
-            ("accuracy".to_string(), scores.accuracy),
-            ("balanced_accuracy".to_string(), scores.balanced_accuracy),
-            ("macro_f1".to_string(), scores.macro_f1),
-            (
-                "grown_class_recall".to_string(),
-                grown_class_recall(&scores, &self.grown).unwrap_or(f64::NAN),
-            ),
-        ];
-        if let Some(p) = proba {
-            metrics.push((
-                "log_loss".to_string(),
-                log_loss(&self.test.labels, p.view()),
-            ));
-            metrics.push((
-                "ece".to_string(),
-                ece(&self.test.labels, p.view(), ECE_BINS),
-            ));
-        }
+        let metrics = Metric::ALL
+            .into_iter()
+            .filter_map(|m| {
+                let value = match (m, evaluated.calibration) {
+                    (Metric::Accuracy, _) => scores.accuracy,
+                    (Metric::BalancedAccuracy, _) => scores.balanced_accuracy,
+                    (Metric::MacroF1, _) => scores.macro_f1,
+                    (Metric::GrownClassRecall, _) => {
+                        grown_class_recall(&scores, &self.grown).unwrap_or(f64::NAN)
+                    }
+                    (Metric::LogLoss, Some((loss, _))) => loss,
+                    (Metric::Ece, Some((_, ece))) => ece,
+                    (Metric::LogLoss | Metric::Ece, None) => return None,
+                };
+                Some((m, value))
+            })
+            .collect();
         FoldRecord {
             repeat: self.fold.repeat,
             fold: self.fold.index,
-            method: method.to_string(),
-            probe: probe.name().to_string(),
+            method: method.clone(),
+            probe,
             train_real: self.train.n_rows(),
             train_synthetic: grown.x.nrows(),
             test: self.test.n_rows(),
@@ -446,7 +586,7 @@ impl<'a> FoldContext<'a> {
                 .iter()
                 .map(|c| if c.support > 0 { c.recall } else { f64::NAN })
                 .collect(),
-            converged,
+            converged: evaluated.converged,
             outcome: TestOutcome {
                 rows: self.fold.test.clone(),
                 labels: self.test.labels.clone(),
@@ -455,18 +595,24 @@ impl<'a> FoldContext<'a> {
         }
     }
 
-    fn diagnostics(&self, method: &str, grown: &Grown, train: &TrainingRows) -> Vec<DiagnosticRow> {
+    fn diagnostics(
+        &self,
+        method: &MethodId,
+        grown: &Grown,
+        train: &TrainingRows,
+        classes: &[u32],
+    ) -> Vec<DiagnosticRow> {
         let rows = class_diagnostics(
             train,
             grown.x.view(),
             &grown.labels,
             self.test.view(),
             &self.test.labels,
-            &self.grown,
+            classes,
         );
         rows.into_iter()
             .map(|d| DiagnosticRow {
-                method: method.to_string(),
+                method: method.clone(),
                 class: self.train.classes[d.class as usize].clone(),
                 synthetic_rows: d.synthetic as f64,
                 intrusion_synthetic: d.intrusion_synthetic,
@@ -521,7 +667,12 @@ impl<'a> LeakGuard<'a> {
 
     /// A file's row that copies a test row although its parent and partner are training rows:
     /// its provenance does not say what it was made from.
-    fn check_file(&self, synthetic: &Array2<f32>, method: &str, file_rows: &[usize]) -> Result<()> {
+    fn check_file(
+        &self,
+        synthetic: &Array2<f32>,
+        method: &MethodId,
+        file_rows: &[usize],
+    ) -> Result<()> {
         match self.first_copy(synthetic) {
             Some(i) => Err(Error::data(
                 format!(

@@ -3,6 +3,7 @@
 
 use ndarray::{Array2, Axis};
 
+use super::MethodId;
 use super::results::Scatter;
 use crate::augment::Grown;
 use crate::data::Dataset;
@@ -23,7 +24,7 @@ pub fn class_scatters(
     train: &Dataset,
     grown: &Grown,
     classes: &[u32],
-    method: &str,
+    method: &MethodId,
 ) -> Vec<Scatter> {
     // Rows of every class found in one pass per side, not one pass per class.
     let real_by = train.rows_by_class(classes);
@@ -50,7 +51,7 @@ pub fn class_scatters(
             let synthetic = grown.x.select(Axis(0), syn_rows);
             let others = nearest_others(train, c, &pca);
             Some(Scatter {
-                method: method.to_string(),
+                method: method.clone(),
                 class: train.classes[c as usize].clone(),
                 real: points(&pca, &real),
                 synthetic: points(&pca, &synthetic),

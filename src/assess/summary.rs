@@ -7,29 +7,24 @@
 //! their intervals come from the chosen [`IntervalKind`]. Log loss and ECE stay fold averages
 //! with the corrected t over folds (they need the per-row probabilities, which are not kept).
 
-use std::collections::{BTreeMap, BTreeSet};
+use std::collections::{BTreeMap, BTreeSet, HashMap};
 
 use rand::RngCore;
 
+use super::method_id::MethodId;
 use super::results::{AssessResults, ClassRow, DiagnosticRow, FoldRecord, SummaryRow};
+use crate::eval::Metric;
 use crate::eval::interval::{
     self, IntervalKind, NoInterval, PairedEstimate, PairedFold, PooledMetric,
 };
 use crate::eval::interval::{ClassCounts, counts_pooled};
 use crate::eval::stats::corrected_paired_t;
+use crate::probe::ProbeKind;
 use crate::rounding::signed;
 use crate::seed;
 
 /// Confidence level of every interval embloom reports.
 pub const LEVEL: f64 = 0.95;
-
-/// The row-pooled metrics of the summary table, in the order the fold records list them.
-const POOLED_NAMES: [&str; 4] = [
-    "accuracy",
-    "balanced_accuracy",
-    "macro_f1",
-    "grown_class_recall",
-];
 
 /// How many figures a mostly-zero warning names before it says how many more.
 const SHOWN_FIGURES: usize = 4;
@@ -48,8 +43,8 @@ struct Compared {
 pub struct Aggregate<'a> {
     by_pair: BTreeMap<(usize, usize), Vec<&'a FoldRecord>>,
     compared: BTreeMap<(usize, usize), Compared>,
-    methods: &'a [String],
-    probes: &'a [String],
+    methods: &'a [MethodId],
+    probes: &'a [ProbeKind],
     classes: &'a [String],
     grown: &'a BTreeSet<u32>,
 }
@@ -57,8 +52,8 @@ pub struct Aggregate<'a> {
 impl<'a> Aggregate<'a> {
     pub fn new(
         records: &'a [FoldRecord],
-        methods: &'a [String],
-        probes: &'a [String],
+        methods: &'a [MethodId],
+        probes: &'a [ProbeKind],
         classes: &'a [String],
         grown: &'a BTreeSet<u32>,
         kind: IntervalKind,
@@ -88,8 +83,8 @@ impl<'a> Aggregate<'a> {
                 seed,
                 &[
                     seed::tag("interval"),
-                    seed::tag(&methods[m]),
-                    seed::tag(&probes[p]),
+                    seed::tag(&methods[m].name()),
+                    seed::tag(probes[p].name()),
                 ],
             )
             .next_u64();
@@ -145,7 +140,7 @@ impl<'a> Aggregate<'a> {
     }
 
     /// Fold-averaged value and corrected-t estimate of a metric kept only per fold.
-    fn fold_level(&self, m: usize, p: usize, name: &str) -> (f64, PairedEstimate) {
+    fn fold_level(&self, m: usize, p: usize, name: Metric) -> (f64, PairedEstimate) {
         let base = self.records(0, p);
         let this = self.records(m, p);
         let vals: Vec<f64> = this
@@ -198,8 +193,8 @@ impl<'a> Aggregate<'a> {
     }
 
     /// The method's value and paired estimate of the summary metric `name`.
-    fn estimate(&self, m: usize, p: usize, name: &str) -> (f64, PairedEstimate) {
-        match POOLED_NAMES.iter().position(|n| *n == name) {
+    fn estimate(&self, m: usize, p: usize, name: Metric) -> (f64, PairedEstimate) {
+        match name.pooled_index() {
             Some(j) => self
                 .pooled(m, p, j)
                 .map(|(v, e)| (v, e.clone()))
@@ -212,18 +207,18 @@ impl<'a> Aggregate<'a> {
     pub fn summary(&self) -> Vec<SummaryRow> {
         let mut rows = Vec::new();
         for p in 0..self.probes.len() {
-            let metric_names: Vec<String> = self
+            let metric_names: Vec<Metric> = self
                 .records(0, p)
                 .first()
-                .map(|r| r.metrics.iter().map(|(n, _)| n.clone()).collect())
+                .map(|r| r.metrics.iter().map(|(n, _)| *n).collect())
                 .unwrap_or_default();
             for m in 0..self.methods.len() {
-                for name in &metric_names {
+                for &name in &metric_names {
                     let (mean, iv) = self.estimate(m, p, name);
                     rows.push(SummaryRow {
                         method: self.methods[m].clone(),
-                        probe: self.probes[p].clone(),
-                        metric: name.clone(),
+                        probe: self.probes[p],
+                        metric: name,
                         mean,
                         delta_mean: iv.delta,
                         delta_ci_low: iv.low,
@@ -246,18 +241,18 @@ impl<'a> Aggregate<'a> {
             for m in 0..self.methods.len() {
                 for (c, name) in self.classes.iter().enumerate() {
                     let (recall, iv) = self
-                        .pooled(m, p, POOLED_NAMES.len() + c)
+                        .pooled(m, p, Metric::POOLED.len() + c)
                         .map(|(v, e)| (v, e.clone()))
                         .unwrap_or_else(|| (f64::NAN, missing()));
                     let value = |j: usize| self.pooled(m, p, j).map_or(f64::NAN, |(v, _)| v);
                     rows.push(ClassRow {
                         method: self.methods[m].clone(),
-                        probe: self.probes[p].clone(),
+                        probe: self.probes[p],
                         class: name.clone(),
                         grown: self.grown.contains(&(c as u32)),
                         recall_mean: recall,
-                        precision_pooled: value(POOLED_NAMES.len() + c_n + c),
-                        f1_pooled: value(POOLED_NAMES.len() + 2 * c_n + c),
+                        precision_pooled: value(Metric::POOLED.len() + c_n + c),
+                        f1_pooled: value(Metric::POOLED.len() + 2 * c_n + c),
                         delta_mean: iv.delta,
                         delta_ci_low: iv.low,
                         delta_ci_high: iv.high,
@@ -279,15 +274,15 @@ impl<'a> Aggregate<'a> {
             if m == 0 {
                 continue;
             }
-            let labels = POOLED_NAMES
+            let labels = Metric::POOLED
                 .iter()
-                .map(|n| n.replace('_', " "))
+                .map(|m| m.words())
                 .chain(self.classes.iter().map(|n| format!("recall of class {n}")));
             // Per class only for the grown classes: a class every probe always gets right has
             // all-zero differences too, and that is no news.
-            let relevant = (0..POOLED_NAMES.len() + self.classes.len()).map(|j| {
-                j < POOLED_NAMES.len() || self.grown.contains(&((j - POOLED_NAMES.len()) as u32))
-            });
+            let pooled = Metric::POOLED.len();
+            let relevant = (0..pooled + self.classes.len())
+                .map(|j| j < pooled || self.grown.contains(&((j - pooled) as u32)));
             // One line per method and probe, however many figures it concerns, so the
             // warning stays readable on sets with many grown classes.
             let mostly_zero: Vec<String> = labels
@@ -321,8 +316,8 @@ impl<'a> Aggregate<'a> {
         let mut out = Vec::new();
         for p in 0..self.probes.len() {
             for m in 1..self.methods.len() {
-                let (_, ba) = self.estimate(m, p, "balanced_accuracy");
-                let (_, gr) = self.estimate(m, p, "grown_class_recall");
+                let (_, ba) = self.estimate(m, p, Metric::BalancedAccuracy);
+                let (_, gr) = self.estimate(m, p, Metric::GrownClassRecall);
                 let mut s = format!(
                     "With the {} probe, {} changed balanced accuracy by {} ({}, {} folds)",
                     self.probes[p],
@@ -354,17 +349,19 @@ impl<'a> Aggregate<'a> {
 /// precision and F1 of each class.
 fn pooled_metrics(n_classes: usize, grown: &BTreeSet<u32>) -> Vec<PooledMetric> {
     let c = 0..n_classes as u32;
-    [
-        PooledMetric::Accuracy,
-        PooledMetric::BalancedAccuracy,
-        PooledMetric::MacroF1,
-        PooledMetric::Recall(grown.iter().copied().collect()),
-    ]
-    .into_iter()
-    .chain(c.clone().map(|c| PooledMetric::Recall(vec![c])))
-    .chain(c.clone().map(PooledMetric::Precision))
-    .chain(c.map(PooledMetric::F1))
-    .collect()
+    Metric::POOLED
+        .into_iter()
+        .filter_map(|m| match m {
+            Metric::Accuracy => Some(PooledMetric::Accuracy),
+            Metric::BalancedAccuracy => Some(PooledMetric::BalancedAccuracy),
+            Metric::MacroF1 => Some(PooledMetric::MacroF1),
+            Metric::GrownClassRecall => Some(PooledMetric::Recall(grown.iter().copied().collect())),
+            Metric::LogLoss | Metric::Ece => None,
+        })
+        .chain(c.clone().map(|c| PooledMetric::Recall(vec![c])))
+        .chain(c.clone().map(PooledMetric::Precision))
+        .chain(c.map(PooledMetric::F1))
+        .collect()
 }
 
 fn missing() -> PairedEstimate {
@@ -399,10 +396,10 @@ fn interval_text(e: &PairedEstimate) -> String {
     }
 }
 
-fn metric(r: &FoldRecord, name: &str) -> f64 {
+fn metric(r: &FoldRecord, name: Metric) -> f64 {
     r.metrics
         .iter()
-        .find(|(n, _)| n == name)
+        .find(|(n, _)| *n == name)
         .map_or(f64::NAN, |(_, v)| *v)
 }
 
@@ -430,7 +427,7 @@ fn verdict(iv: &PairedEstimate) -> &'static str {
 
 /// Diagnostics averaged over folds, per method and class (NaN folds left out of each mean).
 pub fn average_diagnostics(rows: &[DiagnosticRow]) -> Vec<DiagnosticRow> {
-    let mut groups: BTreeMap<(String, String), Vec<&DiagnosticRow>> = BTreeMap::new();
+    let mut groups: HashMap<(MethodId, String), Vec<&DiagnosticRow>> = HashMap::new();
     let mut order = Vec::new();
     for r in rows {
         let key = (r.method.clone(), r.class.clone());

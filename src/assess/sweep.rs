@@ -8,10 +8,12 @@ use serde::Serialize;
 
 use super::config::AssessConfig;
 use super::results::InputInfo;
-use super::run::assess;
-use crate::augment::{MethodKind, Param, Target};
+use super::run::{Reuse, assess_reusing};
+use crate::augment::{self, MethodKind, Param, Target};
 use crate::data::Dataset;
 use crate::error::{Error, Result};
+use crate::eval::Metric;
+use crate::probe::ProbeKind;
 
 /// The knobs a sweep can turn.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
@@ -109,16 +111,45 @@ impl FromStr for Knob {
     }
 }
 
+/// Where on the knob a sweep point sits: the `none` baseline, or a value as given.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum SweepValue {
+    /// The baseline, written `none`: it has no knob.
+    Baseline,
+    /// A knob value as given on the command line.
+    Given(String),
+}
+
+impl SweepValue {
+    /// The value as text: `none` for the baseline.
+    pub fn text(&self) -> &str {
+        match self {
+            SweepValue::Baseline => MethodKind::None.name(),
+            SweepValue::Given(v) => v,
+        }
+    }
+}
+
+impl fmt::Display for SweepValue {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(self.text())
+    }
+}
+
+/// In JSON a number when it reads as one (`0.25`, `5`), else text (`median`, `x2`, `none`).
+impl Serialize for SweepValue {
+    fn serialize<S: serde::Serializer>(&self, s: S) -> std::result::Result<S::Ok, S::Error> {
+        number_or_text(self.text(), s)
+    }
+}
+
 /// One value of the knob, one probe, one metric. The `none` baseline is a point of its own,
 /// with value `none` and no difference.
 #[derive(Debug, Clone, Serialize)]
 pub struct SweepPoint {
-    /// The value as given; in JSON a number when it reads as one (`0.25`, `5`), else text
-    /// (`median`, `x2`, `none`).
-    #[serde(serialize_with = "number_or_text")]
-    pub value: String,
-    pub probe: String,
-    pub metric: String,
+    pub value: SweepValue,
+    pub probe: ProbeKind,
+    pub metric: Metric,
     pub mean: f64,
     pub delta_mean: f64,
     pub delta_ci_low: f64,
@@ -142,15 +173,12 @@ fn number_or_text<S: serde::Serializer>(v: &str, s: S) -> std::result::Result<S:
 pub struct SweepResults {
     pub embloom_version: String,
     pub input: InputInfo,
-    pub method: String,
-    pub knob: String,
+    pub method: MethodKind,
+    pub knob: Knob,
     pub seed: u64,
     pub points: Vec<SweepPoint>,
     pub warnings: Vec<String>,
 }
-
-/// The metrics a sweep reports.
-const METRICS: [&str; 3] = ["balanced_accuracy", "macro_f1", "grown_class_recall"];
 
 /// Assess `method` against `none` at every value of `knob`. `progress` is called after each value.
 pub fn sweep(
@@ -201,17 +229,34 @@ pub fn sweep(
     let mut points = Vec::new();
     // Each warning once, with the values it arose at.
     let mut warned: Vec<(String, Vec<String>)> = Vec::new();
+    // Every value shares the folds and the `none` baseline: only the method's rows change.
+    let mut reuse = Reuse::default();
     for (i, (value, cfg)) in values.iter().zip(&configs).enumerate() {
-        let r = assess(ds, cfg, input.clone())?;
+        let augmenters = cfg
+            .methods
+            .iter()
+            .map(|&m| augment::build(m, &cfg.augment))
+            .collect::<Result<Vec<_>>>()?;
+        let r = assess_reusing(
+            ds,
+            cfg,
+            input.clone(),
+            &augmenters,
+            &[],
+            &mut |_| {},
+            &mut reuse,
+        )?;
         if i == 0 {
             // Same folds and seed at every value, so the baseline is the same throughout.
-            for row in r.summary.iter().filter(|s| {
-                s.method == MethodKind::None.name() && METRICS.contains(&s.metric.as_str())
-            }) {
+            for row in r
+                .summary
+                .iter()
+                .filter(|s| s.method.is_baseline() && Metric::HEADLINE.contains(&s.metric))
+            {
                 points.push(SweepPoint {
-                    value: MethodKind::None.name().to_string(),
-                    probe: row.probe.clone(),
-                    metric: row.metric.clone(),
+                    value: SweepValue::Baseline,
+                    probe: row.probe,
+                    metric: row.metric,
                     mean: row.mean,
                     delta_mean: f64::NAN,
                     delta_ci_low: f64::NAN,
@@ -223,12 +268,12 @@ pub fn sweep(
         for row in r
             .summary
             .iter()
-            .filter(|s| s.method == method.name() && METRICS.contains(&s.metric.as_str()))
+            .filter(|s| s.method == method && Metric::HEADLINE.contains(&s.metric))
         {
             points.push(SweepPoint {
-                value: value.clone(),
-                probe: row.probe.clone(),
-                metric: row.metric.clone(),
+                value: SweepValue::Given(value.clone()),
+                probe: row.probe,
+                metric: row.metric,
                 mean: row.mean,
                 delta_mean: row.delta_mean,
                 delta_ci_low: row.delta_ci_low,
@@ -257,8 +302,8 @@ pub fn sweep(
     Ok(SweepResults {
         embloom_version: env!("CARGO_PKG_VERSION").to_string(),
         input,
-        method: method.name().to_string(),
-        knob: knob.name().to_string(),
+        method,
+        knob,
         seed: base.seed,
         points,
         warnings,

@@ -297,11 +297,7 @@ fn check_memory(
     opts: &AssessOptions,
 ) -> Result<()> {
     let plan = embloom::augment::plan_for(ds, config.target, config.classes.as_deref())?;
-    let fitted = if config
-        .methods
-        .iter()
-        .any(|m| *m != embloom::augment::MethodKind::None)
-    {
+    let fitted = if config.methods.iter().any(|m| *m != MethodKind::None) {
         plan.total()
     } else {
         0
@@ -310,7 +306,7 @@ fn check_memory(
     let from_file: usize = file.methods.iter().map(|m| m.n_rows()).sum();
     let largest_file = file.methods.iter().map(|m| m.n_rows()).max().unwrap_or(0);
     let synthetic = fitted.max(largest_file) + from_file;
-    let est = embloom::memory::for_assess(
+    let mut est = embloom::memory::for_assess(
         &opts.input,
         ds.n_rows(),
         ds.dims(),
@@ -318,8 +314,37 @@ fn check_memory(
         config.folds,
         config.probes.contains(&embloom::probe::ProbeKind::Linear),
         ds.float_type,
-    )
-    .with_fold_records(
+    );
+    if config.probes.contains(&embloom::probe::ProbeKind::Knn) {
+        let test = ds.n_rows() / config.folds.max(2);
+        est = est.with_neighbour_search(
+            test,
+            ds.n_rows() - test,
+            ds.dims(),
+            config.knn.k,
+            rayon::current_num_threads(),
+        );
+    }
+    // Every method besides none fits a PCA per grown class for the report's scatter, and
+    // principal-noise one per grown class in parallel; the largest grown class bounds them.
+    let grown: Vec<usize> = plan
+        .add
+        .iter()
+        .zip(ds.class_counts())
+        .filter(|(add, _)| **add > 0)
+        .map(|(_, count)| count)
+        .collect();
+    if fitted > 0
+        && let Some(&largest) = grown.iter().max()
+    {
+        let workers = if config.methods.contains(&MethodKind::PrincipalNoise) {
+            rayon::current_num_threads().min(grown.len())
+        } else {
+            1
+        };
+        est = est.with_pca(largest - largest / config.folds.max(2), ds.dims(), workers);
+    }
+    let est = est.with_fold_records(
         config.repeats.max(1)
             * config.folds.max(2)
             * (config.methods.len() + file.methods.len())

@@ -8,6 +8,7 @@
 
 pub mod diagnostics;
 pub mod interval;
+pub mod metric;
 pub mod metrics;
 pub mod protocol;
 pub mod stats;
@@ -16,6 +17,7 @@ pub use diagnostics::{ClassDiagnostics, PRDC_K, Prdc, TrainingRows, class_diagno
 pub use interval::{
     IntervalKind, NoInterval, PairedEstimate, PairedFold, PooledMetric, TestOutcome,
 };
+pub use metric::Metric;
 pub use metrics::{ClassScores, Scores, ece, grown_class_recall, log_loss, score};
 pub use protocol::{Fold, SplitKind, make_folds, thin_classes};
 pub use stats::{Interval, corrected_paired_t, t_cdf, t_quantile};

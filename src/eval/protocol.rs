@@ -24,6 +24,23 @@ pub enum SplitKind {
     Given,
 }
 
+impl SplitKind {
+    /// The name in results and reports (the serde spelling).
+    pub fn name(self) -> &'static str {
+        match self {
+            SplitKind::Stratified => "stratified",
+            SplitKind::StratifiedGroup => "stratified-group",
+            SplitKind::Given => "given",
+        }
+    }
+}
+
+impl std::fmt::Display for SplitKind {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(self.name())
+    }
+}
+
 /// One train/test split. `train` and `test` are sorted row indices into the dataset.
 #[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
 pub struct Fold {

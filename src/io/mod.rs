@@ -23,6 +23,7 @@ mod npy;
 mod npz;
 pub mod output_target;
 mod pyliteral;
+mod read_memory;
 mod rename;
 mod safetensors;
 pub mod temporaries;
@@ -36,6 +37,7 @@ use crate::error::{Error, Result};
 pub use atomic::check_target;
 pub use atomic::write_dir_with as write_dir_atomically;
 pub use atomic::write_with as write_atomically;
+pub use read_memory::read_staging_bytes;
 
 /// Where to find each piece of a dataset inside a file.
 #[derive(Debug, Clone)]

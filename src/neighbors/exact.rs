@@ -223,6 +223,22 @@ impl<'a> Prepared<'a> {
     }
 }
 
+/// Peak bytes of one search of `nq` query rows against `nb` base rows of `d` dims on
+/// `threads` workers, for the memory estimate checked before any work: the k results, the
+/// norms each prepared row keeps, and per busy worker one query block's and one base block's
+/// product rows, its score block and its candidate lists.
+pub fn search_peak_bytes(nq: usize, nb: usize, d: usize, k: usize, threads: usize) -> u64 {
+    let (nq, nb, d, k) = (nq as u64, nb as u64, d as u64, k as u64);
+    let results = nq * k * 8;
+    let norms = (nq + nb) * (3 * 8 + 4);
+    let qb = (QUERY_BLOCK as u64).min(nq);
+    let bb = (BASE_BLOCK as u64).min(nb);
+    let cap = k + margin(k as usize) as u64;
+    let per_worker = (qb * d + bb * d + qb * bb) * 4 + qb * cap * 16;
+    let workers = (threads as u64).min(nq.div_ceil(QUERY_BLOCK as u64)).max(1);
+    results + norms + workers * per_worker
+}
+
 /// k nearest rows of `base` for each row of `queries` (both prepared with the same metric).
 /// With `exclude_self`, `queries` and `base` are the same rows and query i never returns
 /// base row i. `k` must already be clamped to the available rows and be ≥ 1.

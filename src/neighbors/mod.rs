@@ -18,6 +18,7 @@ use serde::{Deserialize, Serialize};
 
 use crate::error::{Error, Result};
 
+pub use exact::search_peak_bytes;
 pub use recall::recall_at_k;
 
 /// Distance used for neighbour search.

@@ -36,6 +36,13 @@ impl fmt::Display for ProbeKind {
     }
 }
 
+/// A probe equals its name, so a reader can pick result rows by the name results.json shows.
+impl PartialEq<&str> for ProbeKind {
+    fn eq(&self, other: &&str) -> bool {
+        self.name() == *other
+    }
+}
+
 impl FromStr for ProbeKind {
     type Err = Error;
 

@@ -122,6 +122,17 @@ pub struct LinearProbe {
 }
 
 impl LinearProbe {
+    /// Peak bytes a fit on `rows` training rows of `dims` adds, for the memory estimate
+    /// checked before any work. Counted as one f32 copy of the training rows: the parts are
+    /// read in place and standardised block by block, so this bounds the per-row weights and
+    /// labels, the blocks in flight and the test probabilities (checked against the measured
+    /// peak in tests/cli/hardening_memory.rs).
+    pub fn fit_peak_bytes(rows: usize, dims: usize) -> u64 {
+        (rows as u64).saturating_mul(dims as u64).saturating_mul(4)
+    }
+}
+
+impl LinearProbe {
     /// A probe from parameters that pass [`LinearParams::validate`].
     pub fn new(params: LinearParams) -> Result<Self> {
         params.validate()?;

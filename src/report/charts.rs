@@ -5,8 +5,10 @@
 //! 3. [`scatter_plot`] — one small 2-D projection of a grown class's real and synthetic rows.
 
 use crate::assess::results::{AssessResults, Scatter};
+use crate::eval::Metric;
+use crate::probe::ProbeKind;
 
-use super::figures::{self, MAIN_METRICS, Pair, class_names, compared_pairs, find_summary};
+use super::figures::{self, Pair, class_names, compared_pairs, find_summary};
 use super::svg::{self, Anchor, Area, Estimate, Font, Marker, Scale};
 
 /// Colours per probe (Okabe–Ito palette, distinguishable with colour-vision deficiencies).
@@ -14,11 +16,11 @@ const PROBE_COLOURS: [&str; 6] = [
     "#0072B2", "#D55E00", "#009E73", "#CC79A7", "#E69F00", "#56B4E9",
 ];
 
-fn probe_colour(r: &AssessResults, probe: &str) -> &'static str {
+fn probe_colour(r: &AssessResults, probe: ProbeKind) -> &'static str {
     let i = r
         .probes
         .iter()
-        .position(|p| p == probe)
+        .position(|p| *p == probe)
         .unwrap_or(r.probes.len());
     PROBE_COLOURS[i % PROBE_COLOURS.len()]
 }
@@ -47,14 +49,15 @@ pub fn delta_chart(r: &AssessResults) -> Option<String> {
         .min(260.0)
         + 16.0;
     let plot_h = rows.len() as f64 * ROW_H;
-    let width = label_w + MAIN_METRICS.len() as f64 * (PANEL_W + PANEL_GAP);
+    let width = label_w + Metric::HEADLINE.len() as f64 * (PANEL_W + PANEL_GAP);
     let height = TOP + plot_h + BOTTOM;
 
     let mut out = svg::open(width, height, "Difference against none with 95% intervals");
     // Legend: one entry per probe, plus how to read a mark.
     let mut lx = 8.0;
-    for probe in r.probes.iter() {
-        let (entry, w) = svg::legend_entry(lx, 16.0, Marker::Dot, probe_colour(r, probe), probe);
+    for &probe in r.probes.iter() {
+        let (entry, w) =
+            svg::legend_entry(lx, 16.0, Marker::Dot, probe_colour(r, probe), probe.name());
         out.push_str(&entry);
         lx += w;
     }
@@ -87,11 +90,12 @@ pub fn delta_chart(r: &AssessResults) -> Option<String> {
         ));
     }
 
-    for (m, (metric, label)) in MAIN_METRICS.iter().enumerate() {
+    for (m, &metric) in Metric::HEADLINE.iter().enumerate() {
+        let label = metric.label();
         let x0 = label_w + m as f64 * (PANEL_W + PANEL_GAP);
         let cells: Vec<_> = rows
             .iter()
-            .map(|p| find_summary(r, &p.method, &p.probe, metric))
+            .map(|p| find_summary(r, &p.method, p.probe, metric))
             .collect();
         let (lo, hi) = cells
             .iter()
@@ -127,7 +131,7 @@ pub fn delta_chart(r: &AssessResults) -> Option<String> {
         out.push_str(&svg::zero_line(&scale, TOP, TOP + plot_h));
         for (i, (p, cell)) in rows.iter().zip(&cells).enumerate() {
             let y = TOP + (i as f64 + 0.5) * ROW_H;
-            let colour = probe_colour(r, &p.probe);
+            let colour = probe_colour(r, p.probe);
             let (mean, l, h) = cell
                 .map(|s| (s.delta_mean, s.delta_ci_low, s.delta_ci_high))
                 .unwrap_or((f64::NAN, f64::NAN, f64::NAN));
@@ -172,8 +176,8 @@ pub fn class_heatmap(r: &AssessResults) -> Option<String> {
         + 16.0;
     let cell_w = cols
         .iter()
-        .flat_map(|p| [&p.method, &p.probe])
-        .map(|s| svg::text_width(s, Font::SMALL.size))
+        .flat_map(|p| [p.method.to_string(), p.probe.to_string()])
+        .map(|s| svg::text_width(&s, Font::SMALL.size))
         .fold(56.0, f64::max)
         + 12.0;
     let grid_h = classes.len() as f64 * ROW_H;
@@ -188,7 +192,7 @@ pub fn class_heatmap(r: &AssessResults) -> Option<String> {
     let max_abs = r
         .per_class
         .iter()
-        .filter(|c| c.method != figures::BASELINE)
+        .filter(|c| !c.method.is_baseline())
         .map(|c| c.delta_mean.abs())
         .filter(|v| v.is_finite())
         .fold(0.0f64, f64::max);
@@ -203,14 +207,14 @@ pub fn class_heatmap(r: &AssessResults) -> Option<String> {
             TOP - 22.0,
             Anchor::Middle,
             Font::SMALL,
-            &p.method,
+            &p.method.name(),
         ));
         out.push_str(&svg::text(
             cx,
             TOP - 8.0,
             Anchor::Middle,
             Font::SMALL,
-            &p.probe,
+            p.probe.name(),
         ));
     }
     for (i, class) in classes.iter().enumerate() {

@@ -19,6 +19,7 @@ use std::borrow::Cow;
 
 use crate::assess::SweepResults;
 use crate::assess::results::AssessResults;
+use crate::eval::Metric;
 
 /// `summary.csv`: one row per method × probe × metric.
 pub fn summary_csv(r: &AssessResults) -> String {
@@ -43,9 +44,9 @@ pub fn summary_csv(r: &AssessResults) -> String {
         row(
             &mut out,
             [
-                text(&s.method),
-                text(&s.probe),
-                text(&s.metric),
+                text(&s.method.name()),
+                text(s.probe.name()),
+                text(s.metric.key()),
                 num(s.mean),
                 num(s.delta_mean),
                 num(s.delta_ci_low),
@@ -85,8 +86,8 @@ pub fn per_class_csv(r: &AssessResults) -> String {
         row(
             &mut out,
             [
-                text(&c.method),
-                text(&c.probe),
+                text(&c.method.name()),
+                text(c.probe.name()),
                 text(&c.class),
                 c.grown.to_string().into(),
                 num(c.recall_mean),
@@ -127,7 +128,7 @@ pub fn diagnostics_csv(r: &AssessResults) -> String {
         row(
             &mut out,
             [
-                text(&d.method),
+                text(&d.method.name()),
                 text(&d.class),
                 num(d.synthetic_rows),
                 num(d.intrusion_synthetic),
@@ -147,11 +148,11 @@ pub fn diagnostics_csv(r: &AssessResults) -> String {
 /// first-seen order; empty where a record lacks it, e.g. `log_loss` for the k-NN probe), then
 /// one `recall:<class>` column per class.
 pub fn folds_csv(r: &AssessResults) -> String {
-    let mut metrics: Vec<&str> = Vec::new();
+    let mut metrics: Vec<Metric> = Vec::new();
     for f in &r.folds {
         for (name, _) in &f.metrics {
-            if !metrics.contains(&name.as_str()) {
-                metrics.push(name);
+            if !metrics.contains(name) {
+                metrics.push(*name);
             }
         }
     }
@@ -183,16 +184,17 @@ pub fn folds_csv(r: &AssessResults) -> String {
     .map(Cow::from)
     .into_iter()
     .collect();
-    header.extend(metrics.iter().map(|m| Cow::from(*m)));
+    header.extend(metrics.iter().map(|m| Cow::from(m.key())));
     header.extend((0..n_recall).map(recall_header));
     row(&mut out, header);
 
     for f in &r.folds {
+        let method = f.method.name();
         let mut fields: Vec<Cow<str>> = vec![
             f.repeat.to_string().into(),
             f.fold.to_string().into(),
-            text(&f.method),
-            text(&f.probe),
+            text(&method),
+            text(f.probe.name()),
             f.train_real.to_string().into(),
             f.train_synthetic.to_string().into(),
             f.test.to_string().into(),
@@ -239,15 +241,15 @@ pub fn sweep_csv(r: &SweepResults) -> String {
         row(
             &mut out,
             [
-                text(&r.knob),
+                text(r.knob.name()),
                 // A knob value is a number or a method name; a number stays a number.
-                if p.value.parse::<f64>().is_ok() {
-                    Cow::from(p.value.as_str())
+                if p.value.text().parse::<f64>().is_ok() {
+                    Cow::from(p.value.text())
                 } else {
-                    text(&p.value)
+                    text(p.value.text())
                 },
-                text(&p.probe),
-                text(&p.metric),
+                text(p.probe.name()),
+                text(p.metric.key()),
                 num(p.mean),
                 num(p.delta_mean),
                 num(p.delta_ci_low),

@@ -1,17 +1,10 @@
 //! How a figure reads as text, and which method × probe rows a report shows. Shared by the
 //! terminal table and the HTML page so both put the same numbers in the same order.
 
+use crate::assess::MethodId;
 use crate::assess::results::{AssessResults, SummaryRow};
-
-/// The baseline every delta is measured against; its rows show only the mean.
-pub const BASELINE: &str = "none";
-
-/// The three headline metrics: (name in the results, label for people).
-pub const MAIN_METRICS: [(&str, &str); 3] = [
-    ("balanced_accuracy", "balanced accuracy"),
-    ("macro_f1", "macro-F1"),
-    ("grown_class_recall", "grown-class recall"),
-];
+use crate::eval::Metric;
+use crate::probe::ProbeKind;
 
 pub use crate::rounding::{MISSING, signed, value};
 
@@ -20,7 +13,7 @@ pub use crate::rounding::{MISSING, signed, value};
 pub fn summary_cell(row: Option<&SummaryRow>) -> String {
     match row {
         None => MISSING.to_string(),
-        Some(s) if s.method == BASELINE => value(s.mean),
+        Some(s) if s.method.is_baseline() => value(s.mean),
         Some(s) if s.delta_mean.is_finite() && s.no_interval.is_some() => format!(
             "{} (Δ {} {})",
             value(s.mean),
@@ -49,25 +42,25 @@ pub fn interval_cell(mean: f64, delta: f64, low: f64, high: f64) -> String {
 /// The summary row for one method, probe and metric, if the assessment produced it.
 pub fn find_summary<'a>(
     r: &'a AssessResults,
-    method: &str,
-    probe: &str,
-    metric: &str,
+    method: &MethodId,
+    probe: ProbeKind,
+    metric: Metric,
 ) -> Option<&'a SummaryRow> {
     r.summary
         .iter()
-        .find(|s| s.method == method && s.probe == probe && s.metric == metric)
+        .find(|s| s.method == *method && s.probe == probe && s.metric == metric)
 }
 
 /// A method × probe combination as the report lists it.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct Pair {
-    pub method: String,
-    pub probe: String,
+    pub method: MethodId,
+    pub probe: ProbeKind,
 }
 
 impl Pair {
     pub fn is_baseline(&self) -> bool {
-        self.method == BASELINE
+        self.method.is_baseline()
     }
 }
 
@@ -76,24 +69,24 @@ impl Pair {
 /// assessment measured is silently dropped.
 pub fn pairs(r: &AssessResults) -> Vec<Pair> {
     let mut out: Vec<Pair> = Vec::new();
-    let mut push = |method: &str, probe: &str| {
-        if !out.iter().any(|p| p.method == method && p.probe == probe) {
+    let mut push = |method: &MethodId, probe: ProbeKind| {
+        if !out.iter().any(|p| p.method == *method && p.probe == probe) {
             out.push(Pair {
-                method: method.to_string(),
-                probe: probe.to_string(),
+                method: method.clone(),
+                probe,
             });
         }
     };
-    for probe in &r.probes {
+    for &probe in &r.probes {
         for method in &r.methods {
             push(method, probe);
         }
     }
     for s in &r.summary {
-        push(&s.method, &s.probe);
+        push(&s.method, s.probe);
     }
     for c in &r.per_class {
-        push(&c.method, &c.probe);
+        push(&c.method, c.probe);
     }
     out
 }

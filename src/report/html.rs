@@ -5,11 +5,12 @@
 use std::fmt::Write;
 
 use crate::assess::results::{AssessResults, DiagnosticRow};
+use crate::eval::Metric;
 
 use super::CAUTION;
 use super::charts;
 use super::escape::escape;
-use super::figures::{self, MAIN_METRICS, find_summary, pairs, summary_cell};
+use super::figures::{self, find_summary, pairs, summary_cell};
 
 const STYLE: &str = "
 body { font-family: system-ui, -apple-system, 'Segoe UI', sans-serif; color: #222; margin: 0 auto;
@@ -109,10 +110,10 @@ fn header(out: &mut String, r: &AssessResults) {
             classes.join(" · ")
         ),
     );
-    item("methods", escape(&r.methods.join(", ")));
-    item("probes", escape(&r.probes.join(", ")));
+    item("methods", escape(&joined(&r.methods)));
+    item("probes", escape(&joined(&r.probes)));
     item("seed", r.seed.to_string());
-    item("split", escape(&r.split));
+    item("split", escape(r.split.name()));
     item("embloom version", escape(&r.embloom_version));
     if !r.command_line.is_empty() {
         item(
@@ -133,6 +134,15 @@ fn header(out: &mut String, r: &AssessResults) {
     );
 }
 
+/// Names as a comma-separated list.
+fn joined<T: std::fmt::Display>(items: &[T]) -> String {
+    items
+        .iter()
+        .map(|i| i.to_string())
+        .collect::<Vec<_>>()
+        .join(", ")
+}
+
 fn summary_table(out: &mut String, r: &AssessResults) {
     out.push_str("<section id=\"summary\">\n<h2>Summary</h2>\n");
     let folds = r.summary.iter().map(|s| s.folds).max().unwrap_or(0);
@@ -143,19 +153,19 @@ fn summary_table(out: &mut String, r: &AssessResults) {
          interval excludes zero (blue up, red down). Hover a cell for its p-value.</p>"
     );
     out.push_str("<table>\n<thead><tr><th>probe</th><th>method</th>");
-    for (_, label) in MAIN_METRICS {
-        let _ = write!(out, "<th>{label}</th>");
+    for metric in Metric::HEADLINE {
+        let _ = write!(out, "<th>{}</th>", metric.label());
     }
     out.push_str("</tr></thead>\n<tbody>\n");
     for p in pairs(r) {
         let _ = write!(
             out,
             "<tr><td>{}</td><td>{}</td>",
-            escape(&p.probe),
-            escape(&p.method)
+            escape(p.probe.name()),
+            escape(&p.method.name())
         );
-        for (metric, _) in MAIN_METRICS {
-            let row = find_summary(r, &p.method, &p.probe, metric);
+        for metric in Metric::HEADLINE {
+            let row = find_summary(r, &p.method, p.probe, metric);
             let class = match row {
                 Some(s) if !p.is_baseline() && s.delta_ci_low > 0.0 => "num up",
                 Some(s) if !p.is_baseline() && s.delta_ci_high < 0.0 => "num down",
@@ -328,7 +338,7 @@ fn diagnostics_section(out: &mut String, r: &AssessResults) {
             let _ = write!(
                 out,
                 "<tr><td class=\"name\">{}</td><td class=\"name\">{}</td>",
-                escape(&d.method),
+                escape(&d.method.name()),
                 escape(&d.class)
             );
             for (_, _, cell) in columns {

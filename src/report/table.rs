@@ -2,11 +2,13 @@
 //! headline metric, then the plain sentences, the warnings and the caution. No colour codes,
 //! so it reads the same in a terminal, a log file or a pasted issue.
 
-use crate::assess::SweepResults;
 use crate::assess::results::AssessResults;
+use crate::assess::{MethodId, SweepResults, SweepValue};
+use crate::eval::Metric;
+use crate::probe::ProbeKind;
 
 use super::CAUTION;
-use super::figures::{self, MAIN_METRICS, find_summary, pairs, summary_cell};
+use super::figures::{self, find_summary, pairs, summary_cell};
 
 /// Lines are kept within this many columns; metric columns that do not fit move to a second
 /// table that repeats the row labels.
@@ -24,7 +26,7 @@ pub fn terminal_table(r: &AssessResults) -> String {
         &format!(
             "Δ is the mean paired difference against `{}` over {folds} folds, with its 95% \
              interval in brackets.",
-            figures::BASELINE
+            MethodId::BASELINE
         ),
         MAX_WIDTH,
         "",
@@ -35,15 +37,15 @@ pub fn terminal_table(r: &AssessResults) -> String {
     let label_header = ["probe", "method"];
     let labels: Vec<[String; 2]> = rows
         .iter()
-        .map(|p| [p.probe.clone(), p.method.clone()])
+        .map(|p| [p.probe.to_string(), p.method.to_string()])
         .collect();
-    let metric_cols: Vec<Column> = MAIN_METRICS
+    let metric_cols: Vec<Column> = Metric::HEADLINE
         .iter()
-        .map(|(name, label)| Column {
-            header: (*label).to_string(),
+        .map(|&metric| Column {
+            header: metric.label().to_string(),
             cells: rows
                 .iter()
-                .map(|p| summary_cell(find_summary(r, &p.method, &p.probe, name)))
+                .map(|p| summary_cell(find_summary(r, &p.method, p.probe, metric)))
                 .collect(),
         })
         .collect();
@@ -87,16 +89,16 @@ pub fn sweep_table(r: &SweepResults) -> String {
             r.method,
             r.knob,
             r.seed,
-            figures::BASELINE
+            MethodId::BASELINE
         ),
         MAX_WIDTH,
         "",
     );
     out.push('\n');
-    let mut keys: Vec<(&str, &str)> = Vec::new();
+    let mut keys: Vec<(&SweepValue, ProbeKind)> = Vec::new();
     for p in &r.points {
-        if !keys.contains(&(p.value.as_str(), p.probe.as_str())) {
-            keys.push((p.value.as_str(), p.probe.as_str()));
+        if !keys.contains(&(&p.value, p.probe)) {
+            keys.push((&p.value, p.probe));
         }
     }
     let mut cols = vec![
@@ -109,21 +111,17 @@ pub fn sweep_table(r: &SweepResults) -> String {
             cells: keys.iter().map(|k| k.1.to_string()).collect(),
         },
     ];
-    for name in ["balanced_accuracy", "grown_class_recall"] {
-        let header = MAIN_METRICS
-            .iter()
-            .find(|(n, _)| *n == name)
-            .map_or(name, |(_, l)| *l);
+    for metric in [Metric::BalancedAccuracy, Metric::GrownClassRecall] {
         cols.push(Column {
-            header: header.to_string(),
+            header: metric.label().to_string(),
             cells: keys
                 .iter()
                 .map(|&(value, probe)| {
                     r.points
                         .iter()
-                        .find(|p| p.value == value && p.probe == probe && p.metric == name)
+                        .find(|p| p.value == *value && p.probe == probe && p.metric == metric)
                         .map_or(figures::MISSING.to_string(), |p| {
-                            if p.value == figures::BASELINE {
+                            if p.value == SweepValue::Baseline {
                                 return crate::rounding::value(p.mean);
                             }
                             figures::interval_cell(

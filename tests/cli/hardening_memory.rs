@@ -152,6 +152,71 @@ fn assess_estimate_matches_measured_peak() {
 }
 
 #[test]
+fn assess_knn_estimate_with_its_neighbour_search_matches_measured_peak() {
+    // The k-NN probe alone: the stages are the matrix, the fold copies, the synthetic rows and
+    // the test-to-real search (its results and per-worker score blocks).
+    let dir = tempfile::tempdir().unwrap();
+    let inp = dir.path().join("in.npz");
+    let counts = [40_000, 16_000, 4_000];
+    let dims = 32;
+    let synthetic = make_set(&inp, &counts, dims, FloatType::F32);
+    let rows: usize = counts.iter().sum();
+    let (peak, _) = run_peak(&[
+        "--threads",
+        "2",
+        "assess",
+        inp.to_str().unwrap(),
+        "--methods",
+        "interpolate",
+        "--probes",
+        "knn",
+        "--folds",
+        "2",
+        "--target",
+        "largest",
+        "--no-diagnostics",
+        "--quiet",
+    ]);
+    let test = rows / 2;
+    let est = embloom::memory::for_assess(&inp, rows, dims, synthetic, 2, false, FloatType::F32)
+        .with_neighbour_search(test, rows - test, dims, 10, 2);
+    within_factor("assess knn npz", est.bytes, peak);
+}
+
+#[test]
+fn assess_principal_noise_estimate_with_its_pca_matches_measured_peak() {
+    // Wide rows, so the per-class PCA fits (two grown classes, in parallel on two threads)
+    // weigh as much as the matrix.
+    let dir = tempfile::tempdir().unwrap();
+    let inp = dir.path().join("in.npz");
+    let counts = [6_000, 3_000, 1_500];
+    let dims = 200;
+    let synthetic = make_set(&inp, &counts, dims, FloatType::F32);
+    let rows: usize = counts.iter().sum();
+    let (peak, _) = run_peak(&[
+        "--threads",
+        "2",
+        "assess",
+        inp.to_str().unwrap(),
+        "--methods",
+        "principal-noise",
+        "--probes",
+        "linear",
+        "--folds",
+        "2",
+        "--target",
+        "largest",
+        "--linear-max-iter",
+        "20",
+        "--no-diagnostics",
+        "--quiet",
+    ]);
+    let est = embloom::memory::for_assess(&inp, rows, dims, synthetic, 2, true, FloatType::F32)
+        .with_pca(3_000 - 3_000 / 2, dims, 2);
+    within_factor("assess principal-noise npz", est.bytes, peak);
+}
+
+#[test]
 fn refuses_above_max_memory_before_growing() {
     let dir = tempfile::tempdir().unwrap();
     let inp = dir.path().join("in.npz");

@@ -283,7 +283,7 @@ fn a_grown_file_is_split_by_origin_and_its_indices_name_real_rows() {
     )
     .unwrap();
     assert_eq!(file.real.n_rows(), 4);
-    let names: Vec<String> = file.methods.iter().map(|m| m.id().name()).collect();
+    let names: Vec<String> = file.methods.iter().map(|m| m.id().to_string()).collect();
     assert_eq!(
         names,
         ["interpolate (from file)", "gaussian-noise (from file)"]

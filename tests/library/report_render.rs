@@ -8,6 +8,10 @@
 use embloom::assess::results::{
     AssessResults, ClassRow, DiagnosticRow, FoldRecord, InputInfo, Scatter, SummaryRow,
 };
+use embloom::assess::{AssessConfig, MethodId, ResultsConfig};
+use embloom::augment::{AugmentParams, MethodKind, Target, UnitNorm};
+use embloom::eval::{IntervalKind, Metric, SplitKind};
+use embloom::probe::{KnnParams, LinearParams, ProbeKind};
 use embloom::report::{
     CAUTION, diagnostics_csv, folds_csv, html_report, per_class_csv, summary_csv, terminal_table,
     write_report_dir,
@@ -30,6 +34,25 @@ fn wiggle(i: usize) -> f64 {
     ((i as f64) * 1.618_034).sin()
 }
 
+/// A configuration as run, with markup in a class name the page must escape.
+fn config() -> ResultsConfig {
+    ResultsConfig::of(&AssessConfig {
+        methods: vec![MethodKind::None, MethodKind::Interpolate],
+        probes: vec![ProbeKind::Knn],
+        folds: 5,
+        repeats: 1,
+        target: Target::Median,
+        classes: Some(vec!["<script>".into()]),
+        augment: AugmentParams::default(),
+        unit_norm: UnitNorm::Auto,
+        knn: KnnParams::default(),
+        linear: LinearParams::default(),
+        interval: IntervalKind::default(),
+        seed: 7,
+        diagnostics: true,
+    })
+}
+
 /// Invented test data (see the module comment).
 fn results() -> AssessResults {
     let mut folds = Vec::new();
@@ -40,13 +63,13 @@ fn results() -> AssessResults {
         for probe in PROBES {
             for fold in 0..5 {
                 k += 1;
-                let mut metrics: Vec<(String, f64)> = METRICS
+                let mut metrics: Vec<(Metric, f64)> = METRICS
                     .iter()
-                    .map(|m| (m.to_string(), 0.7 + 0.05 * wiggle(k + m.len())))
+                    .map(|m| (m.parse().unwrap(), 0.7 + 0.05 * wiggle(k + m.len())))
                     .collect();
                 if probe == "linear" {
-                    metrics.push(("log_loss".into(), 0.6 + 0.1 * wiggle(k)));
-                    metrics.push(("ece".into(), 0.04));
+                    metrics.push((Metric::LogLoss, 0.6 + 0.1 * wiggle(k)));
+                    metrics.push((Metric::Ece, 0.04));
                 }
                 let mut class_recall: Vec<f64> = (0..CLASSES.len())
                     .map(|c| 0.6 + 0.2 * wiggle(k * 7 + c))
@@ -57,8 +80,8 @@ fn results() -> AssessResults {
                 folds.push(FoldRecord {
                     repeat: 0,
                     fold,
-                    method: method.to_string(),
-                    probe: probe.to_string(),
+                    method: method.parse().unwrap(),
+                    probe: probe.parse().unwrap(),
                     train_real: 400,
                     train_synthetic: if mi == 0 { 0 } else { 120 },
                     test: 100,
@@ -73,9 +96,9 @@ fn results() -> AssessResults {
                 let base = mi == 0;
                 let d = if base { 0.0 } else { 0.03 * wiggle(k) + 0.01 };
                 summary.push(SummaryRow {
-                    method: method.to_string(),
-                    probe: probe.to_string(),
-                    metric: metric.to_string(),
+                    method: method.parse().unwrap(),
+                    probe: probe.parse().unwrap(),
+                    metric: metric.parse().unwrap(),
                     mean: 0.7 + 0.02 * j as f64 + d,
                     delta_mean: d,
                     delta_ci_low: if base { 0.0 } else { d - 0.02 },
@@ -97,8 +120,8 @@ fn results() -> AssessResults {
                     -0.03 + 0.02 * wiggle(k)
                 };
                 per_class.push(ClassRow {
-                    method: method.to_string(),
-                    probe: probe.to_string(),
+                    method: method.parse().unwrap(),
+                    probe: probe.parse().unwrap(),
                     class: class.to_string(),
                     grown,
                     recall_mean: 0.6 + 0.05 * c as f64 + d,
@@ -148,7 +171,7 @@ fn results() -> AssessResults {
     for (mi, method) in METHODS.iter().enumerate().skip(1) {
         for (gi, class) in GROWN.iter().enumerate() {
             diagnostics.push(DiagnosticRow {
-                method: method.to_string(),
+                method: method.parse().unwrap(),
                 class: class.to_string(),
                 synthetic_rows: 60.0,
                 intrusion_synthetic: 0.05 * mi as f64,
@@ -173,7 +196,7 @@ fn results() -> AssessResults {
                 .collect();
             synthetic.push([f32::NAN, 0.0]); // must be skipped, not drawn
             scatter.push(Scatter {
-                method: method.to_string(),
+                method: method.parse().unwrap(),
                 class: class.to_string(),
                 real: (0..30).map(|i| pt(i, 0.0, 1.0)).collect(),
                 synthetic,
@@ -193,11 +216,11 @@ fn results() -> AssessResults {
             classes: CLASSES.iter().map(|c| c.to_string()).collect(),
             class_counts: vec![250, 40, 30, 180],
         },
-        config: serde_json::json!({"target": "median", "k": 5, "note": "<script>"}),
+        config: config(),
         seed: 7,
-        split: "stratified".into(),
-        methods: METHODS.iter().map(|m| m.to_string()).collect(),
-        probes: PROBES.iter().map(|p| p.to_string()).collect(),
+        split: SplitKind::Stratified,
+        methods: METHODS.iter().map(|m| m.parse().unwrap()).collect(),
+        probes: PROBES.iter().map(|p| p.parse().unwrap()).collect(),
         grown_classes: GROWN.iter().map(|c| c.to_string()).collect(),
         folds,
         summary,
@@ -563,7 +586,7 @@ fn empty_results_render_without_panicking() {
     // An assessment that produced no rows at all (e.g. only `none` and no folds) must still
     // give a readable table, header-only CSVs and a valid page (common practice, no source).
     let mut r = results();
-    r.methods = vec!["none".into()];
+    r.methods = vec![MethodId::BASELINE];
     r.folds.clear();
     r.summary.clear();
     r.per_class.clear();

@@ -1,0 +1,125 @@
+//! Which method a result row belongs to. Not just [`MethodKind`]: an assessment can also
+//! score synthetic rows that were grown earlier and read back from a file, and those must
+//! stay apart from the same method run live, in every table and in the JSON.
+
+use std::borrow::Cow;
+use std::fmt;
+use std::str::FromStr;
+
+use serde::{Serialize, Serializer};
+
+use crate::augment::MethodKind;
+use crate::error::Error;
+
+/// The suffix that marks a method whose rows came from a grown file.
+const FROM_FILE: &str = " (from file)";
+
+/// A method as results name it.
+#[derive(Debug, Clone, PartialEq, Eq, Hash)]
+pub enum MethodId {
+    /// A method embloom ran on each fold.
+    Kind(MethodKind),
+    /// Synthetic rows read from a grown file, by the method name the file records; shown as
+    /// `interpolate (from file)`.
+    FromFile(String),
+}
+
+impl MethodId {
+    /// The `none` baseline every difference is measured against.
+    pub const BASELINE: MethodId = MethodId::Kind(MethodKind::None);
+
+    /// The name in results.json, the CSV tables and the report.
+    pub fn name(&self) -> Cow<'_, str> {
+        match self {
+            MethodId::Kind(k) => Cow::Borrowed(k.name()),
+            MethodId::FromFile(m) => Cow::Owned(format!("{m}{FROM_FILE}")),
+        }
+    }
+
+    pub fn is_baseline(&self) -> bool {
+        *self == MethodId::BASELINE
+    }
+
+    /// The method embloom runs, when it runs one.
+    pub fn kind(&self) -> Option<MethodKind> {
+        match self {
+            MethodId::Kind(k) => Some(*k),
+            MethodId::FromFile(_) => None,
+        }
+    }
+}
+
+impl From<MethodKind> for MethodId {
+    fn from(k: MethodKind) -> Self {
+        MethodId::Kind(k)
+    }
+}
+
+impl fmt::Display for MethodId {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(&self.name())
+    }
+}
+
+impl FromStr for MethodId {
+    type Err = Error;
+
+    /// The inverse of [`MethodId::name`].
+    fn from_str(s: &str) -> Result<Self, Self::Err> {
+        match s.strip_suffix(FROM_FILE) {
+            Some(m) if !m.is_empty() => Ok(MethodId::FromFile(m.to_string())),
+            _ => s.parse::<MethodKind>().map(MethodId::Kind),
+        }
+    }
+}
+
+impl Serialize for MethodId {
+    fn serialize<S: Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        s.serialize_str(&self.name())
+    }
+}
+
+/// A method equals its name, so a reader can pick rows by the name results.json shows.
+impl PartialEq<str> for MethodId {
+    fn eq(&self, other: &str) -> bool {
+        self.name() == other
+    }
+}
+
+impl PartialEq<&str> for MethodId {
+    fn eq(&self, other: &&str) -> bool {
+        self.name() == *other
+    }
+}
+
+impl PartialEq<String> for MethodId {
+    fn eq(&self, other: &String) -> bool {
+        self.name() == other.as_str()
+    }
+}
+
+impl PartialEq<MethodKind> for MethodId {
+    fn eq(&self, other: &MethodKind) -> bool {
+        self.kind() == Some(*other)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn names_round_trip_and_file_rows_stay_apart() {
+        // Common practice, no source: every name parses back to the same identity.
+        for k in MethodKind::ALL {
+            let id = MethodId::from(k);
+            assert_eq!(id.name().parse::<MethodId>().unwrap(), id);
+            assert_eq!(serde_json::to_value(&id).unwrap(), k.name());
+        }
+        let file = MethodId::FromFile("interpolate".into());
+        assert_eq!(file.name(), "interpolate (from file)");
+        assert_eq!(file.name().parse::<MethodId>().unwrap(), file);
+        assert_ne!(file, MethodId::Kind(MethodKind::Interpolate));
+        assert!(MethodId::BASELINE.is_baseline() && !file.is_baseline());
+    }
+}

@@ -1,0 +1,29 @@
+//! What reading a file holds beside the decoded matrix, for the memory estimate checked
+//! before any work (`crate::memory` adds the stages up).
+
+use std::path::Path;
+
+use super::Format;
+use crate::data::FloatType;
+
+/// Bytes per parsed CSV field while the table is in memory (a `String` header plus its heap
+/// block, which the allocator rounds up to at least 32 bytes).
+const CSV_FIELD: u64 = 56;
+
+/// Peak bytes of the reader's staging while it decodes `path` into a `rows × dims` f32
+/// matrix: the parsed text for CSV/TSV, else about one decoded-size image (npz members are
+/// decompressed into memory; the other formats are read whole; HDF5 decodes in place of the
+/// matrix size). The matrix itself is not included. For f64 input, npy, npz and HDF5 decode
+/// into the kept f64 values themselves, which the estimate counts apart.
+pub fn read_staging_bytes(path: &Path, rows: usize, dims: usize, stored: FloatType) -> u64 {
+    let file = std::fs::metadata(path).map(|m| m.len()).unwrap_or(0);
+    let x = (rows as u64).saturating_mul(dims as u64).saturating_mul(4);
+    match Format::of(path) {
+        Ok(Format::Csv) | Ok(Format::Tsv) => {
+            file + (rows as u64 * (dims as u64 + 1)).saturating_mul(CSV_FIELD)
+        }
+        Ok(Format::Npy) | Ok(Format::Npz) | Ok(Format::Hdf5) if stored == FloatType::F64 => 0,
+        Ok(Format::Hdf5) => x,
+        _ => file.max(x),
+    }
+}
