@@ -47,6 +47,7 @@
 //!     dims: set.dims(),
 //!     classes: set.classes.clone(),
 //!     class_counts: counts,
+//!     labels_file: None,
 //! };
 //! let results = assess(&set, &cfg, input)?;
 //! // One record per (fold, method, probe): 3 folds × 2 methods × 1 probe.

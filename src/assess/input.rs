@@ -7,6 +7,7 @@ use std::path::Path;
 use sha2::{Digest, Sha256};
 
 use super::InputInfo;
+use super::results::HashedFile;
 use crate::data::Dataset;
 use crate::error::{Error, Result};
 
@@ -20,7 +21,21 @@ impl InputInfo {
             dims: ds.dims(),
             classes: ds.classes.clone(),
             class_counts: ds.class_counts(),
+            labels_file: None,
         })
+    }
+
+    /// Name the separate labels file the labels were read from, hashing it, so the results
+    /// identify every byte they depend on.
+    pub fn with_labels_file(mut self, labels: Option<&Path>) -> Result<InputInfo> {
+        self.labels_file = match labels {
+            Some(p) => Some(HashedFile {
+                path: p.display().to_string(),
+                sha256: sha256_of(p)?,
+            }),
+            None => None,
+        };
+        Ok(self)
     }
 }
 

@@ -16,7 +16,7 @@ pub use config::{AssessConfig, ResultsConfig};
 pub use from_file::{FileRows, GrownFile};
 pub use input::sha256_of;
 pub use method_id::MethodId;
-pub use results::{AssessResults, InputInfo};
+pub use results::{AssessResults, HashedFile, InputInfo};
 pub use run::{
     Progress, assess, assess_grown_observed, assess_observed, assess_with, assess_with_observed,
     fold_copies_bytes,

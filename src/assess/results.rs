@@ -20,6 +20,19 @@ pub struct InputInfo {
     pub dims: usize,
     pub classes: Vec<String>,
     pub class_counts: Vec<usize>,
+    /// The separate labels file, when the labels were not stored beside the embeddings
+    /// (an `.npy` matrix with its labels in another file): a result names both inputs.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub labels_file: Option<HashedFile>,
+}
+
+/// A file an assessment read, named by path and SHA-256.
+#[derive(Debug, Clone, Serialize, PartialEq, Eq)]
+pub struct HashedFile {
+    /// The path as given.
+    pub path: String,
+    /// Hex SHA-256 of the file's bytes.
+    pub sha256: String,
 }
 
 /// One method × probe evaluated on one fold.

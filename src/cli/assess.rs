@@ -176,7 +176,7 @@ pub fn load(path: &Path, read: &ReadOptions) -> Result<Input> {
         parent.as_deref(),
         partner.as_deref(),
     )?;
-    let info = InputInfo::of(path, &file.real)?;
+    let info = InputInfo::of(path, &file.real)?.with_labels_file(read.labels_file.as_deref())?;
     Ok(Input {
         file,
         info,

@@ -78,6 +78,16 @@ fn header(out: &mut String, r: &AssessResults) {
         "sha256",
         format!("<code>{}</code>", escape(&r.input.sha256)),
     );
+    if let Some(l) = &r.input.labels_file {
+        item(
+            "labels file",
+            format!(
+                "<code>{}</code> (sha256 <code>{}</code>)",
+                escape(&l.path),
+                escape(&l.sha256)
+            ),
+        );
+    }
     item(
         "rows × dims",
         format!("{} × {}", r.input.rows, r.input.dims),

@@ -117,3 +117,61 @@ fn results_config_reads_back_as_the_command_line_spells_it() {
     let r = run(&["--methods", "interpolate"]);
     assert_eq!(r["config"]["target"], "median");
 }
+
+/// An `.npy` matrix with its labels in another file: results.json and the report name the
+/// labels file with its SHA-256, checked against coreutils' `sha256sum` (an independent
+/// implementation of FIPS 180-4).
+#[test]
+fn a_separate_labels_file_is_named_with_its_sha256() {
+    let dir = tempdir();
+    let (x_path, y_path) = (p(dir.path(), "x.npy"), p(dir.path(), "y.npy"));
+    let counts = [24usize, 12];
+    let dims = 4;
+    let n: usize = counts.iter().sum();
+    let x: Vec<f32> = (0..n * dims)
+        .map(|k| value(k / dims, k % dims, 3))
+        .collect();
+    let y: Vec<i64> = counts
+        .iter()
+        .enumerate()
+        .flat_map(|(c, &m)| std::iter::repeat_n(c as i64, m))
+        .collect();
+    let xb: Vec<u8> = x.iter().flat_map(|v| v.to_le_bytes()).collect();
+    let yb: Vec<u8> = y.iter().flat_map(|v| v.to_le_bytes()).collect();
+    write_npy(&x_path, "<f4", &[n, dims], &xb);
+    write_npy(&y_path, "<i8", &[n], &yb);
+    let report = p(dir.path(), "report");
+    let o = embloom(
+        &[
+            "assess",
+            x_path.to_str().unwrap(),
+            "--labels",
+            y_path.to_str().unwrap(),
+            "--probes",
+            "knn",
+            "--folds",
+            "3",
+            "--no-diagnostics",
+            "--json",
+            "--quiet",
+            "--report",
+            report.to_str().unwrap(),
+        ],
+        &[],
+    );
+    assert!(o.status.success(), "{}", stderr(&o));
+    let r: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+    let sum = std::process::Command::new("sha256sum")
+        .arg(&y_path)
+        .output()
+        .expect("coreutils sha256sum");
+    let expected = String::from_utf8(sum.stdout).unwrap();
+    let expected = expected.split_whitespace().next().unwrap();
+    assert_eq!(r["input"]["labels_file"]["sha256"], expected);
+    assert_eq!(r["input"]["labels_file"]["path"], y_path.to_str().unwrap());
+    let html = std::fs::read_to_string(report.join("report.html")).unwrap();
+    assert!(
+        html.contains(expected),
+        "report header names the labels file's hash"
+    );
+}

@@ -93,25 +93,14 @@ fn a_file_embloom_wrote_with_only_real_rows_is_not_called_grown() {
     assert!(!text.contains("grown file"), "{text}");
 }
 
-/// A little-endian f32 `.npy` (format version 1.0, written by hand from the format's spec).
-fn write_npy(path: &std::path::Path, rows: &[[f32; 2]]) {
-    let mut header = format!(
-        "{{'descr': '<f4', 'fortran_order': False, 'shape': ({}, 2), }}",
-        rows.len()
-    );
-    while (10 + header.len() + 1) % 64 != 0 {
-        header.push(' ');
-    }
-    header.push('\n');
-    let mut bytes = b"\x93NUMPY\x01\x00".to_vec();
-    bytes.extend((header.len() as u16).to_le_bytes());
-    bytes.extend(header.as_bytes());
-    for r in rows {
-        for v in r {
-            bytes.extend(v.to_le_bytes());
-        }
-    }
-    std::fs::write(path, bytes).unwrap();
+/// A little-endian f32 `.npy` of two columns.
+fn write_npy2(path: &std::path::Path, rows: &[[f32; 2]]) {
+    let body: Vec<u8> = rows
+        .iter()
+        .flatten()
+        .flat_map(|v| v.to_le_bytes())
+        .collect();
+    write_npy(path, "<f4", &[rows.len(), 2], &body);
 }
 
 #[test]
@@ -119,7 +108,7 @@ fn an_npy_without_labels_is_described_and_says_so() {
     let dir = tempdir();
     let npy = p(dir.path(), "x.npy");
     // Rows 0 and 2 are the same; row 3 holds a NaN; norms 5, 1, 5 (and NaN).
-    write_npy(&npy, &[[3.0, 4.0], [1.0, 0.0], [3.0, 4.0], [f32::NAN, 1.0]]);
+    write_npy2(&npy, &[[3.0, 4.0], [1.0, 0.0], [3.0, 4.0], [f32::NAN, 1.0]]);
     let o = embloom(&["inspect", npy.to_str().unwrap(), "--json"], &[]);
     assert!(o.status.success(), "{}", stderr(&o));
     let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();

@@ -71,3 +71,24 @@ pub fn only_these(dir: &Path, keep: &[&str]) -> bool {
         .filter_map(|e| e.ok())
         .all(|e| keep.contains(&e.file_name().to_string_lossy().as_ref()))
 }
+
+/// Write a little-endian `.npy` (version 1.0, C order) of `shape` with `descr` (`<f4`, `<i8`)
+/// from the raw element bytes, as numpy's format specification lays it out.
+pub fn write_npy(path: &Path, descr: &str, shape: &[usize], body: &[u8]) {
+    let dims: Vec<String> = shape.iter().map(|d| d.to_string()).collect();
+    let shape = if dims.len() == 1 {
+        format!("({},)", dims[0])
+    } else {
+        format!("({})", dims.join(", "))
+    };
+    let mut header = format!("{{'descr': '{descr}', 'fortran_order': False, 'shape': {shape}, }}");
+    while (10 + header.len() + 1) % 64 != 0 {
+        header.push(' ');
+    }
+    header.push('\n');
+    let mut bytes = b"\x93NUMPY\x01\x00".to_vec();
+    bytes.extend((header.len() as u16).to_le_bytes());
+    bytes.extend(header.as_bytes());
+    bytes.extend(body);
+    std::fs::write(path, bytes).unwrap();
+}

@@ -58,6 +58,7 @@ fn a_class_that_got_no_rows_is_not_marked_grown() {
         dims: ds.dims(),
         classes: ds.classes.clone(),
         class_counts: ds.class_counts(),
+        labels_file: None,
     };
     let r = assess(&ds, &cfg, info).unwrap();
     assert!(
