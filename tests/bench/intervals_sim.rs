@@ -289,6 +289,7 @@ pub fn run(
                 dims: ds.dims(),
                 classes: ds.classes.clone(),
                 class_counts: ds.class_counts(),
+                labels_file: None,
             };
             let mut c = cfg.clone();
             c.seed = seed.wrapping_add(i as u64);
