@@ -215,6 +215,7 @@ fn results() -> AssessResults {
             dims: 64,
             classes: CLASSES.iter().map(|c| c.to_string()).collect(),
             class_counts: vec![250, 40, 30, 180],
+            labels_file: None,
         },
         config: config(),
         seed: 7,
