@@ -1,7 +1,8 @@
 """Prints the table of tests/bench/linear_compare.sh from its measurements.
 
 usage: python linear_summary.py DIR  (DIR holds SET.embloom.json, SET.embloom1.json and
-SET.sklearn.json for SET in easy, hard)
+SET.sklearn.json for SET in easy, hard; a set whose files are missing is reported as not
+measured)
 """
 
 import json
@@ -13,6 +14,9 @@ print(f"{'set':6}{'side':10}{'s/fit':>9}{'iter':>6}{'evals':>7}{'f64 evals':>10}
       f"{'ms/eval':>9}{'objective':>20}{'obj - sklearn':>15}")
 ratios = []
 for name in ("easy", "hard"):
+    if not (d / f"{name}.sklearn.json").exists():
+        print(f"{name:6}(not measured: the run stopped before this set)")
+        continue
     e = json.loads((d / f"{name}.embloom.json").read_text())
     e1 = json.loads((d / f"{name}.embloom1.json").read_text())
     s = json.loads((d / f"{name}.sklearn.json").read_text())
