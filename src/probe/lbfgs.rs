@@ -52,7 +52,15 @@ pub struct Outcome {
     /// Whether `grad_max <= tol` (false after `max_iter`, a failed line search, or a
     /// non-finite objective at the start).
     pub converged: bool,
+    /// The correction pairs held at the end, to continue from with [`minimize_from`].
+    pub memory: Memory,
 }
+
+/// The correction pairs of a run, handed from one run to the next so that a run finishing
+/// another's work (e.g. in higher precision) keeps its curvature estimate instead of
+/// restarting from steepest descent.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct Memory(VecDeque<Pair>);
 
 /// Sufficient-decrease constant of the Wolfe conditions.
 const C1: f64 = 1e-4;
@@ -64,7 +72,16 @@ const MAX_TRIALS: usize = 40;
 /// Minimises `objective` from `x0`. The closure writes the gradient at `x` into its second
 /// argument and returns the value; a non-finite value marks `x` as outside the domain (the
 /// line search then steps back).
-pub fn minimize<F>(mut inner: F, x0: Vec<f64>, opts: &Options) -> Outcome
+pub fn minimize<F>(inner: F, x0: Vec<f64>, opts: &Options) -> Outcome
+where
+    F: FnMut(&[f64], &mut [f64]) -> f64,
+{
+    minimize_from(inner, x0, Memory::default(), opts)
+}
+
+/// [`minimize`] starting with the correction pairs `memory` (from an earlier run's
+/// [`Outcome::memory`]; at most `opts.memory` of the newest are kept).
+pub fn minimize_from<F>(mut inner: F, x0: Vec<f64>, memory: Memory, opts: &Options) -> Outcome
 where
     F: FnMut(&[f64], &mut [f64]) -> f64,
 {
@@ -86,9 +103,13 @@ where
             iterations,
             evaluations: 1,
             converged: false,
+            memory,
         };
     }
-    let mut history: VecDeque<Pair> = VecDeque::with_capacity(opts.memory);
+    let mut history = memory.0;
+    while history.len() > opts.memory {
+        history.pop_front();
+    }
     let mut d = vec![0.0; n];
     while iterations < opts.max_iter && max_abs(&g) > opts.tol {
         direction(&history, &g, &mut d);
@@ -141,10 +162,12 @@ where
         iterations,
         evaluations,
         converged: grad_max <= opts.tol,
+        memory: Memory(history),
     }
 }
 
 /// One correction pair `s = x₊ − x`, `y = g₊ − g`, with `rho = 1 / sᵀy`.
+#[derive(Debug, Clone, PartialEq)]
 struct Pair {
     s: Vec<f64>,
     y: Vec<f64>,

@@ -263,9 +263,15 @@ impl SoftmaxLoss<'_> {
                     .iter_mut()
                     .zip(row.iter().zip(b))
                     .for_each(|(l, (&v, bc))| *l = f64::from(v) + bc);
-                log_softmax_in_place(logits.view_mut());
-                out.data_loss -= ci * logits[yi as usize];
-                logits.mapv_inplace(|lp| ci * lp.exp());
+                // One exp per class (the exact path takes two): pᵢ = eᵢ / Σe with
+                // eᵢ = exp(zᵢ − max), and ℓ = ln Σe − (z_y − max).
+                let max = logits.fold(f64::NEG_INFINITY, |m, &v| m.max(v));
+                let shifted_y = logits[yi as usize] - max;
+                logits.mapv_inplace(|v| (v - max).exp());
+                let sum = logits.sum();
+                out.data_loss += ci * (sum.ln() - shifted_y);
+                let to_grad = ci / sum;
+                logits.mapv_inplace(|e| to_grad * e);
                 logits[yi as usize] -= ci;
                 out.g_b += &logits;
                 row.iter_mut()

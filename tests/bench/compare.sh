@@ -6,16 +6,22 @@
 #
 #   tests/bench/compare.sh           full size: 20 000 rows x 512 dims, 100 classes
 #   tests/bench/compare.sh --quick   5 000 rows x 512 dims, 50 classes
+#   tests/bench/compare.sh [--quick] --diagnostics   assess as by default, diagnostics on
+#                                    (the reference computes none, so embloom does more work)
 #
 # Needs: a Rust toolchain, python3 with numpy and scikit-learn, GNU time (/usr/bin/time).
 set -euo pipefail
 cd "$(dirname "$0")/../.."
 rows=20000
 classes=100
-if [[ "${1:-}" == "--quick" ]]; then
-    rows=5000
-    classes=50
-fi
+diagnostics="--no-diagnostics"
+for arg in "$@"; do
+    case "$arg" in
+    --quick) rows=5000 classes=50 ;;
+    --diagnostics) diagnostics="" ;;
+    *) echo "unknown option $arg (use --quick, --diagnostics)" >&2; exit 2 ;;
+    esac
+done
 out="${BENCH_OUT:-target/bench-compare}"
 mkdir -p "$out"
 if [[ ! -x /usr/bin/time ]]; then
@@ -32,7 +38,7 @@ echo "== embloom assess" >&2
 /usr/bin/time -v -o "$out/embloom.time" "$bin" assess "$out/data.npz" \
     --methods none,interpolate,extrapolate,principal-noise --probes knn,linear \
     --knn-k 10 --knn-metric cosine --knn-vote uniform --linear-l2 1e-4 \
-    --target median --no-diagnostics --quiet --report "$out/report" --force >/dev/null
+    --target median $diagnostics --quiet --report "$out/report" --force >/dev/null
 echo "== numpy / scikit-learn reference pipeline" >&2
 /usr/bin/time -v -o "$out/reference.time" python3 tests/bench/reference_pipeline.py \
     "$out/data.npz" >"$out/reference.json"
