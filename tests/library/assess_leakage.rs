@@ -186,14 +186,17 @@ fn a_leaky_augmenter_is_caught() {
     assert!(err.contains("held-out test row"), "{err}");
 }
 
+/// Each training set borderline was fitted on, with the parents of the rows it drew.
+type Fits = Arc<Mutex<Vec<(Dataset, Vec<usize>)>>>;
+
 /// Records each training set borderline is fitted on and the parents of the rows it draws.
 struct DangerSpy {
-    fits: Arc<Mutex<Vec<(Dataset, Vec<usize>)>>>,
+    fits: Fits,
     inner: Box<dyn Augmenter>,
 }
 
 struct DangerSpyFit {
-    fits: Arc<Mutex<Vec<(Dataset, Vec<usize>)>>>,
+    fits: Fits,
     slot: usize,
     inner: Box<dyn FittedAugmenter>,
 }
