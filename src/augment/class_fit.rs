@@ -13,8 +13,8 @@ use crate::error::{Error, Result};
 
 /// What fitting one class produced.
 pub(super) enum ClassFit<T> {
-    /// A usable model, with a note if the fit had to clamp something.
-    Ready { model: T, note: Option<FitNote> },
+    /// A usable model, with a note for each thing the fit had to clamp or change.
+    Ready { model: T, notes: Vec<FitNote> },
     /// The class cannot be grown; the reason is shown to the user.
     Skip(String),
 }
@@ -74,8 +74,8 @@ impl<T: Send> PerClass<T> {
         let mut refused = Vec::new();
         for (c, fit) in fitted {
             match fit? {
-                ClassFit::Ready { model, note } => {
-                    notes.extend(note);
+                ClassFit::Ready { model, notes: n } => {
+                    notes.extend(n);
                     models.insert(c, Some(model));
                 }
                 ClassFit::Skip(reason) => {

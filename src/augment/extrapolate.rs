@@ -91,7 +91,9 @@ struct Away {
 }
 
 impl PairRule for Away {
-    const KIND: MethodKind = MethodKind::Extrapolate;
+    fn kind(&self) -> MethodKind {
+        MethodKind::Extrapolate
+    }
 
     fn weight(&self, _rng: &mut Rng) -> f32 {
         self.lambda

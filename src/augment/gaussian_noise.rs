@@ -123,7 +123,7 @@ impl Augmenter for GaussianNoiseValidParams {
                     x,
                     scale,
                 },
-                note: None,
+                notes: Vec::new(),
             })
         };
         let per_class = PerClass::fit(self.kind(), train, classes, self.strict, fit)?;

@@ -145,6 +145,10 @@ pub fn describe_notes_with(
             FitNote::Skipped { class, reason } => {
                 skipped.push(format!("'{}' ({reason})", classes[*class as usize]))
             }
+            FitNote::Adjusted { class, detail } => out.push(format!(
+                "class '{}': {method} {detail}",
+                classes[*class as usize]
+            )),
         }
     }
     if !skipped.is_empty() {

@@ -2,14 +2,11 @@
 //! a real row x to one of its K nearest same-class neighbours n: x + u·(n − x), u ~ U(0,1).
 //! It never leaves the convex hull of the class, which is why it is the conservative default.
 
-use rand::Rng as _;
-
-use super::neighbour_methods::{self, NeighbourParams, PairRule};
+use super::neighbour_methods::{self, NeighbourParams, Segment};
 use super::params::{AugmentParams, MethodParams, Param, ParamGuard};
 use super::{Augmenter, FittedAugmenter, MethodKind};
 use crate::data::Dataset;
 use crate::error::{Error, Result};
-use crate::seed::Rng;
 
 /// Unchecked interpolation parameters; [`ParamGuard::check`] gives the valid ones.
 #[derive(Debug, Clone, PartialEq, Default)]
@@ -51,28 +48,12 @@ impl MethodParams for InterpolateParams {
     }
 }
 
-/// u ~ U(0,1) per row, then x + u·(n − x).
-#[derive(Clone, Copy)]
-struct Uniform;
-
-impl PairRule for Uniform {
-    const KIND: MethodKind = MethodKind::Interpolate;
-
-    fn weight(&self, rng: &mut Rng) -> f32 {
-        rng.r#gen()
-    }
-
-    fn combine(u: f32, a: f32, b: f32) -> f32 {
-        a + u * (b - a)
-    }
-}
-
 impl Augmenter for InterpolateValidParams {
     fn kind(&self) -> MethodKind {
         MethodKind::Interpolate
     }
 
     fn fit(&self, train: &Dataset, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
-        neighbour_methods::fit(Uniform, &self.neighbours, train, classes)
+        neighbour_methods::fit(Segment(MethodKind::Interpolate), &self.neighbours, train, classes)
     }
 }

@@ -4,6 +4,7 @@
 
 mod assemble;
 mod class_fit;
+mod cross_class;
 mod grow;
 mod neighbour_methods;
 mod params;
@@ -81,6 +82,9 @@ methods! {
     Extrapolate => extrapolate, "extrapolate", "x + λ·(x − n), away from a neighbour (DeVries & Taylor 2017)", ExtrapolateParams, ExtrapolateValidParams;
     PrincipalNoise => principal_noise, "principal-noise", "Gaussian noise along the class's principal directions", PrincipalNoiseParams, PrincipalNoiseValidParams;
     GaussianNoise => gaussian_noise, "gaussian-noise", "isotropic Gaussian noise (baseline)", GaussianNoiseParams, GaussianNoiseValidParams;
+    Duplicate => duplicate, "duplicate", "copies of real rows drawn uniformly (random oversampling)", DuplicateParams, DuplicateValidParams;
+    Borderline => borderline, "borderline", "Borderline-SMOTE1: SMOTE from rows in danger only (Han et al. 2005)", BorderlineParams, BorderlineValidParams;
+    Adaptive => adaptive, "adaptive", "ADASYN: more rows from rows near other classes (He et al. 2008)", AdaptiveParams, AdaptiveValidParams;
 }
 
 impl MethodKind {
@@ -149,6 +153,9 @@ pub enum FitNote {
     Clamped { class: u32, k: usize },
     /// The class cannot be grown by this method.
     Skipped { class: u32, reason: String },
+    /// The class was grown, but the method had to depart from its rule; `detail` says how
+    /// (e.g. no row in danger, so every row is a base).
+    Adjusted { class: u32, detail: String },
 }
 
 /// A configured method.

@@ -2,7 +2,8 @@
 //! index, strict) and its check, the same-class neighbour lists (for every real row of a class,
 //! its K nearest other rows of that class, by exact search or the approximate k-d tree), the
 //! draw of a (base row, partner) pair, and the fit and sampling loop around it. A neighbour
-//! method only supplies its [`PairRule`]: how a drawn pair becomes one synthetic value.
+//! method only supplies its [`PairRule`]: how a drawn pair becomes one synthetic value, and,
+//! if it does not draw base rows uniformly, its [`Bases`] (borderline, adaptive).
 
 use ndarray::{Array2, ArrayView1, Axis};
 use rand::Rng as _;
@@ -69,25 +70,105 @@ impl NeighbourParams {
 
 /// How a neighbour method turns a drawn pair (x, n) into a synthetic row.
 pub(super) trait PairRule: Copy + Send + Sync + 'static {
-    const KIND: MethodKind;
+    /// The method the rule belongs to (one rule may serve several, which differ in their bases).
+    fn kind(&self) -> MethodKind;
     /// The row's weight, drawn (if at all) after its pair, so the draw order is fixed.
     fn weight(&self, rng: &mut Rng) -> f32;
     /// One coordinate of the synthetic row from x's coordinate `a` and n's `b`.
     fn combine(w: f32, a: f32, b: f32) -> f32;
 }
 
-/// Fit `rule` with `params` on the classes `classes` of `train`.
+/// SMOTE's rule (Chawla et al. 2002), shared by every method that interpolates: u ~ U(0,1)
+/// per row, then x + u·(n − x). The methods using it differ only in their [`Bases`].
+#[derive(Clone, Copy)]
+pub(super) struct Segment(pub MethodKind);
+
+impl PairRule for Segment {
+    fn kind(&self) -> MethodKind {
+        self.0
+    }
+
+    fn weight(&self, rng: &mut Rng) -> f32 {
+        rng.r#gen()
+    }
+
+    fn combine(u: f32, a: f32, b: f32) -> f32 {
+        a + u * (b - a)
+    }
+}
+
+/// Which real rows of a class are base rows x, and how often each is used.
+#[derive(Debug, Clone, PartialEq)]
+pub(super) enum Bases {
+    /// Every row, drawn uniformly (SMOTE).
+    All,
+    /// Only these rows (local indices into the class rows), drawn uniformly among them.
+    Among(Vec<usize>),
+    /// Every row, with a share of the class's rows proportional to its weight (weights ≥ 0,
+    /// not all 0); see [`apportion`] for how shares become whole counts.
+    Shares(Vec<f64>),
+}
+
+/// Fit `rule` with `params` on the classes `classes` of `train`, every row a base.
 pub(super) fn fit<R: PairRule>(
     rule: R,
     params: &NeighbourParams,
     train: &Dataset,
     classes: &[u32],
 ) -> Result<Box<dyn FittedAugmenter>> {
+    fit_with_bases(rule, params, train, classes, |_, _| {
+        Ok((Bases::All, Vec::new()))
+    })
+}
+
+/// [`fit`], with the base rows of each class chosen by `bases(class, rows)` (`rows`: the
+/// class's train row indices), which may add notes for the class.
+pub(super) fn fit_with_bases<R, B>(
+    rule: R,
+    params: &NeighbourParams,
+    train: &Dataset,
+    classes: &[u32],
+    bases: B,
+) -> Result<Box<dyn FittedAugmenter>>
+where
+    R: PairRule,
+    B: Fn(u32, &[usize]) -> Result<(Bases, Vec<FitNote>)> + Sync,
+{
     let fit = |c: u32, rows: &[usize]| -> Result<ClassFit<ClassNeighbours>> {
-        ClassNeighbours::fit(train, c, rows, params.k, params.metric, params.index)
+        let fit = ClassNeighbours::fit(train, c, rows, params.k, params.metric, params.index)?;
+        let ClassFit::Ready {
+            mut model,
+            mut notes,
+        } = fit
+        else {
+            return Ok(fit);
+        };
+        let (b, more) = bases(c, rows)?;
+        model.bases = b;
+        notes.extend(more);
+        Ok(ClassFit::Ready { model, notes })
     };
-    let per_class = PerClass::fit(R::KIND, train, classes, params.strict, fit)?;
+    let per_class = PerClass::fit(rule.kind(), train, classes, params.strict, fit)?;
     Ok(Box::new(FittedPairs { per_class, rule }))
+}
+
+/// Whole counts summing exactly to `n`, proportional to `weights` (≥ 0, sum > 0), by the
+/// largest-remainder rule: each row first gets ⌊n·wᵢ/Σw⌋, then the rows left over go one each
+/// to the largest fractional parts, ties to the lower index. Deterministic, no random draw.
+pub(super) fn apportion(weights: &[f64], n: usize) -> Vec<usize> {
+    let total: f64 = weights.iter().sum();
+    let quotas: Vec<f64> = weights.iter().map(|w| n as f64 * w / total).collect();
+    let mut counts: Vec<usize> = quotas.iter().map(|q| q.floor() as usize).collect();
+    let given: usize = counts.iter().sum();
+    let mut order: Vec<usize> = (0..weights.len()).collect();
+    order.sort_by(|&a, &b| {
+        let (fa, fb) = (quotas[a] - quotas[a].floor(), quotas[b] - quotas[b].floor());
+        fb.total_cmp(&fa).then(a.cmp(&b))
+    });
+    for &i in order.iter().cycle().take(n.saturating_sub(given)) {
+        counts[i] += 1;
+    }
+    counts
 }
 
 struct FittedPairs<R> {
@@ -102,8 +183,23 @@ impl<R: PairRule> FittedAugmenter for FittedPairs<R> {
         };
         let mut x = Array2::<f32>::zeros((n, nb.dims()));
         let mut provenance = Vec::with_capacity(n);
-        for mut out in x.rows_mut() {
-            let pair = nb.draw(rng);
+        let schedule: Option<Vec<usize>> = match &nb.bases {
+            Bases::Shares(w) => Some(
+                apportion(w, n)
+                    .into_iter()
+                    .enumerate()
+                    .flat_map(|(i, c)| std::iter::repeat_n(i, c))
+                    .collect(),
+            ),
+            _ => None,
+        };
+        for (r, mut out) in x.rows_mut().into_iter().enumerate() {
+            let base = match (&schedule, &nb.bases) {
+                (Some(s), _) => s[r],
+                (None, Bases::Among(v)) => v[rng.gen_range(0..v.len())],
+                (None, _) => rng.gen_range(0..nb.rows.len()),
+            };
+            let pair = nb.pair(base, rng);
             let w = self.rule.weight(rng);
             for ((o, &a), &b) in out.iter_mut().zip(pair.x).zip(pair.n) {
                 *o = R::combine(w, a, b);
@@ -114,7 +210,7 @@ impl<R: PairRule> FittedAugmenter for FittedPairs<R> {
                 weight: w,
             });
         }
-        check_finite(R::KIND, class, &x)?;
+        check_finite(self.rule.kind(), class, &x)?;
         Ok(Synthetic { x, provenance })
     }
 
@@ -131,6 +227,8 @@ struct ClassNeighbours {
     x: Array2<f32>,
     /// Neighbours within `x` (local indices), K per row, never the row itself.
     knn: Knn,
+    /// Which rows are bases.
+    bases: Bases,
 }
 
 /// A drawn pair: the base row and one of its K neighbours.
@@ -159,7 +257,10 @@ impl ClassNeighbours {
             ));
         }
         let used = k.min(m - 1);
-        let note = (used < k).then_some(FitNote::Clamped { class, k: used });
+        let notes = (used < k)
+            .then_some(FitNote::Clamped { class, k: used })
+            .into_iter()
+            .collect();
         let x = train.x.select(Axis(0), rows);
         let knn = knn_within_with(index, x.view(), used, metric);
         if knn.k == 0 || knn.n_queries() != m {
@@ -172,15 +273,16 @@ impl ClassNeighbours {
                 rows: rows.to_vec(),
                 x,
                 knn,
+                bases: Bases::All,
             },
-            note,
+            notes,
         })
     }
 
-    /// A base row uniform over the class and a partner uniform among its K neighbours.
-    /// Draw order (base, then partner) is fixed, so a seed always gives the same pairs.
-    fn draw(&self, rng: &mut Rng) -> Pair<'_> {
-        let base = rng.gen_range(0..self.rows.len());
+    /// The base row `base` (local index, chosen by the caller: drawn before the partner when
+    /// drawn at all) and a partner uniform among its K neighbours. The draw order (base,
+    /// partner, weight) is fixed, so a seed always gives the same pairs.
+    fn pair(&self, base: usize, rng: &mut Rng) -> Pair<'_> {
         let j = rng.gen_range(0..self.knn.k);
         let other = self.knn.row(base).0[j] as usize;
         Pair {

@@ -129,7 +129,7 @@ impl PrincipalNoiseValidParams {
                 x,
                 scaled,
             },
-            note: None,
+            notes: Vec::new(),
         })
     }
 }

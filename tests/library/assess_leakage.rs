@@ -186,3 +186,123 @@ fn a_leaky_augmenter_is_caught() {
         .to_string();
     assert!(err.contains("held-out test row"), "{err}");
 }
+
+/// Each training set borderline was fitted on, with the parents of the rows it drew.
+type Fits = Arc<Mutex<Vec<(Dataset, Vec<usize>)>>>;
+
+/// Records each training set borderline is fitted on and the parents of the rows it draws.
+struct DangerSpy {
+    fits: Fits,
+    inner: Box<dyn Augmenter>,
+}
+
+struct DangerSpyFit {
+    fits: Fits,
+    slot: usize,
+    inner: Box<dyn FittedAugmenter>,
+}
+
+impl Augmenter for DangerSpy {
+    fn kind(&self) -> MethodKind {
+        MethodKind::Borderline
+    }
+    fn fit(&self, train: &Dataset, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
+        let mut fits = self.fits.lock().unwrap();
+        fits.push((train.clone(), Vec::new()));
+        Ok(Box::new(DangerSpyFit {
+            fits: self.fits.clone(),
+            slot: fits.len() - 1,
+            inner: self.inner.fit(train, classes)?,
+        }))
+    }
+}
+
+impl FittedAugmenter for DangerSpyFit {
+    fn sample(&self, class: u32, n: usize, rng: &mut Rng) -> Result<Synthetic> {
+        let s = self.inner.sample(class, n, rng)?;
+        let mut fits = self.fits.lock().unwrap();
+        fits[self.slot]
+            .1
+            .extend(s.provenance.iter().map(|p| p.parent));
+        Ok(s)
+    }
+    fn notes(&self) -> &[FitNote] {
+        self.inner.notes()
+    }
+}
+
+/// Rows of `ds` in danger by Borderline-SMOTE1's rule (Han, Wang & Mao 2005): of the `m`
+/// nearest other rows (all classes, euclidean, brute force in f64), m/2 ≤ m' < m of another
+/// class.
+fn danger_rows(ds: &Dataset, m: usize) -> Vec<usize> {
+    let d = |a: usize, b: usize| -> f64 {
+        ds.x.row(a)
+            .iter()
+            .zip(ds.x.row(b))
+            .map(|(&p, &q)| (f64::from(p) - f64::from(q)).powi(2))
+            .sum()
+    };
+    (0..ds.n_rows())
+        .filter(|&i| {
+            let mut others: Vec<usize> = (0..ds.n_rows()).filter(|&j| j != i).collect();
+            others.sort_by(|&a, &b| d(i, a).total_cmp(&d(i, b)));
+            let m_other = others[..m]
+                .iter()
+                .filter(|&&j| ds.labels[j] != ds.labels[i])
+                .count();
+            2 * m_other >= m && m_other < m
+        })
+        .collect()
+}
+
+#[test]
+fn borderline_judges_danger_on_the_folds_training_rows_only() {
+    let ds = dataset();
+    let mut cfg = config();
+    cfg.methods = vec![MethodKind::None, MethodKind::Borderline];
+    let cfg = cfg.validated().unwrap();
+    let fits = Arc::new(Mutex::new(Vec::new()));
+    let augmenters: Vec<Box<dyn Augmenter>> = vec![
+        augment::build(MethodKind::None, &cfg.augment).unwrap(),
+        Box::new(DangerSpy {
+            fits: fits.clone(),
+            inner: augment::build(MethodKind::Borderline, &cfg.augment).unwrap(),
+        }),
+    ];
+    assess_with(&ds, &cfg, info(&ds), &augmenters).unwrap();
+    let full_danger = danger_rows(&ds, 10);
+    let fits = fits.lock().unwrap();
+    let mut differs = 0;
+    for (train, parents) in fits.iter() {
+        let danger = danger_rows(train, 10);
+        // A grown class with no row in danger falls back to every row; the others must draw
+        // their bases from the rows in danger *within this training fold*.
+        for &p in parents {
+            let class_has_danger = danger.iter().any(|&r| train.labels[r] == train.labels[p]);
+            if class_has_danger {
+                assert!(
+                    danger.contains(&p),
+                    "base row {p} is not in danger in its fold"
+                );
+            }
+        }
+        // Ids are the input rows: the danger set judged on the fold differs from the one the
+        // whole input would give for these rows, so using all rows would be caught.
+        let ids: Vec<usize> = train
+            .ids
+            .as_ref()
+            .unwrap()
+            .iter()
+            .map(|s| s.parse().unwrap())
+            .collect();
+        let on_full: Vec<usize> = (0..train.n_rows())
+            .filter(|&r| full_danger.contains(&ids[r]))
+            .collect();
+        differs += usize::from(on_full != danger);
+    }
+    assert_eq!(fits.len(), 8);
+    assert!(
+        differs > 0,
+        "the example does not separate fold and full-data danger"
+    );
+}

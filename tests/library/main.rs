@@ -11,6 +11,7 @@ mod assess_intervals;
 mod assess_leakage;
 mod assess_sweep;
 mod augment_methods;
+mod augment_rows;
 mod eval_diagnostics;
 mod eval_interval;
 mod eval_metrics;
