@@ -1,10 +1,13 @@
 //! The validated configuration of an assessment.
 
 use std::collections::BTreeMap;
+use std::fmt;
+use std::str::FromStr;
 
 use serde::ser::SerializeMap;
 use serde::{Serialize, Serializer};
 
+use super::method_id::MethodId;
 use crate::augment::{AugmentParams, MethodKind, Target, UnitNorm};
 use crate::error::{Error, Result};
 use crate::eval::interval::IntervalKind;
@@ -90,6 +93,88 @@ impl AssessConfig {
     }
 }
 
+/// How many of an external set's eligible rows (those whose parent is a training row of the
+/// fold) a fold trains on.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum ExternalBudget {
+    /// Per grown class, as many rows as the feature-space methods add there under the same
+    /// target, drawn at random (seeded) without replacement while rows last, so an input-space
+    /// set is compared with feature-space methods at equal row counts.
+    #[default]
+    Match,
+    /// Every eligible row, in every class.
+    All,
+    /// At most this many rows per class, drawn as `Match` draws them.
+    PerClass(usize),
+}
+
+impl fmt::Display for ExternalBudget {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            ExternalBudget::Match => f.write_str("match"),
+            ExternalBudget::All => f.write_str("all"),
+            ExternalBudget::PerClass(n) => write!(f, "{n}"),
+        }
+    }
+}
+
+impl FromStr for ExternalBudget {
+    type Err = Error;
+    fn from_str(s: &str) -> Result<Self> {
+        match s {
+            "match" => Ok(ExternalBudget::Match),
+            "all" => Ok(ExternalBudget::All),
+            n => n
+                .parse::<usize>()
+                .map(ExternalBudget::PerClass)
+                .map_err(|_| {
+                    Error::param(
+                        "external-budget",
+                        format!("'{s}' is not match, all or a count"),
+                        "use match (as many rows as the feature-space methods add), all, or a count per class such as 50",
+                    )
+                }),
+        }
+    }
+}
+
+/// In JSON a number for a count, else `match` / `all`.
+impl Serialize for ExternalBudget {
+    fn serialize<S: Serializer>(&self, s: S) -> std::result::Result<S::Ok, S::Error> {
+        match self {
+            ExternalBudget::PerClass(n) => s.serialize_u64(*n as u64),
+            other => s.serialize_str(&other.to_string()),
+        }
+    }
+}
+
+/// The input-space side of an assessment: how many rows each external set contributes per
+/// fold, and the unions (`flips+interpolate`) trained on as methods of their own.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct ExternalConfig {
+    pub budget: ExternalBudget,
+    /// Each a [`MethodId::Union`] of two or more parts; a part is a method of the
+    /// [`AssessConfig`], an external set or a grown file's rows, by name.
+    pub unions: Vec<MethodId>,
+}
+
+/// What results.json records about the external sets.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ExternalRecord {
+    pub budget: ExternalBudget,
+    pub sets: Vec<ExternalSetInfo>,
+    pub unions: Vec<MethodId>,
+}
+
+/// One external set as read: its name, the file and its SHA-256, and its rows.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ExternalSetInfo {
+    pub name: String,
+    pub path: String,
+    pub sha256: String,
+    pub rows: usize,
+}
+
 /// The configuration as results.json records it: the command-line spellings (the target as
 /// `median`, `50` or `x2`), the magnitude written out per method when left to its default,
 /// and every number that came from an f32 at its shortest f32 spelling (0.3, not
@@ -100,6 +185,9 @@ pub struct ResultsConfig {
     pub augment: AugmentRecord,
     pub classes: Option<Vec<String>>,
     pub diagnostics: bool,
+    /// External sets and unions, when the assessment had any.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub external: Option<ExternalRecord>,
     pub folds: usize,
     pub interval: IntervalKind,
     pub knn: KnnRecord,
@@ -178,6 +266,7 @@ impl ResultsConfig {
             },
             classes: cfg.classes.clone(),
             diagnostics: cfg.diagnostics,
+            external: None,
             folds: cfg.folds,
             interval: cfg.interval,
             knn: KnnRecord {

@@ -5,6 +5,10 @@
 //! where its parent and its partner (when it has one) are both training rows of that fold.
 //! The neighbour choice behind a kept row still saw every real row; only the in-fold method
 //! is free of that, which is why the two are reported side by side.
+//!
+//! An external set (embeddings of input-space augmented samples, see [`super::external`]) is
+//! the same kind of thing: rows made outside the fold loop, each from one real row. It is held
+//! as `FileRows` too, with a parent and no partner, under its own name.
 
 use std::collections::HashMap;
 use std::path::Path;
@@ -16,11 +20,12 @@ use crate::augment::{Grown, Provenance};
 use crate::data::Dataset;
 use crate::error::{Error, Result};
 
-/// The synthetic rows of one `origin` of a grown file. `parent` and `partner` are rows of the
-/// real-row dataset the assessment runs on.
+/// Rows made before the split: the synthetic rows of one `origin` of a grown file, or an
+/// external set. `parent` and `partner` are rows of the real-row dataset the assessment runs
+/// on.
 #[derive(Debug, Clone)]
 pub struct FileRows {
-    origin: String,
+    id: MethodId,
     x: Array2<f32>,
     labels: Vec<u32>,
     parent: Vec<usize>,
@@ -52,7 +57,7 @@ impl FileRows {
             ));
         }
         Ok(FileRows {
-            origin: origin.into(),
+            id: MethodId::FromFile(origin.into()),
             x,
             labels,
             parent,
@@ -61,8 +66,29 @@ impl FileRows {
         })
     }
 
+    /// Rows of an external set named `name`: their class indices (into the assessed data's
+    /// classes) and each row's parent as a row of the data. Rows are named by their place in
+    /// the set in messages.
+    pub fn external(
+        name: impl Into<String>,
+        x: Array2<f32>,
+        labels: Vec<u32>,
+        parent: Vec<usize>,
+    ) -> Result<FileRows> {
+        let n = parent.len();
+        let mut rows = FileRows::new("", x, labels, parent, vec![None; n])?;
+        rows.id = MethodId::External(name.into());
+        Ok(rows)
+    }
+
     pub fn id(&self) -> MethodId {
-        MethodId::FromFile(self.origin.clone())
+        self.id.clone()
+    }
+
+    /// Whether these rows are an external set (drawn per fold under a budget) rather than a
+    /// grown file's rows (all used).
+    pub fn is_external(&self) -> bool {
+        matches!(self.id, MethodId::External(_))
     }
 
     pub fn n_rows(&self) -> usize {
@@ -118,16 +144,20 @@ impl FileRows {
         Ok(())
     }
 
-    /// The rows usable in a fold: those whose parent and partner are training rows.
-    /// `train_pos[r]` is the position of data row `r` among the fold's training rows. Also
-    /// returns each kept row's place in the file.
-    pub(super) fn for_fold(&self, train_pos: &[Option<usize>]) -> (Grown, Vec<usize>) {
-        let keep: Vec<usize> = (0..self.x.nrows())
+    /// The rows usable in a fold, in set order: those whose parent and partner are training
+    /// rows. `train_pos[r]` is the position of data row `r` among the fold's training rows.
+    pub(super) fn eligible(&self, train_pos: &[Option<usize>]) -> Vec<usize> {
+        (0..self.x.nrows())
             .filter(|&i| {
                 train_pos[self.parent[i]].is_some()
                     && self.partner[i].is_none_or(|q| train_pos[q].is_some())
             })
-            .collect();
+            .collect()
+    }
+
+    /// The rows `keep` (eligible ones, see [`FileRows::eligible`]) as a fold's synthetic rows,
+    /// with each kept row's place in the file.
+    pub(super) fn take(&self, keep: &[usize], train_pos: &[Option<usize>]) -> (Grown, Vec<usize>) {
         let provenance = keep
             .iter()
             .filter_map(|&i| {
@@ -140,7 +170,7 @@ impl FileRows {
             })
             .collect();
         let grown = Grown {
-            x: self.x.select(Axis(0), &keep),
+            x: self.x.select(Axis(0), keep),
             labels: keep.iter().map(|&i| self.labels[i]).collect(),
             provenance,
             renormalised: false,
@@ -252,7 +282,7 @@ impl GrownFile {
                 })
                 .collect::<Result<Vec<_>>>()?;
             methods.push(FileRows {
-                origin: name.to_string(),
+                id: MethodId::FromFile(name.to_string()),
                 x: ds.x.select(Axis(0), &rows),
                 labels: rows.iter().map(|&r| ds.labels[r]).collect(),
                 parent: parents,

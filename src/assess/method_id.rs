@@ -1,6 +1,8 @@
 //! Which method a result row belongs to. Not just [`MethodKind`]: an assessment can also
 //! score synthetic rows that were grown earlier and read back from a file, and those must
-//! stay apart from the same method run live, in every table and in the JSON.
+//! stay apart from the same method run live, in every table and in the JSON; rows of an
+//! input-space augmentation the user embedded with their own backbone (an external set); and
+//! the union of several of these, trained on together.
 
 use std::borrow::Cow;
 use std::fmt;
@@ -14,6 +16,9 @@ use crate::error::Error;
 /// The suffix that marks a method whose rows came from a grown file.
 const FROM_FILE: &str = " (from file)";
 
+/// What joins the parts of a union in its name (`flips+interpolate`).
+pub const UNION_JOIN: char = '+';
+
 /// A method as results name it.
 #[derive(Debug, Clone, PartialEq, Eq, Hash)]
 pub enum MethodId {
@@ -22,6 +27,12 @@ pub enum MethodId {
     /// Synthetic rows read from a grown file, by the method name the file records; shown as
     /// `interpolate (from file)`.
     FromFile(String),
+    /// An external set: embeddings of input-space augmented samples, by the name the user
+    /// gave it; shown as that name.
+    External(String),
+    /// Training on the union of the parts' rows, each part made as it would be alone; shown
+    /// as the parts' names joined by `+`.
+    Union(Vec<MethodId>),
 }
 
 impl MethodId {
@@ -33,6 +44,14 @@ impl MethodId {
         match self {
             MethodId::Kind(k) => Cow::Borrowed(k.name()),
             MethodId::FromFile(m) => Cow::Owned(format!("{m}{FROM_FILE}")),
+            MethodId::External(m) => Cow::Borrowed(m),
+            MethodId::Union(parts) => Cow::Owned(
+                parts
+                    .iter()
+                    .map(|p| p.name().into_owned())
+                    .collect::<Vec<_>>()
+                    .join(&UNION_JOIN.to_string()),
+            ),
         }
     }
 
@@ -44,7 +63,7 @@ impl MethodId {
     pub fn kind(&self) -> Option<MethodKind> {
         match self {
             MethodId::Kind(k) => Some(*k),
-            MethodId::FromFile(_) => None,
+            MethodId::FromFile(_) | MethodId::External(_) | MethodId::Union(_) => None,
         }
     }
 }
@@ -64,11 +83,23 @@ impl fmt::Display for MethodId {
 impl FromStr for MethodId {
     type Err = Error;
 
-    /// The inverse of [`MethodId::name`].
+    /// The inverse of [`MethodId::name`]: a name that is neither a method nor a file's rows
+    /// is an external set's.
     fn from_str(s: &str) -> Result<Self, Self::Err> {
+        if s.contains(UNION_JOIN) {
+            return s
+                .split(UNION_JOIN)
+                .map(|p| p.parse::<MethodId>())
+                .collect::<Result<Vec<_>, _>>()
+                .map(MethodId::Union);
+        }
         match s.strip_suffix(FROM_FILE) {
             Some(m) if !m.is_empty() => Ok(MethodId::FromFile(m.to_string())),
-            _ => s.parse::<MethodKind>().map(MethodId::Kind),
+            _ => match s.parse::<MethodKind>() {
+                Ok(k) => Ok(MethodId::Kind(k)),
+                Err(_) if !s.is_empty() => Ok(MethodId::External(s.to_string())),
+                Err(e) => Err(e),
+            },
         }
     }
 }
@@ -121,5 +152,15 @@ mod tests {
         assert_eq!(file.name().parse::<MethodId>().unwrap(), file);
         assert_ne!(file, MethodId::Kind(MethodKind::Interpolate));
         assert!(MethodId::BASELINE.is_baseline() && !file.is_baseline());
+        let union = MethodId::Union(vec![
+            MethodId::External("flips".into()),
+            MethodId::Kind(MethodKind::Interpolate),
+        ]);
+        assert_eq!(union.name(), "flips+interpolate");
+        assert_eq!(union.name().parse::<MethodId>().unwrap(), union);
+        assert_eq!(
+            "flips".parse::<MethodId>().unwrap(),
+            MethodId::External("flips".into())
+        );
     }
 }

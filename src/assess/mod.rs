@@ -2,6 +2,7 @@
 //! splits for all (a paired design).
 
 mod config;
+mod external;
 mod from_file;
 mod input;
 mod method_id;
@@ -12,14 +13,20 @@ mod shared_knn;
 mod summary;
 mod sweep;
 
-pub use config::{AssessConfig, ResultsConfig};
+pub use config::{
+    AssessConfig, ExternalBudget, ExternalConfig, ExternalRecord, ExternalSetInfo, ResultsConfig,
+};
+pub use external::{
+    PARENT_KEY, RowSets, check_name as check_external_name, read as read_external,
+    resolve as resolve_external,
+};
 pub use from_file::{FileRows, GrownFile};
 pub use input::sha256_of;
-pub use method_id::MethodId;
+pub use method_id::{MethodId, UNION_JOIN};
 pub use results::{AssessResults, HashedFile, InputInfo};
 pub use run::{
-    Progress, assess, assess_grown_observed, assess_observed, assess_with, assess_with_observed,
-    fold_copies_bytes,
+    Progress, assess, assess_grown_observed, assess_observed, assess_sets_observed, assess_with,
+    assess_with_observed, fold_copies_bytes,
 };
 pub use summary::{LEVEL, summary_with};
 pub use sweep::{Knob, SweepPoint, SweepResults, SweepValue, sweep};

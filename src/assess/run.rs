@@ -7,7 +7,8 @@ use std::time::Instant;
 
 use ndarray::Array2;
 
-use super::config::AssessConfig;
+use super::config::{AssessConfig, ExternalBudget, ResultsConfig};
+use super::external::{self, RowSets};
 use super::from_file::FileRows;
 use super::method_id::MethodId;
 use super::results::{AssessResults, DiagnosticRow, FoldRecord, InputInfo, WorkCounters};
@@ -74,6 +75,20 @@ pub fn assess_grown_observed(
     from_file: &[FileRows],
     on_progress: &mut dyn FnMut(Progress),
 ) -> Result<AssessResults> {
+    assess_sets_observed(ds, cfg, input, RowSets::files(from_file), on_progress)
+}
+
+/// [`assess_observed`] with rows made before the split as further methods, after those of
+/// `cfg`: a grown file's rows and external sets (in each fold only rows whose parent, and
+/// partner when there is one, are training rows; external sets drawn under their budget),
+/// then the unions of `sets.config`.
+pub fn assess_sets_observed(
+    ds: &Dataset,
+    cfg: &AssessConfig,
+    input: InputInfo,
+    sets: RowSets<'_>,
+    on_progress: &mut dyn FnMut(Progress),
+) -> Result<AssessResults> {
     let augmenters = cfg
         .methods
         .iter()
@@ -84,7 +99,7 @@ pub fn assess_grown_observed(
         cfg,
         input,
         &augmenters,
-        from_file,
+        sets,
         on_progress,
         &mut Reuse::default(),
     )
@@ -114,7 +129,7 @@ pub fn assess_with_observed(
         cfg,
         input,
         augmenters,
-        &[],
+        RowSets::files(&[]),
         on_progress,
         &mut Reuse::default(),
     )
@@ -124,15 +139,35 @@ pub fn assess_with_observed(
 enum Arm<'a> {
     /// Fitted on the fold's training rows.
     Fit(&'a dyn Augmenter),
-    /// A grown file's rows, gated by their provenance.
+    /// Rows made before the split (a grown file's, an external set's), gated by their
+    /// provenance.
     File(&'a FileRows),
+    /// The union of its parts' rows, each made as it would be alone.
+    Union(MethodId, Vec<Arm<'a>>),
 }
 
-impl Arm<'_> {
+impl<'a> Arm<'a> {
     fn id(&self) -> MethodId {
         match self {
             Arm::Fit(a) => MethodId::Kind(a.kind()),
             Arm::File(f) => f.id(),
+            Arm::Union(id, _) => id.clone(),
+        }
+    }
+
+    /// The arm of one part of a union, among the single arms.
+    fn part(id: &MethodId, singles: &[Arm<'a>], union: &MethodId) -> Result<Arm<'a>> {
+        let found = singles.iter().find(|a| a.id() == *id);
+        match found {
+            Some(Arm::Fit(a)) if !id.is_baseline() => Ok(Arm::Fit(*a)),
+            Some(Arm::File(f)) => Ok(Arm::File(f)),
+            _ => Err(Error::param(
+                "methods",
+                format!(
+                    "{union} joins '{id}', which is no method, external set or grown file's rows of this assessment"
+                ),
+                "join with + only methods that make rows (not none), external sets or a grown file's rows, each also given alone",
+            )),
         }
     }
 }
@@ -197,10 +232,11 @@ pub(super) fn assess_reusing(
     cfg: &AssessConfig,
     input: InputInfo,
     augmenters: &[Box<dyn Augmenter>],
-    from_file: &[FileRows],
+    sets: RowSets<'_>,
     on_progress: &mut dyn FnMut(Progress),
     reuse: &mut Reuse,
 ) -> Result<AssessResults> {
+    let from_file = sets.rows;
     let started = Instant::now();
     if augmenters.first().map(|a| a.kind()) != Some(MethodKind::None) {
         return Err(Error::param(
@@ -221,11 +257,37 @@ pub(super) fn assess_reusing(
     for f in from_file {
         f.check_against(ds)?;
     }
-    let arms: Vec<Arm> = augmenters
+    let mut arms: Vec<Arm> = augmenters
         .iter()
         .map(|a| Arm::Fit(a.as_ref()))
         .chain(from_file.iter().map(Arm::File))
         .collect();
+    for union in &sets.config.unions {
+        let MethodId::Union(parts) = union else {
+            return Err(Error::param(
+                "methods",
+                format!("{union} is not a union of methods"),
+                "report this as a bug",
+            ));
+        };
+        let parts = parts
+            .iter()
+            .map(|p| Arm::part(p, &arms[..augmenters.len() + from_file.len()], union))
+            .collect::<Result<Vec<_>>>()?;
+        arms.push(Arm::Union(union.clone(), parts));
+    }
+    let ids: Vec<MethodId> = arms.iter().map(Arm::id).collect();
+    if let Some(dup) = ids
+        .iter()
+        .enumerate()
+        .find(|(i, id)| ids[..*i].contains(id))
+    {
+        return Err(Error::param(
+            "methods",
+            format!("two methods are named '{}'", dup.1),
+            "give each external set and union a name of its own",
+        ));
+    }
     // Classes the file's rows grow, whatever this run's plan says (for diagnostics).
     let file_classes: BTreeSet<u32> = from_file
         .iter()
@@ -312,21 +374,18 @@ pub(super) fn assess_reusing(
                 folds: folds.len(),
                 method: id.clone(),
             });
-            let grown = match arm {
-                Arm::Fit(augmenter) => {
-                    let grown = ctx.grow(*augmenter, unit_norm, cfg.seed)?;
-                    guard.check(&grown.x, augmenter.kind())?;
-                    for w in describe_notes(&grown.notes, &ds.classes, augmenter.kind()) {
-                        fold_warnings.add(w, fold);
-                    }
-                    grown
-                }
-                Arm::File(rows) => {
-                    let (grown, file_rows) = rows.for_fold(&train_pos);
-                    guard.check_file(&grown.x, &id, &file_rows)?;
-                    grown
-                }
-            };
+            let grown = ctx.rows_of(
+                arm,
+                &RowsIn {
+                    ds,
+                    guard: &guard,
+                    train_pos: &train_pos,
+                    unit_norm,
+                    cfg,
+                    budget: sets.config.budget,
+                },
+                &mut fold_warnings,
+            )?;
             // Planned is not grown: a class whose method could make no row here (one row and
             // a neighbour method) must not be marked as grown.
             grown_anywhere.extend(grown.labels.iter().copied());
@@ -409,7 +468,7 @@ pub(super) fn assess_reusing(
             // A file's rows need not follow this fold's plan: use the classes they grew.
             let classes: Vec<u32> = match arm {
                 Arm::Fit(_) => ctx.grown.clone(),
-                Arm::File(_) => grown
+                Arm::File(_) | Arm::Union(..) => grown
                     .labels
                     .iter()
                     .copied()
@@ -456,7 +515,10 @@ pub(super) fn assess_reusing(
         embloom_version: env!("CARGO_PKG_VERSION").to_string(),
         command_line: String::new(),
         input,
-        config: cfg.record(),
+        config: ResultsConfig {
+            external: sets.record(),
+            ..cfg.record()
+        },
         seed: cfg.seed,
         split,
         methods,
@@ -501,6 +563,16 @@ pub fn fold_copies_bytes(rows: usize, dims: usize) -> u64 {
     (rows as u64).saturating_mul(dims as u64).saturating_mul(4)
 }
 
+/// What making a method's rows in a fold reads besides the fold itself.
+struct RowsIn<'a> {
+    ds: &'a Dataset,
+    guard: &'a LeakGuard<'a>,
+    train_pos: &'a [Option<usize>],
+    unit_norm: bool,
+    cfg: &'a AssessConfig,
+    budget: ExternalBudget,
+}
+
 /// The real training and test rows of one fold and its growth plan.
 struct FoldContext<'a> {
     fold: &'a Fold,
@@ -534,6 +606,74 @@ impl<'a> FoldContext<'a> {
             self.fold.index as u64,
         ];
         augment::grow(&self.train, augmenter, &self.plan, unit_norm, seed, &stream)
+    }
+
+    /// A method's synthetic rows of this fold: fitted, read from a file (gated, and for an
+    /// external set drawn under its budget) or the union of its parts'.
+    fn rows_of(
+        &self,
+        arm: &Arm<'_>,
+        at: &RowsIn<'_>,
+        warnings: &mut FoldWarnings,
+    ) -> Result<Grown> {
+        match arm {
+            Arm::Fit(augmenter) => {
+                let grown = self.grow(*augmenter, at.unit_norm, at.cfg.seed)?;
+                at.guard.check(&grown.x, augmenter.kind())?;
+                for w in describe_notes(&grown.notes, &at.ds.classes, augmenter.kind()) {
+                    warnings.add(w, self.fold);
+                }
+                Ok(grown)
+            }
+            Arm::File(rows) => {
+                let eligible = rows.eligible(at.train_pos);
+                let keep = if rows.is_external() {
+                    let stream = external::stream(&rows.id(), self.fold.repeat, self.fold.index);
+                    let (keep, short) = external::draw(
+                        rows,
+                        &eligible,
+                        at.budget,
+                        &self.plan,
+                        at.cfg.seed,
+                        &stream,
+                    );
+                    for s in short {
+                        warnings.add(
+                            format!(
+                                "external set '{}' had fewer rows whose parent is a training row than the feature-space methods add to class '{}', so it adds fewer rows there",
+                                rows.id(),
+                                at.ds.classes[s.class as usize]
+                            ),
+                            self.fold,
+                        );
+                    }
+                    keep
+                } else {
+                    eligible
+                };
+                let (grown, file_rows) = rows.take(&keep, at.train_pos);
+                at.guard.check_file(&grown.x, &rows.id(), &file_rows)?;
+                Ok(grown)
+            }
+            Arm::Union(_, parts) => {
+                let mut all = Grown {
+                    x: Array2::zeros((0, self.train.dims())),
+                    labels: Vec::new(),
+                    provenance: Vec::new(),
+                    renormalised: false,
+                    notes: Vec::new(),
+                };
+                for part in parts {
+                    let g = self.rows_of(part, at, warnings)?;
+                    all.x = ndarray::concatenate(ndarray::Axis(0), &[all.x.view(), g.x.view()])
+                        .expect("rows of one width");
+                    all.labels.extend(g.labels);
+                    all.provenance.extend(g.provenance);
+                    all.renormalised |= g.renormalised;
+                }
+                Ok(all)
+            }
+        }
     }
 
     /// Each data row's position among this fold's training rows (None for test rows).
@@ -674,6 +814,13 @@ impl<'a> LeakGuard<'a> {
         file_rows: &[usize],
     ) -> Result<()> {
         match self.first_copy(synthetic) {
+            Some(i) if matches!(method, MethodId::External(_)) => Err(Error::data(
+                format!(
+                    "external set '{method}': row {} is identical to a held-out test row, though its parent is a training row of the fold",
+                    file_rows[i]
+                ),
+                "its parent does not name the real row it was made from; give each row the id (or row index) of the input it augments",
+            )),
             Some(i) => Err(Error::data(
                 format!(
                     "{method}: the file's row {} is identical to a held-out test row, though its parent and partner are training rows of the fold",

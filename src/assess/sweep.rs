@@ -242,7 +242,7 @@ pub fn sweep(
             cfg,
             input.clone(),
             &augmenters,
-            &[],
+            super::external::RowSets::files(&[]),
             &mut |_| {},
             &mut reuse,
         )?;

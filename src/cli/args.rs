@@ -5,6 +5,7 @@ use std::path::PathBuf;
 
 use clap::Args;
 
+use embloom::assess::{ExternalBudget, MethodId};
 use embloom::augment::{AugmentParams, MethodKind, Param, Target, UnitNorm};
 use embloom::io::ReadOptions;
 use embloom::neighbors::{IndexKind, Metric};
@@ -98,6 +99,116 @@ impl MethodArgs {
     }
 }
 
+/// Input-space sets to compare with the feature-space methods (shared by assess and sweep).
+#[derive(Args, Debug, Clone, Default)]
+pub struct ExternalArgs {
+    /// An external set: FILE holds embeddings of input-space augmented samples made with your
+    /// own backbone, with `labels` (or --labels-key / --label-column) and `parent` (the real
+    /// row each came from: the real file's `id`, or its row index when it has no ids). It is
+    /// assessed as a method named NAME; in each fold only rows whose parent is a training row
+    /// are used. Repeatable.
+    #[arg(long = "external", value_name = "NAME=FILE", value_parser = parse_external)]
+    pub external: Vec<(String, PathBuf)>,
+    /// How many of an external set's eligible rows a fold uses: match (per grown class, as
+    /// many as the feature-space methods add under --target, drawn at random), all, or N (at
+    /// most N per class).
+    #[arg(long, default_value = "match", value_name = "match|all|N", value_parser = parse_budget)]
+    pub external_budget: ExternalBudget,
+}
+
+/// One entry of a method list: a method embloom runs, or a name resolved once the external
+/// sets are known (an external set's, or a union joined by `+`).
+#[derive(Debug, Clone, PartialEq)]
+pub enum MethodEntry {
+    Kind(MethodKind),
+    Named(MethodId),
+}
+
+/// The methods of a list, the unions among them, and the names of external sets it names
+/// alone; refuses a name that is neither a method nor one of `external`.
+pub fn split_methods(
+    entries: &[MethodEntry],
+    external: &[(String, PathBuf)],
+) -> Result<(Vec<MethodKind>, Vec<MethodId>), embloom::Error> {
+    let known = |n: &str| external.iter().any(|(e, _)| e == n);
+    let mut kinds = Vec::new();
+    let mut unions = Vec::new();
+    for e in entries {
+        match e {
+            MethodEntry::Kind(k) => kinds.push(*k),
+            MethodEntry::Named(MethodId::External(n)) if known(n) => {}
+            MethodEntry::Named(MethodId::External(n)) => {
+                return Err(n.parse::<MethodKind>().map_or_else(
+                    |e| e,
+                    |_| embloom::Error::param("methods", n, "report this as a bug"),
+                ));
+            }
+            MethodEntry::Named(u @ MethodId::Union(parts)) => {
+                for p in parts {
+                    match p {
+                        MethodId::Kind(k) if !kinds.contains(k) => kinds.push(*k),
+                        MethodId::External(n) if !known(n) => {
+                            return Err(embloom::Error::param(
+                                "methods",
+                                format!(
+                                    "{u} joins '{n}', which is neither a method nor an external set"
+                                ),
+                                "give the external set with --external NAME=FILE, or join methods by their names",
+                            ));
+                        }
+                        _ => {}
+                    }
+                }
+                if !unions.contains(u) {
+                    unions.push(u.clone());
+                }
+            }
+            MethodEntry::Named(other) => unions.push(other.clone()),
+        }
+    }
+    Ok((kinds, unions))
+}
+
+pub fn parse_method_entry(s: &str) -> Result<MethodEntry, String> {
+    if s.contains(embloom::assess::UNION_JOIN) {
+        let id: MethodId = s.parse().map_err(|e: embloom::Error| error_text(&e))?;
+        let parts = match &id {
+            MethodId::Union(parts) => parts.as_slice(),
+            _ => &[],
+        };
+        if parts.len() < 2 || parts.iter().any(|p| p.name().is_empty() || p.is_baseline()) {
+            return Err(format!(
+                "'{s}' is not a union: join two or more methods or external sets (not none) with +, e.g. flips+interpolate"
+            ));
+        }
+        return Ok(MethodEntry::Named(id));
+    }
+    match s.parse::<MethodKind>() {
+        Ok(k) => Ok(MethodEntry::Kind(k)),
+        Err(_) if embloom::assess::check_external_name(s).is_ok() => {
+            Ok(MethodEntry::Named(MethodId::External(s.to_string())))
+        }
+        Err(e) => Err(error_text(&e)),
+    }
+}
+
+pub fn parse_external(s: &str) -> Result<(String, PathBuf), String> {
+    let Some((name, file)) = s.split_once('=') else {
+        return Err(format!(
+            "'{s}' is not NAME=FILE; give the set's name and its file, e.g. flips=flips.npz"
+        ));
+    };
+    embloom::assess::check_external_name(name).map_err(|e| error_text(&e))?;
+    if file.is_empty() {
+        return Err(format!("'{s}' names no file; give NAME=FILE"));
+    }
+    Ok((name.to_string(), PathBuf::from(file)))
+}
+
+pub fn parse_budget(s: &str) -> Result<ExternalBudget, String> {
+    s.parse().map_err(|e: embloom::Error| error_text(&e))
+}
+
 /// The flag spelling of each library parameter name the command line sets, and what the
 /// binary adds to the library's fix (the library knows nothing of flags, so a fix that needs
 /// one is completed here).
@@ -123,6 +234,9 @@ const FLAGS: &[(&str, &str, &str)] = &[
     ("temperature", "--knn-temperature", ""),
     ("l2", "--linear-l2", ""),
     ("max_iter", "--linear-max-iter", ""),
+    ("methods", "--methods", ""),
+    ("external", "--external", ""),
+    ("external-budget", "--external-budget", ""),
 ];
 
 /// A library error as the command line prints it: parameters by their flags, a memory limit

@@ -4,10 +4,15 @@ use std::path::{Path, PathBuf};
 
 use clap::Args;
 
-use super::args::{InputArgs, MethodArgs, parse_method, parse_size};
+use super::args::{
+    ExternalArgs, InputArgs, MethodArgs, MethodEntry, parse_method_entry, parse_size, split_methods,
+};
 use super::progress::{FoldBar, show_progress};
 use super::protocol::ProtocolArgs;
-use embloom::assess::{AssessConfig, AssessResults, GrownFile, InputInfo, assess_grown_observed};
+use embloom::assess::{
+    AssessConfig, AssessResults, ExternalConfig, FileRows, GrownFile, InputInfo, RowSets,
+    assess_sets_observed, read_external,
+};
 use embloom::augment::MethodKind;
 use embloom::error::Result;
 use embloom::io::{self, ReadOptions};
@@ -17,14 +22,20 @@ use embloom::io::{self, ReadOptions};
 /// probes are scored on real held-out rows only. Differences against `none` are paired per
 /// fold, with 95% intervals (see --interval). A file embloom grew is assessed on its real rows,
 /// and its own synthetic rows are one more method, `<origin> (from file)`: in each fold only
-/// those whose parent and partner are training rows of the fold are used.
+/// those whose parent and partner are training rows of the fold are used. Input-space sets
+/// (--external NAME=FILE) are methods too, gated the same way by each row's parent; a method
+/// list entry joined by + (flips+interpolate) trains on the union of its parts' rows.
 #[derive(Args, Debug)]
 pub struct AssessArgs {
     #[command(flatten)]
     pub input: InputArgs,
-    /// Methods to compare (none, the baseline, is always included).
-    #[arg(long, value_delimiter = ',', default_value = "none,interpolate,extrapolate,principal-noise", value_parser = parse_method)]
-    pub methods: Vec<MethodKind>,
+    /// Methods to compare (none, the baseline, is always included); an entry joined by +
+    /// (e.g. flips+interpolate) trains on the union of its parts, each made as it would be
+    /// alone.
+    #[arg(long, value_delimiter = ',', default_value = "none,interpolate,extrapolate,principal-noise", value_parser = parse_method_entry)]
+    pub methods: Vec<MethodEntry>,
+    #[command(flatten)]
+    pub external: ExternalArgs,
     #[command(flatten)]
     pub protocol: ProtocolArgs,
     #[command(flatten)]
@@ -49,13 +60,17 @@ pub struct AssessArgs {
 
 /// Run `embloom assess` and print its table (or JSON).
 pub fn run(a: AssessArgs, quiet: bool) -> anyhow::Result<()> {
-    let config = a
-        .protocol
-        .config(a.methods.clone(), &a.how, !a.no_diagnostics);
+    let (kinds, unions) = split_methods(&a.methods, &a.external.external)?;
+    let config = a.protocol.config(kinds, &a.how, !a.no_diagnostics);
     let opts = AssessOptions {
         input: a.input.file.clone(),
         read: a.input.read_options(),
         config,
+        external: a.external.external.clone(),
+        external_config: ExternalConfig {
+            budget: a.external.external_budget,
+            unions,
+        },
         report: a.report.clone(),
         force: a.force,
         max_memory: a.max_memory,
@@ -82,6 +97,9 @@ pub struct AssessOptions {
     pub input: PathBuf,
     pub read: ReadOptions,
     pub config: AssessConfig,
+    /// External sets by name and file, read with the input's keys and a `parent` per row.
+    pub external: Vec<(String, PathBuf)>,
+    pub external_config: ExternalConfig,
     pub report: Option<PathBuf>,
     pub force: bool,
     /// Refuse when the estimated peak memory exceeds this many bytes (and always when it
@@ -100,33 +118,40 @@ pub fn execute_announced(
     opts: &AssessOptions,
     show_progress: bool,
 ) -> Result<(AssessResults, Vec<String>)> {
-    let inputs = io::output_target::inputs_of(&opts.input, &opts.read);
+    let mut inputs = io::output_target::inputs_of(&opts.input, &opts.read);
+    inputs.extend(opts.external.iter().map(|(_, p)| p.as_path()));
     if let Some(dir) = &opts.report {
         io::output_target::check_dir(dir, opts.force, &inputs)?;
     }
     let mut config = opts.config.clone().validated()?;
-    let loaded = load(&opts.input, &opts.read)?;
+    let mut loaded = load(&opts.input, &opts.read)?;
+    let file_notes = from_file_notes(&loaded.file);
+    let (rows, sets) = with_external(&mut loaded, &opts.external, &opts.read)?;
     let ds = &loaded.file.real;
     let thin = thin_class_check(ds, config.folds, &opts.input)?;
     let clamped = clamp_knn_k(&mut config, ds.n_rows());
-    check_memory(ds, &config, &loaded.file, opts)?;
+    check_memory(ds, &config, &rows, opts)?;
     let announced: Vec<String> = thin.into_iter().collect();
     for w in &announced {
         eprintln!("warning: {w}");
     }
     let bar = FoldBar::new(show_progress);
-    let results = assess_grown_observed(
+    let results = assess_sets_observed(
         ds,
         &config,
         loaded.info.clone(),
-        &loaded.file.methods,
+        RowSets {
+            rows: &rows,
+            config: &opts.external_config,
+            sets: &sets,
+        },
         &mut |p| bar.update(p),
     );
     bar.finish();
     let mut results = results?;
     results.command_line = command_line();
     results.warnings.extend(loaded.file.left_out.clone());
-    results.warnings.extend(from_file_notes(&loaded.file));
+    results.warnings.extend(file_notes);
     results.warnings.extend(loaded.notes.iter().cloned());
     results.warnings.extend(clamped);
     results.warnings.extend(announced.iter().cloned());
@@ -165,6 +190,7 @@ pub fn load(path: &Path, read: &ReadOptions) -> Result<Input> {
         parent,
         partner,
         notes,
+        ..
     } = io::read(path, read)?;
     // Assess computes in f32 only; the input's f64 values would be copied into every fold.
     dataset.drop_stored_values();
@@ -183,6 +209,27 @@ pub fn load(path: &Path, read: &ReadOptions) -> Result<Input> {
         dropped_nonfinite,
         notes,
     })
+}
+
+/// The grown file's rows (taken out of `loaded`) followed by each external set, read with the
+/// input's keys and resolved against its real rows, and what results.json records of each.
+pub fn with_external(
+    loaded: &mut Input,
+    external: &[(String, PathBuf)],
+    read: &ReadOptions,
+) -> Result<(Vec<FileRows>, Vec<embloom::assess::ExternalSetInfo>)> {
+    let mut rows = std::mem::take(&mut loaded.file.methods);
+    let mut sets = Vec::new();
+    let read = ReadOptions {
+        labels_file: None,
+        ..read.clone()
+    };
+    for (name, path) in external {
+        let (r, info) = read_external(name, path, &read, &loaded.file.real)?;
+        rows.push(r);
+        sets.push(info);
+    }
+    Ok((rows, sets))
 }
 
 /// What the report says about a grown file's rows: each origin is a method of its own, made
@@ -293,7 +340,7 @@ pub fn thin_class_check(
 fn check_memory(
     ds: &embloom::Dataset,
     config: &AssessConfig,
-    file: &GrownFile,
+    file_rows: &[FileRows],
     opts: &AssessOptions,
 ) -> Result<()> {
     let plan = embloom::augment::plan_for(ds, config.target, config.classes.as_deref())?;
@@ -303,9 +350,15 @@ fn check_memory(
         0
     };
     // A fold holds one method's rows at a time; the file's rows are held throughout.
-    let from_file: usize = file.methods.iter().map(|m| m.n_rows()).sum();
-    let largest_file = file.methods.iter().map(|m| m.n_rows()).max().unwrap_or(0);
-    let synthetic = fitted.max(largest_file) + from_file;
+    // A union holds its parts' rows at once: at most every method's.
+    let from_file: usize = file_rows.iter().map(|m| m.n_rows()).sum();
+    let largest_file = file_rows.iter().map(|m| m.n_rows()).max().unwrap_or(0);
+    let unions = opts.external_config.unions.len();
+    let synthetic = if unions > 0 {
+        fitted * config.methods.len() + 2 * from_file
+    } else {
+        fitted.max(largest_file) + from_file
+    };
     let mut est = embloom::memory::for_assess(
         &opts.input,
         ds.n_rows(),
@@ -347,7 +400,7 @@ fn check_memory(
     let est = est.with_fold_records(
         config.repeats.max(1)
             * config.folds.max(2)
-            * (config.methods.len() + file.methods.len())
+            * (config.methods.len() + file_rows.len() + unions)
             * config.probes.len(),
         ds.n_classes(),
     );

@@ -94,6 +94,8 @@ pub fn demo(out: &Path, force: bool, quiet: bool) -> Result<()> {
             input: data,
             read,
             config,
+            external: Vec::new(),
+            external_config: Default::default(),
             report: Some(report.clone()),
             force: false,
             max_memory: None,

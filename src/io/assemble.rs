@@ -30,6 +30,9 @@ pub struct Parts {
     /// [`Loaded::parent`]).
     pub parent: Option<Vec<i64>>,
     pub partner: Option<Vec<i64>>,
+    /// Each row's parent as text, from the key the caller named (see
+    /// [`super::ReadOptions::parent_key`]), with where it was found.
+    pub parent_refs: Option<(String, Vec<String>)>,
 }
 
 /// How a file stored what it holds, beyond the f32 matrix every reader decodes: the input's
@@ -88,6 +91,7 @@ pub fn finish(
         origin,
         parent,
         partner,
+        parent_refs,
     } = parts;
     let n = x.nrows();
     if labels.len() != n {
@@ -110,6 +114,10 @@ pub fn finish(
         (
             folds.as_ref().map(|(k, _)| k),
             folds.as_ref().map(|(_, v)| v.len()),
+        ),
+        (
+            parent_refs.as_ref().map(|(k, _)| k),
+            parent_refs.as_ref().map(|(_, v)| v.len()),
         ),
     ] {
         if let (Some(key), Some(len)) = (what, len)
@@ -162,12 +170,13 @@ pub fn finish(
         }
     }
     // Rows dropped for NaN/Inf take their provenance with them; the stored indices are kept.
-    let (parent, partner) = if dropped == 0 || keep_nonfinite {
-        (parent, partner)
+    let (parent, partner, parent_refs) = if dropped == 0 || keep_nonfinite {
+        (parent, partner, parent_refs.map(|(_, v)| v))
     } else {
         (
             parent.map(|v| keep(v, &finite)),
             partner.map(|v| keep(v, &finite)),
+            parent_refs.map(|(_, v)| keep(v, &finite)),
         )
     };
     let Stored {
@@ -226,6 +235,7 @@ pub fn finish(
         origin,
         parent,
         partner,
+        parent_refs,
         notes,
     })
 }

@@ -128,6 +128,8 @@ enum Role {
     Feature,
     /// Provenance written by embloom itself; skipped on reading.
     Provenance,
+    /// The parent of each row of an external set, as text (see `ReadOptions::parent_key`).
+    ParentRef,
 }
 
 fn missing(path: &Path, line: usize, col: &str) -> Error {
@@ -194,12 +196,28 @@ pub fn read(path: &Path, sep: char, opts: &ReadOptions) -> Result<Parts> {
             "pass --label-column with the name of the label column",
         ));
     }
+    if let Some(key) = opts.parent_key.as_deref()
+        && !seen.contains_key(key)
+    {
+        return Err(Error::input_at(
+            path,
+            format!("line {}", header.line),
+            format!(
+                "no column '{key}' naming each row's parent; columns present: {}",
+                names.join(", ")
+            ),
+            format!(
+                "add a '{key}' column holding the id (or row index) of the real row each row was made from"
+            ),
+        ));
+    }
     // An embloom export carries all four provenance columns; they are not features.
     let is_export = PROVENANCE.iter().all(|p| seen.contains_key(p));
     let roles: Vec<Role> = names
         .iter()
         .map(|n| match n.as_str() {
             n if n == opts.label_column => Role::Label,
+            n if opts.parent_key.as_deref() == Some(n) => Role::ParentRef,
             "id" => Role::Id,
             "group" => Role::Group,
             n if n == opts.fold_key => Role::Fold,
@@ -215,6 +233,10 @@ pub fn read(path: &Path, sep: char, opts: &ReadOptions) -> Result<Parts> {
     let mut ids = has(Role::Id).then(Vec::new);
     let mut groups = has(Role::Group).then(Vec::new);
     let mut folds = has(Role::Fold).then(Vec::new);
+    let mut parent_refs = opts
+        .parent_key
+        .as_ref()
+        .map(|k| (format!("column '{k}'"), Vec::new()));
     let mut origin = is_export.then(Vec::new);
     let (mut parent, mut partner) = (is_export.then(Vec::new), is_export.then(Vec::new));
     for rec in recs {
@@ -292,6 +314,10 @@ pub fn read(path: &Path, sep: char, opts: &ReadOptions) -> Result<Parts> {
                     column.as_mut().into_iter().for_each(|c| c.push(i));
                 }
                 Role::Provenance => {}
+                Role::ParentRef => parent_refs
+                    .as_mut()
+                    .into_iter()
+                    .for_each(|(_, p)| p.push(v.to_string())),
             }
         }
         lines.push(rec.line);
@@ -316,6 +342,7 @@ pub fn read(path: &Path, sep: char, opts: &ReadOptions) -> Result<Parts> {
         origin,
         parent,
         partner,
+        parent_refs,
     })
 }
 

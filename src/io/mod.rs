@@ -56,6 +56,10 @@ pub struct ReadOptions {
     pub drop_nonfinite: bool,
     /// Keep rows with NaN/Inf as they are (for `inspect`, which reports them).
     pub keep_nonfinite: bool,
+    /// Member or column naming each row's parent in another file (an external set of
+    /// input-space augmented rows: the real row each came from, as an id or row index), read
+    /// as text into [`Loaded::parent_refs`]. `None` reads no such role.
+    pub parent_key: Option<String>,
 }
 
 impl Default for ReadOptions {
@@ -68,6 +72,7 @@ impl Default for ReadOptions {
             fold_key: "fold".into(),
             drop_nonfinite: false,
             keep_nonfinite: false,
+            parent_key: None,
         }
     }
 }
@@ -86,6 +91,8 @@ pub struct Loaded {
     pub parent: Option<Vec<i64>>,
     /// Per-row `partner`, in the same index space as `parent`; −1 where no neighbour was used.
     pub partner: Option<Vec<i64>>,
+    /// Each row's parent as text, read from [`ReadOptions::parent_key`] when one is given.
+    pub parent_refs: Option<Vec<String>>,
     /// How the file was read where a user may want to know (an old key name accepted, say);
     /// the binary prints them, the library never does.
     pub notes: Vec<String>,
@@ -218,6 +225,7 @@ fn read_npy(path: &Path, opts: &ReadOptions) -> Result<(assemble::Parts, assembl
         origin: None,
         parent: None,
         partner: None,
+        parent_refs: None,
     };
     Ok((parts, stored))
 }
@@ -226,6 +234,17 @@ fn read_npy(path: &Path, opts: &ReadOptions) -> Result<(assemble::Parts, assembl
 pub fn read(path: &Path, opts: &ReadOptions) -> Result<Loaded> {
     let format = Format::of(path)?;
     require_file(path, "input file")?;
+    if let Some(key) = opts.parent_key.as_deref()
+        && format == Format::Npy
+    {
+        return Err(Error::input(
+            path,
+            format!(
+                "a .npy file holds only embeddings, so it has no '{key}' naming each row's parent"
+            ),
+            "store the embeddings, labels and parent together in an .npz, .csv, .safetensors or .h5 file",
+        ));
+    }
     // Text tables hold no float type or integer ids beyond what the text says.
     let text = |parts| (parts, assemble::Stored::default());
     let (parts, stored) = match format {

@@ -243,6 +243,13 @@ pub fn keyed_parts(
     } else {
         (None, None)
     };
+    let parent_refs = match opts.parent_key.as_deref() {
+        Some(key) => Some((
+            format!("key '{key}'"),
+            src.get(key)?.into_strings(path, key)?.0,
+        )),
+        None => None,
+    };
     let folds = src
         .get_optional(&opts.fold_key)?
         .map(|t| t.into_ints(path, &opts.fold_key))
@@ -267,6 +274,7 @@ pub fn keyed_parts(
         origin,
         parent,
         partner,
+        parent_refs,
     };
     Ok((parts, stored))
 }

@@ -6,6 +6,7 @@ mod common;
 
 mod cli_assess;
 mod cli_dtypes;
+mod cli_external;
 mod cli_from_file;
 mod cli_grow;
 mod cli_inspect;

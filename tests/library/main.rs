@@ -5,6 +5,7 @@
 mod common;
 
 mod assess_digits;
+mod assess_external;
 mod assess_from_file;
 mod assess_grown;
 mod assess_intervals;
