@@ -60,6 +60,7 @@ fn info(ds: &Dataset) -> InputInfo {
         dims: ds.dims(),
         classes: ds.classes.clone(),
         class_counts: ds.class_counts(),
+        labels_file: None,
     }
 }
 
