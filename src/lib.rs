@@ -56,6 +56,8 @@
 //! # Ok::<(), embloom::Error>(())
 //! ```
 
+#![warn(missing_docs)]
+
 pub mod assess;
 pub mod augment;
 pub mod data;
