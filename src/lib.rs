@@ -56,7 +56,7 @@
 //! # Ok::<(), embloom::Error>(())
 //! ```
 
-#![warn(missing_docs)]
+#![deny(missing_docs)]
 
 pub mod assess;
 pub mod augment;

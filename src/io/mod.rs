@@ -1,6 +1,6 @@
 //! Reading and writing embedding sets. One module per format; the format is chosen by the
 //! file's extension and the keys by options. Every reader yields the same [`Dataset`]; every
-//! writer goes through [`atomic`] so a crash never leaves half a file under the target name.
+//! writer goes through `atomic.rs` so a crash never leaves half a file under the target name.
 
 //!
 //! | extension | read | write |
@@ -303,7 +303,7 @@ pub fn output_format(path: &Path) -> Result<Format> {
 }
 
 /// Write an augmented set in the format of `path`'s extension. Refuses an existing file
-/// unless `force`. The file appears complete or not at all (see [`atomic`]).
+/// unless `force`. The file appears complete or not at all (see `atomic.rs`).
 pub fn write(path: &Path, set: &AugmentedSet, force: bool) -> Result<()> {
     let format = output_format(path)?;
     let export = export::prepare(path, set)?;
