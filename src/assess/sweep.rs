@@ -72,8 +72,8 @@ impl Knob {
     pub fn apply(self, cfg: &AssessConfig, value: &str) -> Result<AssessConfig> {
         let bad = |what: &str| {
             Error::param(
-                "--values",
-                format!("'{value}' is not {what} for --knob {}", self.name()),
+                "values",
+                format!("'{value}' is not {what} for `knob` {}", self.name()),
                 format!("give comma-separated values, each {what}"),
             )
         };
@@ -109,7 +109,7 @@ impl FromStr for Knob {
             .ok_or_else(|| {
                 let names: Vec<_> = Knob::ALL.iter().map(|k| k.name()).collect();
                 Error::param(
-                    "--knob",
+                    "knob",
                     format!("unknown knob '{s}'"),
                     format!("use one of: {}", names.join(", ")),
                 )
@@ -213,7 +213,7 @@ pub fn sweep(
 ) -> Result<SweepResults> {
     if method == MethodKind::None {
         return Err(Error::param(
-            "--method",
+            "method",
             "none has no knobs",
             "sweep a method that makes rows, such as interpolate",
         ));
@@ -225,16 +225,16 @@ pub fn sweep(
             .map(|k| k.name())
             .collect();
         return Err(Error::param(
-            "--knob",
+            "knob",
             format!("{method} does not use {knob}: every value would give the same rows"),
             format!("sweep one of the knobs {method} uses: {}", used.join(", ")),
         ));
     }
     if values.is_empty() {
         return Err(Error::param(
-            "--values",
+            "values",
             "no values given",
-            "give at least one value, e.g. --values 0.25,0.5,1",
+            "give at least one value, e.g. 0.25,0.5,1",
         ));
     }
     // Validate every value before the first (long) assessment starts.

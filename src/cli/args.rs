@@ -123,7 +123,24 @@ const FLAGS: &[(&str, &str, &str)] = &[
     ("temperature", "--knn-temperature", ""),
     ("l2", "--linear-l2", ""),
     ("max_iter", "--linear-max-iter", ""),
+    ("method", "--method", ""),
+    ("knob", "--knob", ""),
+    ("values", "--values", ""),
+    ("force", "--force", ""),
+    ("labels_file", "--labels FILE", ""),
+    ("embeddings_key", "--embeddings-key", ""),
+    ("labels_key", "--labels-key", ""),
+    ("label_column", "--label-column", ""),
+    ("drop_nonfinite", "--drop-nonfinite", ""),
 ];
+
+/// `text` with every parameter the library wrote in backticks (`` `max_iter` ``, `` `force` ``)
+/// spelled as the flag that sets it, for a warning or fix the binary prints.
+pub fn flag_text(text: &str) -> String {
+    FLAGS.iter().fold(text.to_string(), |t, (name, flag, _)| {
+        t.replace(&format!("`{name}`"), flag)
+    })
+}
 
 /// A library error as the command line prints it: parameters by their flags, a memory limit
 /// the user gave by `--max-memory`, and fixes completed with the flag to use.
@@ -140,7 +157,7 @@ pub fn error_text(e: &embloom::Error) -> String {
             } else {
                 format!("{fix} ({extra})")
             };
-            format!("invalid {flag}: {detail}\n  fix: {fix}")
+            flag_text(&format!("invalid {flag}: {detail}\n  fix: {fix}"))
         }
         embloom::Error::Resource {
             what,
@@ -153,11 +170,11 @@ pub fn error_text(e: &embloom::Error) -> String {
                 },
             fix,
             ..
-        } => format!(
+        } => flag_text(&format!(
             "{what} would need about {needed} of {resource}, more than --max-memory ({})\n  fix: {fix}",
             embloom::memory::human(*bytes)
-        ),
-        other => other.to_string(),
+        )),
+        other => flag_text(&other.to_string()),
     }
 }
 

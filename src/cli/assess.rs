@@ -4,7 +4,7 @@ use std::path::{Path, PathBuf};
 
 use clap::Args;
 
-use super::args::{InputArgs, MethodArgs, parse_method, parse_size};
+use super::args::{InputArgs, MethodArgs, flag_text, parse_method, parse_size};
 use super::progress::{FoldBar, show_progress};
 use super::protocol::ProtocolArgs;
 use embloom::assess::{AssessConfig, AssessResults, GrownFile, InputInfo, assess_grown_observed};
@@ -136,6 +136,8 @@ pub fn execute_announced(
             loaded.dropped_nonfinite
         ));
     }
+    // The library names parameters; the command line's reader knows them by their flags.
+    results.warnings = results.warnings.iter().map(|w| flag_text(w)).collect();
     if let Some(dir) = &opts.report {
         embloom::report::write_report_dir_guarded(dir, &results, opts.force, &inputs)?;
     }

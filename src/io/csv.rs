@@ -191,7 +191,7 @@ pub fn read(path: &Path, sep: char, opts: &ReadOptions) -> Result<Parts> {
                 opts.label_column,
                 names.join(", ")
             ),
-            "pass --label-column with the name of the label column",
+            "pass `label_column` with the name of the label column",
         ));
     }
     // An embloom export carries all four provenance columns; they are not features.
@@ -244,7 +244,7 @@ pub fn read(path: &Path, sep: char, opts: &ReadOptions) -> Result<Parts> {
                         format!("line {}, column '{name}'", rec.line),
                         format!("'{v}' is not a number"),
                         format!(
-                            "fix the value, or pass --label-column if '{name}' holds the labels"
+                            "fix the value, or pass `label_column` if '{name}' holds the labels"
                         ),
                     )
                 })?),

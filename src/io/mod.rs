@@ -200,7 +200,7 @@ fn read_npy(path: &Path, opts: &ReadOptions) -> Result<(assemble::Parts, assembl
         return Err(Error::input(
             path,
             "a .npy file holds only the embeddings; the labels must come from a second file",
-            "pass --labels FILE (a .npy array with one label per row), or use .npz/.csv/.safetensors/.h5",
+            "pass `labels_file` (a .npy array with one label per row), or use .npz/.csv/.safetensors/.h5",
         ));
     };
     require_file(lp, "labels file")?;
