@@ -97,7 +97,7 @@ fn npy_without_labels_file() {
     let p = fixture("x_f32.npy");
     has(
         &err(&p, &ReadOptions::default()),
-        &["x_f32.npy", "--labels FILE"],
+        &["x_f32.npy", "`labels_file`"],
     );
 }
 
