@@ -10,20 +10,28 @@ use crate::memory::human;
 /// Library result alias.
 pub type Result<T, E = Error> = std::result::Result<T, E>;
 
+/// Every way a library call can fail. Each message carries a `fix`: what to change to
+/// make the call succeed.
 #[derive(Debug, thiserror::Error)]
 pub enum Error {
     /// An input file is unreadable or malformed. `location` names the key, column or row.
     #[error("{}: {detail}{}\n  fix: {fix}", path.display(), location.as_deref().map(|l| format!(" ({l})")).unwrap_or_default())]
     Input {
+        /// The file at fault.
         path: PathBuf,
+        /// The key, column or row at fault, when one is.
         location: Option<String>,
+        /// What is wrong with it.
         detail: String,
+        /// What the user can change.
         fix: String,
     },
     /// The operating system refused a read or write.
     #[error("{}: {source}", path.display())]
     Io {
+        /// The file being read or written.
         path: PathBuf,
+        /// What the operating system said.
         #[source]
         source: std::io::Error,
     },
@@ -31,16 +39,22 @@ pub enum Error {
     /// library name (`k`, `target`, `variance-kept`), never a flag.
     #[error("invalid {name}: {detail}\n  fix: {fix}")]
     Param {
+        /// The parameter's library name (e.g. `neighbours`, `folds`).
         name: String,
+        /// What is wrong with the value.
         detail: String,
+        /// A valid value or range to use instead.
         fix: String,
     },
     /// The data cannot support the requested operation (too few rows, a single class, ...).
     /// `at` names where, when one place is to blame (a method, a class).
     #[error("{}{detail}\n  fix: {fix}", at.as_deref().map(|a| format!("{a}: ")).unwrap_or_default())]
     Data {
+        /// The method, class or stage at fault, when one is.
         at: Option<String>,
+        /// What the data lacks.
         detail: String,
+        /// What the user can change (more rows, fewer folds, another method).
         fix: String,
     },
     /// A job would need more of a resource than it may use: refused before any work starts.
@@ -54,14 +68,19 @@ pub enum Error {
         needed: String,
         /// The estimate in bytes.
         needed_bytes: u64,
+        /// The limit the estimate went over, and where it came from.
         limit: Limit,
+        /// What to lower (or raise) for the job to fit.
         fix: String,
     },
     /// An output cannot be written as asked.
     #[error("{}: {detail}\n  fix: {fix}", path.display())]
     Output {
+        /// The output path at fault.
         path: PathBuf,
+        /// Why it cannot be written.
         detail: String,
+        /// What the user can change (another path, another format).
         fix: String,
     },
 }
@@ -69,7 +88,9 @@ pub enum Error {
 /// The bound a [`Error::Resource`] estimate was held against.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct Limit {
+    /// The limit, in bytes.
     pub bytes: u64,
+    /// Whether the caller gave it or it is what the machine has.
     pub source: LimitSource,
 }
 
@@ -121,6 +142,7 @@ impl Error {
         }
     }
 
+    /// The operating system refused to read or write `path`.
     pub fn io(path: &Path, source: std::io::Error) -> Self {
         Error::Io {
             path: path.to_path_buf(),
@@ -128,6 +150,7 @@ impl Error {
         }
     }
 
+    /// A parameter out of range, by its library name (never a flag spelling).
     pub fn param(
         name: impl Into<String>,
         detail: impl Into<String>,
@@ -140,6 +163,7 @@ impl Error {
         }
     }
 
+    /// Data that cannot support the operation, with no one method or class to blame.
     pub fn data(detail: impl Into<String>, fix: impl Into<String>) -> Self {
         Error::Data {
             at: None,
@@ -161,6 +185,7 @@ impl Error {
         }
     }
 
+    /// An output that cannot be written as asked.
     pub fn output(path: &Path, detail: impl Into<String>, fix: impl Into<String>) -> Self {
         Error::Output {
             path: path.to_path_buf(),

@@ -57,6 +57,8 @@
 //! # Ok::<(), embloom::Error>(())
 //! ```
 
+#![deny(missing_docs)]
+
 pub mod assess;
 pub mod augment;
 pub mod data;

@@ -28,7 +28,9 @@ const ROW_EXTRA: u64 = 96;
 /// An estimate of peak memory and the stage/parts that make it up.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Estimate {
+    /// The estimated peak, in bytes: the sum of `parts`.
     pub bytes: u64,
+    /// Each stage or part by name, in bytes, for the message that explains a refusal.
     pub parts: Vec<(String, u64)>,
 }
 

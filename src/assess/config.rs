@@ -22,15 +22,28 @@ pub const MAX_REPEATS: usize = 1000;
 pub struct AssessConfig {
     /// Methods to compare; `none` (the baseline) is always first.
     pub methods: Vec<MethodKind>,
+    /// Probes fitted on every training fold; each method is scored under each probe.
     pub probes: Vec<ProbeKind>,
+    /// Folds per repeat (at least 2); a class with fewer rows than folds is missing from
+    /// some test folds.
     pub folds: usize,
+    /// Repeats of the fold split, each with a fresh shuffle (1 to `MAX_REPEATS`, 1000); more
+    /// repeats narrow the intervals.
     pub repeats: usize,
+    /// How many rows each class is grown to, recomputed on every training fold.
     pub target: Target,
+    /// Grow only these classes (by name); `None` lets `target` pick them.
     pub classes: Option<Vec<String>>,
+    /// The shared method parameters (K, magnitude, variance kept, strictness).
     pub augment: AugmentParams,
+    /// Whether synthetic rows are put back on the unit sphere.
     pub unit_norm: UnitNorm,
+    /// The k-NN probe's parameters.
     pub knn: KnnParams,
+    /// The linear probe's parameters.
     pub linear: LinearParams,
+    /// The seed every split and draw derives from; results are the same for a seed on any
+    /// thread count.
     pub seed: u64,
     /// How the intervals of paired differences are computed.
     pub interval: IntervalKind,
@@ -182,21 +195,34 @@ pub struct ExternalSetInfo {
 /// when those change. Fields are in key order: the JSON has always listed them sorted.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ResultsConfig {
+    /// The augmentation parameters as run.
     pub augment: AugmentRecord,
+    /// The classes named to grow, if any were.
     pub classes: Option<Vec<String>>,
+    /// Whether diagnostics were computed.
     pub diagnostics: bool,
     /// External sets and unions, when the assessment had any.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub external: Option<ExternalRecord>,
+    /// Folds per repeat.
     pub folds: usize,
+    /// How the intervals were computed.
     pub interval: IntervalKind,
+    /// The k-NN probe's parameters as run.
     pub knn: KnnRecord,
+    /// The linear probe's parameters as run.
     pub linear: LinearRecord,
+    /// The methods compared, `none` first.
     pub methods: Vec<MethodKind>,
+    /// The probes fitted.
     pub probes: Vec<ProbeKind>,
+    /// Repeats of the fold split.
     pub repeats: usize,
+    /// The seed.
     pub seed: u64,
+    /// The growth target, written as the command line spells it (`median`, `50`, `x2`).
     pub target: Target,
+    /// Whether synthetic rows were renormalised.
     pub unit_norm: UnitNorm,
 }
 
@@ -243,6 +269,7 @@ pub struct LinearRecord {
 }
 
 impl ResultsConfig {
+    /// The record of `cfg`, with defaults filled in as they were run.
     pub fn of(cfg: &AssessConfig) -> Self {
         let a = &cfg.augment;
         let magnitude = match a.magnitude {

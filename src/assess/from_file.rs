@@ -81,6 +81,7 @@ impl FileRows {
         Ok(rows)
     }
 
+    /// The name this method's rows carry in the results: the file's origin, marked "(from file)".
     pub fn id(&self) -> MethodId {
         self.id.clone()
     }
@@ -91,6 +92,7 @@ impl FileRows {
         matches!(self.id, MethodId::External(_))
     }
 
+    /// How many synthetic rows the file holds for this origin (before any per-fold gating).
     pub fn n_rows(&self) -> usize {
         self.x.nrows()
     }
@@ -184,7 +186,10 @@ impl FileRows {
 /// per origin name, in order of first appearance) become methods of their own.
 #[derive(Debug, Clone)]
 pub struct GrownFile {
+    /// The file's real rows (origin `real`), the set the folds are drawn from.
     pub real: Dataset,
+    /// The synthetic rows, one entry per origin in order of first appearance; empty when
+    /// they were left out (see `skipped`).
     pub methods: Vec<FileRows>,
     /// Why the file's synthetic rows were left out, when they could not be used.
     pub left_out: Option<String>,

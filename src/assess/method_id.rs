@@ -55,6 +55,8 @@ impl MethodId {
         }
     }
 
+    /// Whether this is the `none` baseline, which every other method's differences are
+    /// measured against.
     pub fn is_baseline(&self) -> bool {
         *self == MethodId::BASELINE
     }

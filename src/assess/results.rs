@@ -14,11 +14,18 @@ use crate::probe::ProbeKind;
 /// The input file an assessment ran on.
 #[derive(Debug, Clone, Serialize)]
 pub struct InputInfo {
+    /// The input path as given (or a label such as "street-signs (demo)" for data not read
+    /// from a file).
     pub path: String,
+    /// SHA-256 of the input file's bytes, lowercase hex; empty when there was no file.
     pub sha256: String,
+    /// Real rows read (after any rows dropped for NaN/Inf).
     pub rows: usize,
+    /// Dimension of each embedding row.
     pub dims: usize,
+    /// Class names, in class-index order (every index in the results refers to this list).
     pub classes: Vec<String>,
+    /// Real rows per class, aligned with `classes`.
     pub class_counts: Vec<usize>,
     /// The separate labels file, when the labels were not stored beside the embeddings
     /// (an `.npy` matrix with its labels in another file): a result names both inputs.
@@ -38,12 +45,19 @@ pub struct HashedFile {
 /// One method × probe evaluated on one fold.
 #[derive(Debug, Clone, Serialize)]
 pub struct FoldRecord {
+    /// Repeat index, from 0: each repeat reshuffles the folds with its own seed stream.
     pub repeat: usize,
+    /// Fold index within the repeat, from 0.
     pub fold: usize,
+    /// The method whose synthetic rows joined the training fold (`none` adds none).
     pub method: MethodId,
+    /// The probe fitted on the training fold and scored on the held-out fold.
     pub probe: ProbeKind,
+    /// Real training rows in this fold.
     pub train_real: usize,
+    /// Synthetic training rows the method added in this fold (0 for `none`).
     pub train_synthetic: usize,
+    /// Held-out rows scored; always real rows only.
     pub test: usize,
     /// Metric → value: the pooled metrics, and for the linear probe log loss and ECE.
     /// Serialised as a JSON object keyed by [`Metric::key`], in this order.
@@ -73,13 +87,22 @@ impl FoldRecord {
 /// A method's mean on one metric and its paired difference against `none`.
 #[derive(Debug, Clone, Serialize)]
 pub struct SummaryRow {
+    /// The method summarised.
     pub method: MethodId,
+    /// The probe the figures come from.
     pub probe: ProbeKind,
+    /// The metric summarised.
     pub metric: Metric,
+    /// Mean of the metric over folds and repeats, on the metric's own scale.
     pub mean: f64,
+    /// Mean paired difference, method minus `none`, over the same folds (0 for `none`).
     pub delta_mean: f64,
+    /// Lower bound of the interval on `delta_mean` (corrected resampled t, or the interval
+    /// kind the config names); NaN when there is none.
     pub delta_ci_low: f64,
+    /// Upper bound of the interval on `delta_mean`; NaN when there is none.
     pub delta_ci_high: f64,
+    /// Two-sided p-value of "no difference from `none`"; NaN when there is no interval.
     pub p_value: f64,
     /// Folds in which the figure had a value for both the method and `none`.
     pub folds: usize,
@@ -91,18 +114,28 @@ pub struct SummaryRow {
 /// One class's recall under a method and probe, with its paired difference against `none`.
 #[derive(Debug, Clone, Serialize)]
 pub struct ClassRow {
+    /// The method summarised.
     pub method: MethodId,
+    /// The probe the figures come from.
     pub probe: ProbeKind,
+    /// The class's name.
     pub class: String,
+    /// Whether the plan grew this class (the classes a method is meant to help).
     pub grown: bool,
+    /// Mean recall of the class over the folds where it had test rows, in [0, 1].
     pub recall_mean: f64,
     /// Precision and F1 of the class from the confusion counts pooled over each repeat's test
     /// folds (Forman & Scholz 2010), averaged over repeats.
     pub precision_pooled: f64,
+    /// F1 of the class from the same pooled confusion counts, in [0, 1].
     pub f1_pooled: f64,
+    /// Mean paired recall difference, method minus `none`.
     pub delta_mean: f64,
+    /// Lower bound of the interval on `delta_mean`; NaN when there is none.
     pub delta_ci_low: f64,
+    /// Upper bound of the interval on `delta_mean`; NaN when there is none.
     pub delta_ci_high: f64,
+    /// Two-sided p-value of "no recall difference from `none`"; NaN when there is no interval.
     pub p_value: f64,
     /// Folds in which the class had test rows (so a recall) under both method and `none`.
     pub folds: usize,
@@ -113,8 +146,11 @@ pub struct ClassRow {
 /// Where a method's synthetic rows of one grown class sit, averaged over folds.
 #[derive(Debug, Clone, Serialize)]
 pub struct DiagnosticRow {
+    /// The method whose synthetic rows are described.
     pub method: MethodId,
+    /// The grown class's name.
     pub class: String,
+    /// Synthetic rows of the class per fold, averaged over folds.
     pub synthetic_rows: f64,
     /// Share of synthetic rows whose nearest real training row is of another class.
     pub intrusion_synthetic: f64,
@@ -123,22 +159,33 @@ pub struct DiagnosticRow {
     /// Median synthetic-to-nearest-real distance ÷ median real-to-nearest-real distance, in
     /// the measure `distance_measure` names (under cosine the angle, not 1 − cos).
     pub distance_ratio: f64,
+    /// The distance `distance_ratio` is measured in (the neighbour metric's name).
     pub distance_measure: String,
     /// The smallest PRDC k any fold used for the class (k shrinks with few held-out rows);
     /// below 2 the PRDC figures of that fold are not available.
     pub prdc_k: f64,
+    /// PRDC precision: share of synthetic rows inside the real rows' k-NN balls, in [0, 1]
+    /// (Naeem et al. 2020); NaN when no fold had k of at least 2.
     pub precision: f64,
+    /// PRDC recall: share of real rows inside the synthetic rows' k-NN balls, in [0, 1].
     pub recall: f64,
+    /// PRDC density: mean count of real balls holding each synthetic row, ÷ k; 1 is what
+    /// real-like rows give, and it may exceed 1.
     pub density: f64,
+    /// PRDC coverage: share of real rows whose ball holds at least one synthetic row, in [0, 1].
     pub coverage: f64,
 }
 
 /// A 2-D PCA projection of one grown class's real and synthetic training rows (first fold).
 #[derive(Debug, Clone, Serialize)]
 pub struct Scatter {
+    /// The method whose synthetic rows are drawn.
     pub method: MethodId,
+    /// The grown class's name.
     pub class: String,
+    /// The class's real training rows, projected on its first two principal directions.
     pub real: Vec<[f32; 2]>,
+    /// The method's synthetic rows of the class, in the same projection.
     pub synthetic: Vec<[f32; 2]>,
     /// Real rows of the other classes nearest to this class, for context.
     pub others: Vec<[f32; 2]>,
@@ -164,26 +211,40 @@ pub struct WorkCounters {
 /// Everything `assess` found.
 #[derive(Debug, Clone, Serialize)]
 pub struct AssessResults {
+    /// The version of embloom that produced the results (from Cargo.toml).
     pub embloom_version: String,
     /// The command line that produced the results, shell-quoted (empty when the library was
     /// called directly), so a result can be reproduced.
     pub command_line: String,
+    /// The input file and its class counts.
     pub input: InputInfo,
     /// The configuration as run (options after defaults were applied).
     pub config: ResultsConfig,
+    /// The seed every fold split and method draw derives from; the same seed and input give
+    /// the same results on any thread count.
     pub seed: u64,
+    /// How the folds were made (stratified, by group, or the input's own folds).
     pub split: SplitKind,
+    /// The methods assessed, `none` first.
     pub methods: Vec<MethodId>,
+    /// The probes fitted on every training fold.
     pub probes: Vec<ProbeKind>,
     /// Names of the classes the plan grew (in the full data; per fold the plan is recomputed).
     pub grown_classes: Vec<String>,
+    /// One record per repeat × fold × method × probe.
     pub folds: Vec<FoldRecord>,
+    /// One row per method × probe × metric.
     pub summary: Vec<SummaryRow>,
+    /// One row per method × probe × class.
     pub per_class: Vec<ClassRow>,
+    /// One row per method × grown class; empty unless diagnostics were asked for.
     pub diagnostics: Vec<DiagnosticRow>,
+    /// One projection per method × grown class; empty unless diagnostics were asked for.
     pub scatter: Vec<Scatter>,
     /// One plain sentence per method and probe.
     pub sentences: Vec<String>,
+    /// Things the user should hear about (thin classes, a probe that did not converge,
+    /// clamped or skipped classes), in parameter names; the binary prints them.
     pub warnings: Vec<String>,
     /// Shared-work counters.
     pub work: WorkCounters,

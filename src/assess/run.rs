@@ -545,11 +545,11 @@ fn not_converged(method: &MethodId, cfg: &AssessConfig) -> String {
     // scale breaks the solver, so go back down.
     let advice = if cfg.linear.l2 > 1.0 {
         format!(
-            "--linear-l2 {:e} is very large; try a smaller one (default 1e-4) or a larger --linear-max-iter",
+            "`l2` {:e} is very large; try a smaller one (default 1e-4) or a larger `max_iter`",
             cfg.linear.l2
         )
     } else {
-        "try a larger --linear-l2 or --linear-max-iter".to_string()
+        "try a larger `l2` or `max_iter`".to_string()
     };
     format!(
         "the linear probe did not converge for {method} within {} iterations; {advice}",

@@ -19,13 +19,18 @@ use crate::probe::ProbeKind;
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "kebab-case")]
 pub enum Knob {
+    /// λ or the noise scale, a positive number.
     Magnitude,
+    /// K same-class neighbours, a whole number of at least 1.
     Neighbours,
+    /// The growth target (`median`, a row count, or a multiple such as `x2`).
     Target,
+    /// The share of class variance kept by principal-noise, in (0, 1].
     VarianceKept,
 }
 
 impl Knob {
+    /// Every knob, in the order help text lists them.
     pub const ALL: [Knob; 4] = [
         Knob::Magnitude,
         Knob::Neighbours,
@@ -33,6 +38,7 @@ impl Knob {
         Knob::VarianceKept,
     ];
 
+    /// The knob's name, as results.json writes it and parameter errors name it.
     pub fn name(self) -> &'static str {
         match self {
             Knob::Magnitude => "magnitude",
@@ -66,8 +72,8 @@ impl Knob {
     pub fn apply(self, cfg: &AssessConfig, value: &str) -> Result<AssessConfig> {
         let bad = |what: &str| {
             Error::param(
-                "--values",
-                format!("'{value}' is not {what} for --knob {}", self.name()),
+                "values",
+                format!("'{value}' is not {what} for `knob` {}", self.name()),
                 format!("give comma-separated values, each {what}"),
             )
         };
@@ -103,7 +109,7 @@ impl FromStr for Knob {
             .ok_or_else(|| {
                 let names: Vec<_> = Knob::ALL.iter().map(|k| k.name()).collect();
                 Error::param(
-                    "--knob",
+                    "knob",
                     format!("unknown knob '{s}'"),
                     format!("use one of: {}", names.join(", ")),
                 )
@@ -147,13 +153,21 @@ impl Serialize for SweepValue {
 /// with value `none` and no difference.
 #[derive(Debug, Clone, Serialize)]
 pub struct SweepPoint {
+    /// The knob's value at this point, or `none` for the baseline.
     pub value: SweepValue,
+    /// The probe the figures come from.
     pub probe: ProbeKind,
+    /// The metric.
     pub metric: Metric,
+    /// Mean of the metric over folds and repeats.
     pub mean: f64,
+    /// Mean paired difference against the shared `none` baseline (0 for the baseline).
     pub delta_mean: f64,
+    /// Lower bound of the interval on `delta_mean`; NaN when there is none.
     pub delta_ci_low: f64,
+    /// Upper bound of the interval on `delta_mean`; NaN when there is none.
     pub delta_ci_high: f64,
+    /// Two-sided p-value of "no difference from `none`"; NaN when there is no interval.
     pub p_value: f64,
 }
 
@@ -171,12 +185,19 @@ fn number_or_text<S: serde::Serializer>(v: &str, s: S) -> std::result::Result<S:
 /// Everything a sweep found.
 #[derive(Debug, Clone, Serialize)]
 pub struct SweepResults {
+    /// The version of embloom that produced the results.
     pub embloom_version: String,
+    /// The input file and its class counts.
     pub input: InputInfo,
+    /// The method whose knob was turned.
     pub method: MethodKind,
+    /// The knob turned.
     pub knob: Knob,
+    /// The seed; every value shares the same folds.
     pub seed: u64,
+    /// One point per value × probe × metric, the baseline first.
     pub points: Vec<SweepPoint>,
+    /// Things the user should hear about, in parameter names; the binary prints them.
     pub warnings: Vec<String>,
 }
 
@@ -192,7 +213,7 @@ pub fn sweep(
 ) -> Result<SweepResults> {
     if method == MethodKind::None {
         return Err(Error::param(
-            "--method",
+            "method",
             "none has no knobs",
             "sweep a method that makes rows, such as interpolate",
         ));
@@ -204,16 +225,16 @@ pub fn sweep(
             .map(|k| k.name())
             .collect();
         return Err(Error::param(
-            "--knob",
+            "knob",
             format!("{method} does not use {knob}: every value would give the same rows"),
             format!("sweep one of the knobs {method} uses: {}", used.join(", ")),
         ));
     }
     if values.is_empty() {
         return Err(Error::param(
-            "--values",
+            "values",
             "no values given",
-            "give at least one value, e.g. --values 0.25,0.5,1",
+            "give at least one value, e.g. 0.25,0.5,1",
         ));
     }
     // Validate every value before the first (long) assessment starts.

@@ -33,11 +33,14 @@ impl Default for ExtrapolateValidParams {
 }
 
 impl ExtrapolateParams {
+    /// Set the same-class neighbour search (K, metric, index, strictness).
     pub fn neighbours(mut self, neighbours: NeighbourParams) -> Self {
         self.0.neighbours = neighbours;
         self
     }
 
+    /// Set λ, how far past the neighbour the row is pushed, as a multiple of the row-to-neighbour
+    /// distance (greater than 0).
     pub fn lambda(mut self, lambda: f32) -> Self {
         self.0.lambda = lambda;
         self

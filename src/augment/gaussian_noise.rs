@@ -39,11 +39,14 @@ impl Default for GaussianNoiseValidParams {
 }
 
 impl GaussianNoiseParams {
+    /// Set the noise scale, as a multiple of each dimension's class standard deviation
+    /// (greater than 0).
     pub fn magnitude(mut self, magnitude: f32) -> Self {
         self.0.magnitude = magnitude;
         self
     }
 
+    /// Refuse a class too small to estimate its spread instead of skipping it.
     pub fn strict(mut self, strict: bool) -> Self {
         self.0.strict = strict;
         self

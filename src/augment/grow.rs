@@ -14,11 +14,15 @@ use crate::seed;
 pub struct Grown {
     /// Synthetic rows only, grouped by class in class-index order.
     pub x: Array2<f32>,
+    /// The class index of each synthetic row (aligned with `x`), in the training set's class
+    /// numbering.
     pub labels: Vec<u32>,
     /// Indices are rows of the training set the method was fitted on.
     pub provenance: Vec<Provenance>,
     /// Whether rows were renormalised to unit norm.
     pub renormalised: bool,
+    /// Classes a fit clamped or skipped, in class order; empty when every class was grown as
+    /// planned.
     pub notes: Vec<FitNote>,
 }
 

@@ -19,6 +19,7 @@ pub struct InterpolateValidParams {
 }
 
 impl InterpolateParams {
+    /// Set the same-class neighbour search (K, metric, index, strictness).
     pub fn neighbours(mut self, neighbours: NeighbourParams) -> Self {
         self.0.neighbours = neighbours;
         self

@@ -44,8 +44,10 @@ macro_rules! methods {
         }
 
         impl MethodKind {
+            /// Every method, in registry order (the order help text and default sweeps list them).
             pub const ALL: [MethodKind; [$($name),*].len()] = [$(MethodKind::$variant),*];
 
+            /// The method's name as written in results, output files and `origin` columns.
             pub fn name(self) -> &'static str {
                 match self { $(MethodKind::$variant => $name,)* }
             }
@@ -142,7 +144,9 @@ pub struct Provenance {
 /// Synthetic rows of one class with their provenance, in the same order.
 #[derive(Debug, Clone)]
 pub struct Synthetic {
+    /// The rows, one per synthetic sample, in the input's dimension.
     pub x: Array2<f32>,
+    /// Where each row came from, aligned with the rows of `x`.
     pub provenance: Vec<Provenance>,
 }
 
@@ -150,16 +154,32 @@ pub struct Synthetic {
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub enum FitNote {
     /// K was reduced to `k` because the class has too few rows.
-    Clamped { class: u32, k: usize },
+    Clamped {
+        /// The class index, in the training set's class numbering.
+        class: u32,
+        /// The K actually used: the class's training row count minus one.
+        k: usize,
+    },
     /// The class cannot be grown by this method.
-    Skipped { class: u32, reason: String },
+    Skipped {
+        /// The class index, in the training set's class numbering.
+        class: u32,
+        /// Why, in words for the user (e.g. too few rows to fit the method).
+        reason: String,
+    },
     /// The class was grown, but the method had to depart from its rule; `detail` says how
     /// (e.g. no row in danger, so every row is a base).
-    Adjusted { class: u32, detail: String },
+    Adjusted {
+        /// The class index, in the training set's class numbering.
+        class: u32,
+        /// What was changed, in words for the user.
+        detail: String,
+    },
 }
 
 /// A configured method.
 pub trait Augmenter: Send + Sync {
+    /// The method this configures, for naming its rows and its results.
     fn kind(&self) -> MethodKind;
     /// Fit on the real rows of `train`, for the classes listed in `classes` only.
     fn fit(&self, train: &Dataset, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>>;

@@ -23,7 +23,10 @@ pub struct NeighbourParams {
     pub k: usize,
     /// Euclidean by default, as in SMOTE.
     pub metric: Metric,
+    /// Exact search, or the approximate k-d tree for large classes (which may miss a true
+    /// neighbour).
     pub index: IndexKind,
+    /// Refuse a class with too few rows for K neighbours instead of clamping K or skipping it.
     pub strict: bool,
 }
 

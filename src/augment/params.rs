@@ -33,6 +33,7 @@ pub enum Param {
 }
 
 impl Param {
+    /// The parameter's library name, as `Error::Param` and the sweep's knob names spell it.
     pub fn name(self) -> &'static str {
         match self {
             Param::Neighbours => "neighbours",

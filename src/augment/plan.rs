@@ -67,6 +67,7 @@ impl fmt::Display for Target {
 /// Rows to add per class index.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Plan {
+    /// Rows to add for each class, indexed by class index; 0 leaves a class as it is.
     pub add: Vec<usize>,
 }
 
@@ -112,6 +113,7 @@ impl Plan {
             .collect()
     }
 
+    /// The total number of synthetic rows the plan asks for, over all classes.
     pub fn total(&self) -> usize {
         self.add.iter().sum()
     }

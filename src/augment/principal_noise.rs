@@ -46,16 +46,20 @@ impl Default for PrincipalNoiseValidParams {
 }
 
 impl PrincipalNoiseParams {
+    /// Set the noise scale, as a multiple of each principal direction's standard deviation
+    /// (greater than 0).
     pub fn magnitude(mut self, magnitude: f32) -> Self {
         self.0.magnitude = magnitude;
         self
     }
 
+    /// Set the share of class variance the principal directions must explain, in (0, 1].
     pub fn variance_kept(mut self, variance_kept: f64) -> Self {
         self.0.variance_kept = variance_kept;
         self
     }
 
+    /// Refuse a class too small to fit principal directions instead of skipping it.
     pub fn strict(mut self, strict: bool) -> Self {
         self.0.strict = strict;
         self

@@ -14,7 +14,9 @@ pub enum UnitNorm {
     /// Renormalise when every input row is unit-norm (embeddings from contrastive backbones
     /// usually are, and a probe on them expects rows on the sphere).
     Auto,
+    /// Always renormalise synthetic rows to unit L2 norm.
     On,
+    /// Never renormalise: keep synthetic rows as the method drew them.
     Off,
 }
 

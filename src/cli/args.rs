@@ -237,7 +237,24 @@ const FLAGS: &[(&str, &str, &str)] = &[
     ("methods", "--methods", ""),
     ("external", "--external", ""),
     ("external-budget", "--external-budget", ""),
+    ("method", "--method", ""),
+    ("knob", "--knob", ""),
+    ("values", "--values", ""),
+    ("force", "--force", ""),
+    ("labels_file", "--labels FILE", ""),
+    ("embeddings_key", "--embeddings-key", ""),
+    ("labels_key", "--labels-key", ""),
+    ("label_column", "--label-column", ""),
+    ("drop_nonfinite", "--drop-nonfinite", ""),
 ];
+
+/// `text` with every parameter the library wrote in backticks (`` `max_iter` ``, `` `force` ``)
+/// spelled as the flag that sets it, for a warning or fix the binary prints.
+pub fn flag_text(text: &str) -> String {
+    FLAGS.iter().fold(text.to_string(), |t, (name, flag, _)| {
+        t.replace(&format!("`{name}`"), flag)
+    })
+}
 
 /// A library error as the command line prints it: parameters by their flags, a memory limit
 /// the user gave by `--max-memory`, and fixes completed with the flag to use.
@@ -254,7 +271,7 @@ pub fn error_text(e: &embloom::Error) -> String {
             } else {
                 format!("{fix} ({extra})")
             };
-            format!("invalid {flag}: {detail}\n  fix: {fix}")
+            flag_text(&format!("invalid {flag}: {detail}\n  fix: {fix}"))
         }
         embloom::Error::Resource {
             what,
@@ -267,11 +284,11 @@ pub fn error_text(e: &embloom::Error) -> String {
                 },
             fix,
             ..
-        } => format!(
+        } => flag_text(&format!(
             "{what} would need about {needed} of {resource}, more than --max-memory ({})\n  fix: {fix}",
             embloom::memory::human(*bytes)
-        ),
-        other => other.to_string(),
+        )),
+        other => flag_text(&other.to_string()),
     }
 }
 

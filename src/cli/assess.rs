@@ -5,7 +5,8 @@ use std::path::{Path, PathBuf};
 use clap::Args;
 
 use super::args::{
-    ExternalArgs, InputArgs, MethodArgs, MethodEntry, parse_method_entry, parse_size, split_methods,
+    ExternalArgs, InputArgs, MethodArgs, MethodEntry, flag_text, parse_method_entry, parse_size,
+    split_methods,
 };
 use super::progress::{FoldBar, show_progress};
 use super::protocol::ProtocolArgs;
@@ -161,6 +162,8 @@ pub fn execute_announced(
             loaded.dropped_nonfinite
         ));
     }
+    // The library names parameters; the command line's reader knows them by their flags.
+    results.warnings = results.warnings.iter().map(|w| flag_text(w)).collect();
     if let Some(dir) = &opts.report {
         embloom::report::write_report_dir_guarded(dir, &results, opts.force, &inputs)?;
     }

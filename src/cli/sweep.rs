@@ -120,6 +120,11 @@ pub fn execute(opts: &SweepOptions, show_progress: bool) -> Result<SweepResults>
     results.warnings.extend(clamped);
     results.warnings.extend(loaded.file.left_out.clone());
     results.warnings.extend(not_swept(&loaded.file));
+    results.warnings = results
+        .warnings
+        .iter()
+        .map(|w| super::args::flag_text(w))
+        .collect();
     if let Some(csv) = &opts.csv {
         let text = embloom::report::sweep_csv(&results);
         write_atomically(csv, opts.force, |tmp| {

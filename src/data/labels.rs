@@ -31,7 +31,7 @@ impl RawLabels {
     }
 }
 
-/// Class indices (numpy `unique` order, see [`sorted_codes`]) and class names for a label
+/// Class indices (numpy `unique` order, see `sorted_codes`) and class names for a label
 /// column read from `path`. `source` says where in the file the column is, already worded by
 /// the reader (`key 'labels'`, `column 'label'`, `labels file y.npy`), so it is used as is.
 /// Non-integral, NaN or too large float labels are refused, and so is an empty text label:

@@ -21,6 +21,7 @@ pub enum FloatType {
     F16,
     /// bfloat16; every value is exact in f32, so `x` holds the input exactly.
     BF16,
+    /// Single precision, embloom's own working type: nothing is kept beside `x`.
     #[default]
     F32,
     /// Wider than the f32 `x`, so the input's values are kept beside it in `Dataset::x_f64`.

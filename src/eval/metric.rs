@@ -12,8 +12,11 @@ use crate::error::Error;
 /// A figure recorded per fold and summarised against `none`.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord)]
 pub enum Metric {
+    /// Share of test rows predicted correctly, in [0, 1].
     Accuracy,
+    /// Mean per-class recall, in [0, 1]; unlike accuracy, every class weighs the same.
     BalancedAccuracy,
+    /// Unweighted mean of per-class F1 scores, in [0, 1].
     MacroF1,
     /// Recall over the test rows of the classes the plan grew.
     GrownClassRecall,

@@ -195,7 +195,7 @@ pub fn finish(
                 path,
                 format!("{x_source}, {}", row_name(&row_lines, first)),
                 format!("{dropped} row(s) hold NaN or infinite values; the first is row {first}"),
-                "fix the embeddings, or pass --drop-nonfinite to skip those rows",
+                "fix the embeddings, or pass `drop_nonfinite` to skip those rows",
             ));
         } else {
             if dropped == n {

@@ -79,7 +79,7 @@ pub fn write_with(path: &Path, force: bool, fill: impl FnOnce(&Path) -> Result<(
                 Error::output(
                     path,
                     "appeared while embloom was writing; it was left untouched",
-                    "pass --force to replace it, or choose another name",
+                    "pass `force` to replace it, or choose another name",
                 )
             } else {
                 Error::io(path, e)
@@ -141,7 +141,7 @@ pub fn write_dir_with(
                     Error::output(
                         dir,
                         "appeared while embloom was writing; it was left untouched",
-                        "pass --force to replace it, or choose another folder",
+                        "pass `force` to replace it, or choose another folder",
                     )
                 } else {
                     Error::io(dir, e)
@@ -230,7 +230,7 @@ mod tests {
             fs::write(t, b"two").map_err(|e| Error::io(t, e))
         })
         .unwrap_err();
-        assert!(err.to_string().contains("--force"), "{err}");
+        assert!(err.to_string().contains("`force`"), "{err}");
         assert_eq!(fs::read(&out).unwrap(), b"one");
         let err = write_with(&out, true, |_| Err(Error::data("boom", "none"))).unwrap_err();
         assert!(err.to_string().contains("boom"));

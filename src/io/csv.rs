@@ -193,7 +193,7 @@ pub fn read(path: &Path, sep: char, opts: &ReadOptions) -> Result<Parts> {
                 opts.label_column,
                 names.join(", ")
             ),
-            "pass --label-column with the name of the label column",
+            "pass `label_column` with the name of the label column",
         ));
     }
     if let Some(key) = opts.parent_key.as_deref()
@@ -266,7 +266,7 @@ pub fn read(path: &Path, sep: char, opts: &ReadOptions) -> Result<Parts> {
                         format!("line {}, column '{name}'", rec.line),
                         format!("'{v}' is not a number"),
                         format!(
-                            "fix the value, or pass --label-column if '{name}' holds the labels"
+                            "fix the value, or pass `label_column` if '{name}' holds the labels"
                         ),
                     )
                 })?),

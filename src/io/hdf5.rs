@@ -82,7 +82,7 @@ fn tensor(file: &File, path: &Path, key: &str) -> Result<Tensor> {
                     "no dataset '{key}'; datasets present: {}",
                     present.join(", ")
                 ),
-                "pass the right dataset path (--embeddings-key / --labels-key), e.g. feats/emb",
+                "pass the right dataset path (`embeddings_key` / `labels_key`), e.g. feats/emb",
             ));
         }
     };

@@ -1,6 +1,6 @@
 //! Reading and writing embedding sets. One module per format; the format is chosen by the
 //! file's extension and the keys by options. Every reader yields the same [`Dataset`]; every
-//! writer goes through [`atomic`] so a crash never leaves half a file under the target name.
+//! writer goes through `atomic.rs` so a crash never leaves half a file under the target name.
 
 //!
 //! | extension | read | write |
@@ -80,6 +80,7 @@ impl Default for ReadOptions {
 /// A dataset and what reading it involved.
 #[derive(Debug, Clone)]
 pub struct Loaded {
+    /// The rows, labels and optional ids/groups/folds as read.
     pub dataset: Dataset,
     /// Rows skipped because of NaN/Inf (only with `drop_nonfinite`).
     pub dropped_nonfinite: usize,
@@ -103,21 +104,32 @@ pub struct Loaded {
 /// is −1 where no neighbour was used; `weight` is u, λ or the noise magnitude).
 #[derive(Debug, Clone)]
 pub struct AugmentedSet {
+    /// Real rows first, then synthetic rows, in the input's float type.
     pub data: Dataset,
+    /// Per row: the method name that drew it, or `real`.
     pub origin: Vec<String>,
+    /// Per row: the index of the real row it was drawn from (a real row's own index).
     pub parent: Vec<i64>,
+    /// Per row: the index of the real neighbour used, or −1 (real rows and noise methods).
     pub partner: Vec<i64>,
+    /// Per row: u (interpolate), λ (extrapolate), the noise magnitude, or 0 for real rows.
     pub weight: Vec<f32>,
 }
 
 /// The file formats embloom knows, by extension.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Format {
+    /// NumPy `.npy`: the matrix alone; the labels come from a second `.npy` file.
     Npy,
+    /// NumPy `.npz`: the matrix and labels (plus roles) as named arrays.
     Npz,
+    /// Comma-separated text with a header row.
     Csv,
+    /// Tab-separated text with a header row.
     Tsv,
+    /// safetensors: named tensors, with roles in its metadata or tensors.
     Safetensors,
+    /// HDF5, named datasets (readable only with the `hdf5` feature).
     Hdf5,
 }
 
@@ -195,7 +207,7 @@ fn read_npy(path: &Path, opts: &ReadOptions) -> Result<(assemble::Parts, assembl
         return Err(Error::input(
             path,
             "a .npy file holds only the embeddings; the labels must come from a second file",
-            "pass --labels FILE (a .npy array with one label per row), or use .npz/.csv/.safetensors/.h5",
+            "pass `labels_file` (a .npy array with one label per row), or use .npz/.csv/.safetensors/.h5",
         ));
     };
     require_file(lp, "labels file")?;
@@ -310,7 +322,7 @@ pub fn output_format(path: &Path) -> Result<Format> {
 }
 
 /// Write an augmented set in the format of `path`'s extension. Refuses an existing file
-/// unless `force`. The file appears complete or not at all (see [`atomic`]).
+/// unless `force`. The file appears complete or not at all (see `atomic.rs`).
 pub fn write(path: &Path, set: &AugmentedSet, force: bool) -> Result<()> {
     let format = output_format(path)?;
     let export = export::prepare(path, set)?;

@@ -44,7 +44,7 @@ impl Archive<'_> {
                     "no member '{key}'; members present: {}",
                     self.keys.join(", ")
                 ),
-                "pass the right key (--embeddings-key / --labels-key) or rewrite the archive",
+                "pass the right key (`embeddings_key` / `labels_key`) or rewrite the archive",
             ));
         }
         let name = format!("{key}.npy");

@@ -56,7 +56,7 @@ pub fn check_file(path: &Path, force: bool, inputs: &[&Path], need: Option<u64>)
                 return Err(Error::output(
                     path,
                     format!(
-                        "is the input file {}; embloom never replaces its input, even with --force",
+                        "is the input file {}; embloom never replaces its input, even with `force`",
                         input.display()
                     ),
                     "write the output under another name",
@@ -66,7 +66,7 @@ pub fn check_file(path: &Path, force: bool, inputs: &[&Path], need: Option<u64>)
                 return Err(Error::output(
                     path,
                     "already exists; refusing to overwrite it",
-                    "pass --force to replace it, or choose another name",
+                    "pass `force` to replace it, or choose another name",
                 ));
             }
         }
@@ -123,7 +123,7 @@ pub fn check_dir(dir: &Path, force: bool, inputs: &[&Path]) -> Result<()> {
         Ok(m) if !m.is_dir() => {
             return Err(Error::output(
                 dir,
-                "exists and is not a folder, so it is not replaced even with --force",
+                "exists and is not a folder, so it is not replaced even with `force`",
                 "remove it or choose another folder",
             ));
         }
@@ -131,7 +131,7 @@ pub fn check_dir(dir: &Path, force: bool, inputs: &[&Path]) -> Result<()> {
             return Err(Error::output(
                 dir,
                 "already exists",
-                "pass --force to replace it, or choose another folder",
+                "pass `force` to replace it, or choose another folder",
             ));
         }
         Ok(_) => check_ours(dir, inputs)?,
@@ -200,7 +200,7 @@ fn check_ours(dir: &Path, inputs: &[&Path]) -> Result<()> {
         return Err(Error::output(
             dir,
             format!(
-                "is not a folder embloom wrote (it has no {MANIFEST}), so --force does not replace it{}",
+                "is not a folder embloom wrote (it has no {MANIFEST}), so `force` does not replace it{}",
                 describe_entries(&entries)
             ),
             "choose a new folder, or remove this one yourself if it holds nothing you need",
@@ -211,7 +211,7 @@ fn check_ours(dir: &Path, inputs: &[&Path]) -> Result<()> {
         return Err(Error::output(
             dir,
             format!(
-                "holds files embloom did not write, so --force does not replace it{}",
+                "holds files embloom did not write, so `force` does not replace it{}",
                 describe_entries(&foreign)
             ),
             "move those files out, or choose a new folder",

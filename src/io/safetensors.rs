@@ -108,7 +108,7 @@ impl File<'_> {
                     "no tensor '{key}'; tensors present: {}",
                     self.keys().join(", ")
                 ),
-                "pass the right key (--embeddings-key / --labels-key)",
+                "pass the right key (`embeddings_key` / `labels_key`)",
             ));
         };
         let dtype = view.dtype();

@@ -97,7 +97,7 @@ fn npy_without_labels_file() {
     let p = fixture("x_f32.npy");
     has(
         &err(&p, &ReadOptions::default()),
-        &["x_f32.npy", "--labels FILE"],
+        &["x_f32.npy", "`labels_file`"],
     );
 }
 
@@ -148,7 +148,7 @@ fn nonfinite_rows_refused_or_dropped() {
     let opts = labels_opts(&dir, &[1, 2, 3, 4]);
     has(
         &err(&x, &opts),
-        &["x.npy", "row 1", "2 row(s)", "--drop-nonfinite"],
+        &["x.npy", "row 1", "2 row(s)", "`drop_nonfinite`"],
     );
     let l = read(
         &x,
@@ -274,7 +274,7 @@ fn csv_errors_name_line_and_column() {
         (
             "nolabel.csv",
             "cls,a,b\nx,1,2\n",
-            &["no label column 'label'", "cls, a, b", "--label-column"],
+            &["no label column 'label'", "cls, a, b", "`label_column`"],
         ),
         ("quote.csv", "label,a\n\"x,1\n", &["line 2", "never closed"]),
     ];
@@ -289,7 +289,7 @@ fn csv_errors_name_line_and_column() {
     fs::write(&p, "label\ta\nx\t1\ny\tNaN\n").unwrap();
     has(
         &err(&p, &ReadOptions::default()),
-        &["nan.tsv", "row 1, line 3", "--drop-nonfinite"],
+        &["nan.tsv", "row 1, line 3", "`drop_nonfinite`"],
     );
 }
 
@@ -313,7 +313,7 @@ fn existing_output_refused_without_force() {
     let out = dir.path().join("out.npz");
     fs::write(&out, b"keep me").unwrap();
     let m = write(&out, &small_set(), false).unwrap_err().to_string();
-    has(&m, &["out.npz", "already exists", "--force"]);
+    has(&m, &["out.npz", "already exists", "`force`"]);
     assert_eq!(fs::read(&out).unwrap(), b"keep me");
     write(&out, &small_set(), true).unwrap();
     assert_eq!(

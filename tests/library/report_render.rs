@@ -550,7 +550,7 @@ fn report_dir_is_written_atomically() {
     // An existing folder is refused without force, and left untouched.
     std::fs::write(dir.join("marker.txt"), "old").unwrap();
     let err = write_report_dir(&dir, &r, false).unwrap_err().to_string();
-    assert!(err.contains("--force"), "{err}");
+    assert!(err.contains("`force`"), "{err}");
     assert!(dir.join("marker.txt").exists());
     assert_eq!(listing(base.path()), vec!["run1".to_string()]);
 
