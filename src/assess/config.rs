@@ -165,6 +165,7 @@ impl Serialize for ExternalBudget {
 /// fold, and the unions (`flips+interpolate`) trained on as methods of their own.
 #[derive(Debug, Clone, Default, PartialEq)]
 pub struct ExternalConfig {
+    /// How many eligible rows of each set are drawn per grown class and fold.
     pub budget: ExternalBudget,
     /// Each a [`MethodId::Union`] of two or more parts; a part is a method of the
     /// [`AssessConfig`], an external set or a grown file's rows, by name.
@@ -174,17 +175,24 @@ pub struct ExternalConfig {
 /// What results.json records about the external sets.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ExternalRecord {
+    /// The budget the sets were drawn under.
     pub budget: ExternalBudget,
+    /// Each external set, in the order given.
     pub sets: Vec<ExternalSetInfo>,
+    /// The unions assessed as methods.
     pub unions: Vec<MethodId>,
 }
 
 /// One external set as read: its name, the file and its SHA-256, and its rows.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ExternalSetInfo {
+    /// The method name the set is assessed under.
     pub name: String,
+    /// The file, as given.
     pub path: String,
+    /// Hex SHA-256 of the file, so a result names the exact rows it used.
     pub sha256: String,
+    /// Rows in the file (before any per-fold gating or budget).
     pub rows: usize,
 }
 

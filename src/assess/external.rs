@@ -277,8 +277,11 @@ pub(super) fn stream(id: &MethodId, repeat: usize, fold: usize) -> [u64; 4] {
 /// about each external set's file.
 #[derive(Debug, Clone, Copy)]
 pub struct RowSets<'a> {
+    /// The rows of every grown-file origin and external set, each a method of its own.
     pub rows: &'a [FileRows],
+    /// The budget and the unions.
     pub config: &'a ExternalConfig,
+    /// What results.json records about each external set's file.
     pub sets: &'a [ExternalSetInfo],
 }
 

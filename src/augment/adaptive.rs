@@ -25,6 +25,8 @@ pub struct AdaptiveValidParams {
 }
 
 impl AdaptiveParams {
+    /// The K nearest same-class rows partners are drawn from (and, for the share or danger
+    /// rule, the neighbourhood size where the method uses the same K).
     pub fn neighbours(mut self, neighbours: NeighbourParams) -> Self {
         self.0.neighbours = neighbours;
         self

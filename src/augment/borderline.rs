@@ -35,6 +35,8 @@ impl Default for BorderlineValidParams {
 }
 
 impl BorderlineParams {
+    /// The K nearest same-class rows partners are drawn from (and, for the share or danger
+    /// rule, the neighbourhood size where the method uses the same K).
     pub fn neighbours(mut self, neighbours: NeighbourParams) -> Self {
         self.0.neighbours = neighbours;
         self
