@@ -29,6 +29,18 @@ pub struct InputArgs {
     /// Member or column holding a fold assignment (used by assess when present).
     #[arg(long, default_value = "fold", value_name = "NAME")]
     pub fold_key: String,
+    /// CSV/TSV column holding row ids (default: `id`, or the older `ids`, when present).
+    #[arg(long, value_name = "NAME")]
+    pub id_column: Option<String>,
+    /// CSV/TSV column holding groups (default: `group`, or the older `groups`, when present).
+    #[arg(long, value_name = "NAME")]
+    pub group_column: Option<String>,
+    /// CSV/TSV column holding a fold assignment (default: the --fold-key column when present).
+    #[arg(long, value_name = "NAME")]
+    pub fold_column: Option<String>,
+    /// CSV/TSV columns to read past (free text, say): not features; kept in a CSV output.
+    #[arg(long, value_name = "A,B", value_delimiter = ',', action = clap::ArgAction::Append)]
+    pub ignore_columns: Vec<String>,
     /// Skip rows with NaN/Inf instead of refusing the file.
     #[arg(long)]
     pub drop_nonfinite: bool,
@@ -42,6 +54,10 @@ impl InputArgs {
             labels_key: self.labels_key.clone(),
             label_column: self.label_column.clone(),
             fold_key: self.fold_key.clone(),
+            id_column: self.id_column.clone(),
+            group_column: self.group_column.clone(),
+            fold_column: self.fold_column.clone(),
+            ignore_columns: self.ignore_columns.clone(),
             drop_nonfinite: self.drop_nonfinite,
             ..ReadOptions::default()
         }
@@ -157,9 +173,20 @@ pub fn error_text(e: &embloom::Error) -> String {
             "{what} would need about {needed} of {resource}, more than --max-memory ({})\n  fix: {fix}",
             embloom::memory::human(*bytes)
         ),
+        embloom::Error::Input { .. } => {
+            // A reader's fix names a read setting by its library name; say the flag instead.
+            let mut text = e.to_string();
+            for (setting, flag) in READ_SETTINGS {
+                text = text.replace(setting, flag);
+            }
+            text
+        }
         other => other.to_string(),
     }
 }
+
+/// How a reader's error names a read setting, and the flag that sets it.
+const READ_SETTINGS: &[(&str, &str)] = &[("the ignore-columns setting", "--ignore-columns")];
 
 /// The binary's text for a failed command: [`error_text`] for a library error on its own,
 /// anyhow's chain otherwise.

@@ -54,7 +54,10 @@ pub fn run(a: AssessArgs, quiet: bool) -> anyhow::Result<()> {
         .config(a.methods.clone(), &a.how, !a.no_diagnostics);
     let opts = AssessOptions {
         input: a.input.file.clone(),
-        read: a.input.read_options(),
+        read: ReadOptions {
+            max_memory: a.max_memory,
+            ..a.input.read_options()
+        },
         config,
         report: a.report.clone(),
         force: a.force,
