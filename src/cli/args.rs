@@ -30,6 +30,18 @@ pub struct InputArgs {
     /// Member or column holding a fold assignment (used by assess when present).
     #[arg(long, default_value = "fold", value_name = "NAME")]
     pub fold_key: String,
+    /// CSV/TSV column holding row ids (default: `id`, or the older `ids`, when present).
+    #[arg(long, value_name = "NAME")]
+    pub id_column: Option<String>,
+    /// CSV/TSV column holding groups (default: `group`, or the older `groups`, when present).
+    #[arg(long, value_name = "NAME")]
+    pub group_column: Option<String>,
+    /// CSV/TSV column holding a fold assignment (default: the --fold-key column when present).
+    #[arg(long, value_name = "NAME")]
+    pub fold_column: Option<String>,
+    /// CSV/TSV columns to read past (free text, say): not features; kept in a CSV output.
+    #[arg(long, value_name = "A,B", value_delimiter = ',', action = clap::ArgAction::Append)]
+    pub ignore_columns: Vec<String>,
     /// Skip rows with NaN/Inf instead of refusing the file.
     #[arg(long)]
     pub drop_nonfinite: bool,
@@ -43,6 +55,10 @@ impl InputArgs {
             labels_key: self.labels_key.clone(),
             label_column: self.label_column.clone(),
             fold_key: self.fold_key.clone(),
+            id_column: self.id_column.clone(),
+            group_column: self.group_column.clone(),
+            fold_column: self.fold_column.clone(),
+            ignore_columns: self.ignore_columns.clone(),
             drop_nonfinite: self.drop_nonfinite,
             ..ReadOptions::default()
         }
@@ -246,6 +262,10 @@ const FLAGS: &[(&str, &str, &str)] = &[
     ("labels_key", "--labels-key", ""),
     ("label_column", "--label-column", ""),
     ("drop_nonfinite", "--drop-nonfinite", ""),
+    ("ignore_columns", "--ignore-columns", ""),
+    ("id_column", "--id-column", ""),
+    ("group_column", "--group-column", ""),
+    ("fold_column", "--fold-column", ""),
 ];
 
 /// `text` with every parameter the library wrote in backticks (`` `max_iter` ``, `` `force` ``)

@@ -65,7 +65,10 @@ pub fn run(a: AssessArgs, quiet: bool) -> anyhow::Result<()> {
     let config = a.protocol.config(kinds, &a.how, !a.no_diagnostics);
     let opts = AssessOptions {
         input: a.input.file.clone(),
-        read: a.input.read_options(),
+        read: ReadOptions {
+            max_memory: a.max_memory,
+            ..a.input.read_options()
+        },
         config,
         external: a.external.external.clone(),
         external_config: ExternalConfig {

@@ -42,7 +42,10 @@ pub fn run(g: GrowArgs, quiet: bool) -> anyhow::Result<()> {
     let opts = GrowOptions {
         input: g.input.file.clone(),
         output: g.output.clone(),
-        read: g.input.read_options(),
+        read: ReadOptions {
+            max_memory: g.max_memory,
+            ..g.input.read_options()
+        },
         method: g.method,
         target: g.how.target,
         classes: g.how.classes.clone(),

@@ -13,6 +13,14 @@ pub enum RawLabels {
     Float(Vec<f64>),
     /// Class names as text; they become the class names themselves.
     Text(Vec<String>),
+    /// Class names as text, already interned by the reader: a code per row into `names`
+    /// (distinct, in any order), so a long table holds each name once.
+    Coded {
+        /// Each row's index into `names`.
+        codes: Vec<u32>,
+        /// The distinct class names the reader met.
+        names: Vec<String>,
+    },
 }
 
 impl RawLabels {
@@ -22,6 +30,7 @@ impl RawLabels {
             RawLabels::Int(v) => v.len(),
             RawLabels::Float(v) => v.len(),
             RawLabels::Text(v) => v.len(),
+            RawLabels::Coded { codes, .. } => codes.len(),
         }
     }
 
@@ -38,14 +47,17 @@ impl RawLabels {
 /// it would be written as an empty cell that no reader can tell from a missing label.
 pub fn encode_labels(raw: RawLabels, path: &Path, source: &str) -> Result<(Vec<u32>, Vec<String>)> {
     let names: Vec<String> = match raw {
+        RawLabels::Coded { codes, names } => {
+            if let Some(empty) = names.iter().position(String::is_empty)
+                && let Some(row) = codes.iter().position(|&c| c as usize == empty)
+            {
+                return Err(empty_name(path, source, row));
+            }
+            return Ok(sorted_interned(codes, names));
+        }
         RawLabels::Text(v) => {
             if let Some(row) = v.iter().position(|n| n.is_empty()) {
-                return Err(Error::input_at(
-                    path,
-                    format!("{source}, row {row}"),
-                    "the class name is empty",
-                    "give every row a non-empty class name (e.g. 'unknown'), or drop the row",
-                ));
+                return Err(empty_name(path, source, row));
             }
             v
         }
@@ -82,6 +94,25 @@ pub fn encode_labels(raw: RawLabels, path: &Path, source: &str) -> Result<(Vec<u
     };
     let (labels, classes) = sorted_codes(names);
     Ok((labels, classes))
+}
+
+fn empty_name(path: &Path, source: &str, row: usize) -> Error {
+    Error::input_at(
+        path,
+        format!("{source}, row {row}"),
+        "the class name is empty",
+        "give every row a non-empty class name (e.g. 'unknown'), or drop the row",
+    )
+}
+
+/// [`sorted_codes`] for names already interned: the distinct names are ordered once and each
+/// row's code remapped, without a string per row.
+fn sorted_interned(codes: Vec<u32>, names: Vec<String>) -> (Vec<u32>, Vec<String>) {
+    let (order, classes) = sorted_codes(names);
+    (
+        codes.into_iter().map(|c| order[c as usize]).collect(),
+        classes,
+    )
 }
 
 /// The canonical integer a name spells, if it spells one (`"7"`, `"-3"`; not `"07"`).

@@ -67,6 +67,10 @@ fn keep_labels(raw: RawLabels, mask: &[bool]) -> RawLabels {
         RawLabels::Int(v) => RawLabels::Int(keep(v, mask)),
         RawLabels::Float(v) => RawLabels::Float(keep(v, mask)),
         RawLabels::Text(v) => RawLabels::Text(keep(v, mask)),
+        RawLabels::Coded { codes, names } => RawLabels::Coded {
+            codes: keep(codes, mask),
+            names,
+        },
     }
 }
 

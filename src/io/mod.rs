@@ -52,6 +52,18 @@ pub struct ReadOptions {
     pub label_column: String,
     /// Name of the fold-assignment member or column (default `fold`).
     pub fold_key: String,
+    /// CSV/TSV column holding the row ids; `None` reads `id` (or the older `ids`) if present.
+    pub id_column: Option<String>,
+    /// CSV/TSV column holding the groups; `None` reads `group` (or `groups`) if present.
+    pub group_column: Option<String>,
+    /// CSV/TSV column holding the folds; `None` reads the `fold_key` column if present.
+    pub fold_column: Option<String>,
+    /// CSV/TSV columns that carry nothing embloom uses (free text, say): read past on input
+    /// and kept on output.
+    pub ignore_columns: Vec<String>,
+    /// Refuse a text table whose estimated reading peak exceeds this many bytes (it is always
+    /// refused above the memory the system has available).
+    pub max_memory: Option<u64>,
     /// Skip rows with NaN/Inf instead of refusing the file.
     pub drop_nonfinite: bool,
     /// Keep rows with NaN/Inf as they are (for `inspect`, which reports them).
@@ -70,6 +82,11 @@ impl Default for ReadOptions {
             labels_key: "labels".into(),
             label_column: "label".into(),
             fold_key: "fold".into(),
+            id_column: None,
+            group_column: None,
+            fold_column: None,
+            ignore_columns: Vec::new(),
+            max_memory: None,
             drop_nonfinite: false,
             keep_nonfinite: false,
             parent_key: None,
@@ -257,13 +274,11 @@ pub fn read(path: &Path, opts: &ReadOptions) -> Result<Loaded> {
             "store the embeddings, labels and parent together in an .npz, .csv, .safetensors or .h5 file",
         ));
     }
-    // Text tables hold no float type or integer ids beyond what the text says.
-    let text = |parts| (parts, assemble::Stored::default());
     let (parts, stored) = match format {
         Format::Npy => read_npy(path, opts)?,
         Format::Npz => npz::read(path, opts)?,
-        Format::Csv => text(csv::read(path, ',', opts)?),
-        Format::Tsv => text(csv::read(path, '\t', opts)?),
+        Format::Csv => csv::read(path, b',', opts)?,
+        Format::Tsv => csv::read(path, b'\t', opts)?,
         Format::Safetensors => safetensors::read(path, opts)?,
         #[cfg(feature = "hdf5")]
         Format::Hdf5 => hdf5::read(path, opts)?,
@@ -335,8 +350,8 @@ pub fn write(path: &Path, set: &AugmentedSet, force: bool) -> Result<()> {
                 .map_err(|e| Error::io(tmp, e))?;
             npz::write(file, &export).map_err(|e| Error::io(tmp, e))
         }
-        Format::Csv => stream(tmp, |w| csv::write(w, ',', &export)),
-        Format::Tsv => stream(tmp, |w| csv::write(w, '\t', &export)),
+        Format::Csv => stream(tmp, |w| csv::write(w, b',', &export)),
+        Format::Tsv => stream(tmp, |w| csv::write(w, b'\t', &export)),
         Format::Safetensors => stream(tmp, |w| safetensors::write(w, &export)),
         #[cfg(feature = "hdf5")]
         Format::Hdf5 => hdf5::write(tmp, &export),

@@ -6,9 +6,10 @@ use std::path::Path;
 use super::Format;
 use crate::data::FloatType;
 
-/// Bytes per parsed CSV field while the table is in memory (a `String` header plus its heap
-/// block, which the allocator rounds up to at least 32 bytes).
-const CSV_FIELD: u64 = 56;
+/// Bytes per row the streaming CSV reader keeps beside the matrix: its line number, its
+/// label code, and room for one text role (an id or group `String`: a 24-byte header plus a
+/// heap block the allocator rounds up to 32 bytes).
+const CSV_ROW: u64 = 8 + 4 + 56;
 
 /// Peak bytes of the reader's staging while it decodes `path` into a `rows × dims` f32
 /// matrix: the parsed text for CSV/TSV, else about one decoded-size image (npz members are
@@ -19,9 +20,7 @@ pub fn read_staging_bytes(path: &Path, rows: usize, dims: usize, stored: FloatTy
     let file = std::fs::metadata(path).map(|m| m.len()).unwrap_or(0);
     let x = (rows as u64).saturating_mul(dims as u64).saturating_mul(4);
     match Format::of(path) {
-        Ok(Format::Csv) | Ok(Format::Tsv) => {
-            file + (rows as u64 * (dims as u64 + 1)).saturating_mul(CSV_FIELD)
-        }
+        Ok(Format::Csv) | Ok(Format::Tsv) => (rows as u64).saturating_mul(CSV_ROW),
         Ok(Format::Npy) | Ok(Format::Npz) | Ok(Format::Hdf5) if stored == FloatType::F64 => 0,
         Ok(Format::Hdf5) => x,
         _ => file.max(x),

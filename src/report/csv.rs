@@ -2,8 +2,9 @@
 //!
 //! Conventions, the same in every file:
 //! - one header row, then one row per record; fields separated by `,`, lines ended by `\n`;
-//! - a field is quoted (`"…"`, inner quotes doubled, RFC 4180) when it holds a comma, a quote,
-//!   a line break or leading/trailing space, so any class name round-trips;
+//! - fields are quoted by the `csv` crate, as the data export is (RFC 4180: `"…"` with inner
+//!   quotes doubled, when a field holds a comma, a quote or a line break), so there is one
+//!   quoting rule for every CSV embloom writes;
 //! - numbers use Rust's shortest round-trip `Display` for f64 (e.g. `0.1`, `0.8125`), so no
 //!   digits are lost; infinities are written `inf` / `-inf`;
 //! - NaN (a figure that could not be computed, e.g. the recall of a class with no test rows
@@ -262,13 +263,16 @@ pub fn sweep_csv(r: &SweepResults) -> String {
 }
 
 fn row<'a>(out: &mut String, fields: impl IntoIterator<Item = Cow<'a, str>>) {
-    for (i, f) in fields.into_iter().enumerate() {
-        if i > 0 {
-            out.push(',');
-        }
-        out.push_str(&quote(&f));
+    let fields: Vec<Cow<'a, str>> = fields.into_iter().collect();
+    let mut w = csv::WriterBuilder::new()
+        .buffer_capacity(256)
+        .from_writer(Vec::new());
+    // Writing to memory cannot fail, and every field is UTF-8 text.
+    if w.write_record(fields.iter().map(|f| f.as_bytes())).is_ok()
+        && let Ok(bytes) = w.into_inner()
+    {
+        out.push_str(&String::from_utf8_lossy(&bytes));
     }
-    out.push('\n');
 }
 
 /// A text field, quoted later by [`row`] if it needs it, with a leading `'` when a
@@ -290,18 +294,6 @@ fn num(v: f64) -> Cow<'static, str> {
     }
 }
 
-/// Quote a field when a reader would otherwise split or trim it.
-fn quote(field: &str) -> Cow<'_, str> {
-    let needs = field.contains([',', '"', '\n', '\r'])
-        || field.starts_with(char::is_whitespace)
-        || field.ends_with(char::is_whitespace);
-    if needs {
-        Cow::Owned(format!("\"{}\"", field.replace('"', "\"\"")))
-    } else {
-        Cow::Borrowed(field)
-    }
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -310,11 +302,15 @@ mod tests {
     fn quoting_follows_rfc4180() {
         // RFC 4180 §2 rules 6 and 7: quote fields with commas, quotes or line breaks; double
         // inner quotes.
-        assert_eq!(quote("plain"), "plain");
-        assert_eq!(quote("a,b"), "\"a,b\"");
-        assert_eq!(quote("say \"hi\""), "\"say \"\"hi\"\"\"");
-        assert_eq!(quote("two\nlines"), "\"two\nlines\"");
-        assert_eq!(quote(" padded"), "\" padded\"");
+        let line = |f: &str| {
+            let mut out = String::new();
+            row(&mut out, [Cow::Borrowed(f), text("=x")]);
+            out
+        };
+        assert_eq!(line("plain"), "plain,'=x\n");
+        assert_eq!(line("a,b"), "\"a,b\",'=x\n");
+        assert_eq!(line("say \"hi\""), "\"say \"\"hi\"\"\",'=x\n");
+        assert_eq!(line("two\nlines"), "\"two\nlines\",'=x\n");
     }
 
     #[test]

@@ -19,6 +19,7 @@ mod eval_metrics;
 mod eval_protocol;
 mod eval_stats;
 mod io_bad;
+mod io_csv_roles;
 mod io_roundtrip;
 mod knn_ties;
 mod neighbors_exact;
