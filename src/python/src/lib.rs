@@ -5,7 +5,7 @@
 
 use std::path::PathBuf;
 use std::sync::atomic::{AtomicBool, Ordering};
-use std::sync::{Arc, mpsc};
+use std::sync::{Arc, Mutex, mpsc};
 use std::time::Duration;
 
 use embloom::Dataset;
@@ -15,6 +15,7 @@ use embloom::augment::{
 };
 use embloom::eval::IntervalKind;
 use embloom::io::{self, AugmentedSet, ReadOptions};
+use embloom::neighbors::{IndexKind, Metric};
 use embloom::probe::{KnnParams, LinearParams, ProbeKind};
 use numpy::{IntoPyArray, PyArray1, PyArray2, PyReadonlyArray1, PyReadonlyArray2};
 use pyo3::exceptions::PyValueError;
@@ -89,20 +90,19 @@ fn augment_params(params: Option<&Bound<'_, PyDict>>) -> PyResult<AugmentParams>
             "magnitude" => p.magnitude = value.extract()?,
             "variance_kept" => p.variance_kept = value.extract()?,
             "strict" => p.strict = value.extract()?,
-            "metric" => {
-                let s: String = value.extract()?;
-                p.metric = s.parse().map_err(to_py)?;
-            }
+            "metric" => p.metric = metric(&value.extract::<String>()?, "metric")?,
             "index" => {
-                let s: String = value.extract()?;
-                p.index =
-                    serde_json::from_value(serde_json::Value::String(s.clone())).map_err(|_| {
-                        param_err(
+                p.index = match value.extract::<String>()?.as_str() {
+                    "exact" => IndexKind::Exact,
+                    "kdtree" => IndexKind::KdTree,
+                    s => {
+                        return Err(param_err(
                             "index",
-                            format!("unknown neighbour index '{s}'"),
+                            format!("'{s}' is not a neighbour index"),
                             "use exact or kdtree",
-                        )
-                    })?;
+                        ));
+                    }
+                }
             }
             other => {
                 return Err(param_err(
@@ -114,6 +114,19 @@ fn augment_params(params: Option<&Bound<'_, PyDict>>) -> PyResult<AugmentParams>
         }
     }
     Ok(p)
+}
+
+/// A neighbour metric by name, as the binary spells them.
+fn metric(s: &str, name: &str) -> PyResult<Metric> {
+    match s {
+        "cosine" => Ok(Metric::Cosine),
+        "euclidean" => Ok(Metric::Euclidean),
+        _ => Err(param_err(
+            name,
+            format!("'{s}' is not a metric"),
+            "use cosine or euclidean",
+        )),
+    }
 }
 
 /// An augmented set as the tuple the Python side turns into an object.
@@ -332,6 +345,8 @@ fn assess<'py>(
     };
     let cancelled = Arc::new(AtomicBool::new(false));
     let (tx, rx) = mpsc::channel();
+    // A Receiver is not Sync; the lock lets the GIL-free wait borrow it.
+    let rx = Mutex::new(rx);
     let stop = Arc::clone(&cancelled);
     std::thread::spawn(move || {
         let done_tx = tx.clone();
@@ -349,7 +364,10 @@ fn assess<'py>(
         }
     });
     loop {
-        let msg = py.allow_threads(|| rx.recv_timeout(Duration::from_millis(100)));
+        let msg = py.allow_threads(|| match rx.lock() {
+            Ok(rx) => rx.recv_timeout(Duration::from_millis(100)),
+            Err(_) => Err(mpsc::RecvTimeoutError::Disconnected),
+        });
         if let Err(e) = py.check_signals() {
             cancelled.store(true, Ordering::Relaxed);
             return Err(e);
@@ -425,8 +443,8 @@ fn assess_config(d: &Bound<'_, PyDict>, ds: &Dataset) -> PyResult<(AssessConfig,
     if let Some(k) = get(d, "knn_k")? {
         knn.k = k;
     }
-    if let Some(m) = parse(d, "knn_metric")? {
-        knn.metric = m;
+    if let Some(m) = get::<String>(d, "knn_metric")? {
+        knn.metric = metric(&m, "knn-metric")?;
     }
     let mut linear = LinearParams::default();
     if let Some(l2) = get(d, "linear_l2")? {
