@@ -1,0 +1,332 @@
+"""embloom: feature-space augmentation of embedding matrices, from Python.
+
+The same Rust library as the ``embloom`` command line: for the same arrays and seed, ``grow``
+returns the very rows ``embloom grow`` writes.
+
+    >>> import numpy as np, embloom
+    >>> grown = embloom.grow(x, y, method="interpolate", target="median", seed=0)
+    >>> grown.x.shape, grown.origin[:3]
+"""
+
+from __future__ import annotations
+
+import json
+import sys
+import time
+import warnings
+from dataclasses import dataclass
+from os import PathLike
+from typing import Any, Optional, Sequence, Union
+
+import numpy as np
+
+from . import _embloom
+from ._embloom import InputError, ParameterError
+
+__all__ = [
+    "Dataset",
+    "Grown",
+    "InputError",
+    "ParameterError",
+    "Results",
+    "assess",
+    "grow",
+    "read",
+    "write",
+]
+
+
+@dataclass
+class Dataset:
+    """Rows and labels as read from a file.
+
+    ``x`` is ``(n, d)`` float32, ``y`` the class name of each row, and ``ids``, ``groups``,
+    ``folds`` are ``None`` when the file has none.
+    """
+
+    x: np.ndarray
+    y: np.ndarray
+    ids: Optional[np.ndarray]
+    groups: Optional[np.ndarray]
+    folds: Optional[np.ndarray]
+    notes: list
+
+
+@dataclass
+class Grown:
+    """Real rows first, then synthetic rows, with provenance per row.
+
+    ``origin`` is ``"real"`` or the method's name, ``parent`` the real row a synthetic row was
+    made from, ``partner`` the neighbour used (-1 for none), ``weight`` the method's u, λ or
+    noise magnitude (0 for real rows).
+    """
+
+    x: np.ndarray
+    y: np.ndarray
+    origin: np.ndarray
+    parent: np.ndarray
+    partner: np.ndarray
+    weight: np.ndarray
+
+
+def _rows(x: Any) -> np.ndarray:
+    """``x`` as C-contiguous float32, converting once (with a warning) when it is not."""
+    arr = np.asarray(x)
+    if arr.ndim != 2:
+        raise InputError(f"x has {arr.ndim} dimensions, not 2\n  fix: pass an (n, d) matrix")
+    if arr.dtype == np.float32 and arr.flags.c_contiguous:
+        return arr
+    warnings.warn(
+        f"x is {arr.dtype}{'' if arr.flags.c_contiguous else ', not C-contiguous'}; "
+        "converting once to C-contiguous float32",
+        stacklevel=3,
+    )
+    return np.ascontiguousarray(arr, dtype=np.float32)
+
+
+def _labels(y: Any, n: int) -> tuple:
+    """Class indices and names, in numpy ``unique`` order (the order the files' reader uses)."""
+    arr = np.asarray(y)
+    if arr.ndim != 1 or arr.shape[0] != n:
+        raise InputError(
+            f"y has shape {arr.shape}, expected ({n},)\n  fix: pass one label per row of x"
+        )
+    names, index = np.unique(arr, return_inverse=True)
+    return index.astype(np.uint32).reshape(-1), [str(c) for c in names.tolist()]
+
+
+def _optional(values: Any, n: int) -> Optional[list]:
+    return None if values is None else [str(v) for v in np.asarray(values).tolist()]
+
+
+def read(
+    path: Union[str, PathLike],
+    *,
+    embeddings_key: str = "embeddings",
+    labels_key: str = "labels",
+    label_column: str = "label",
+    fold_key: str = "fold",
+    labels_file: Optional[Union[str, PathLike]] = None,
+    drop_nonfinite: bool = False,
+) -> Dataset:
+    """Read an embedding file (.npz, .npy with ``labels_file``, .csv/.tsv, .safetensors, .h5).
+
+    Raises ``InputError`` naming the file, key or row and a fix when the file cannot be used.
+    """
+    (x, labels, classes, ids, groups, folds, *_), notes = _embloom.read(
+        str(path),
+        embeddings_key,
+        labels_key,
+        label_column,
+        fold_key,
+        None if labels_file is None else str(labels_file),
+        drop_nonfinite,
+    )
+    y = np.asarray(classes, dtype=object)[labels] if classes else np.empty(0, dtype=object)
+    return Dataset(
+        x=x,
+        y=y,
+        ids=None if ids is None else np.asarray(ids, dtype=object),
+        groups=None if groups is None else np.asarray(groups, dtype=object),
+        folds=None if folds is None else np.asarray(folds, dtype=np.int64),
+        notes=list(notes),
+    )
+
+
+def write(
+    path: Union[str, PathLike],
+    x: Any,
+    y: Any,
+    *,
+    ids: Optional[Sequence] = None,
+    groups: Optional[Sequence] = None,
+    folds: Optional[Sequence[int]] = None,
+    force: bool = False,
+) -> None:
+    """Write rows and labels to ``path`` (format from the extension), all or nothing.
+
+    An existing file is refused unless ``force=True``.
+    """
+    rows = _rows(x)
+    labels, classes = _labels(y, rows.shape[0])
+    _embloom.write(
+        str(path),
+        rows,
+        labels,
+        classes,
+        _optional(ids, rows.shape[0]),
+        _optional(groups, rows.shape[0]),
+        None if folds is None else [int(f) for f in folds],
+        force,
+    )
+
+
+def grow(
+    x: Any,
+    y: Any,
+    *,
+    method: str = "interpolate",
+    target: str = "median",
+    classes: Optional[Sequence[str]] = None,
+    seed: int = 0,
+    unit_norm: str = "auto",
+    **method_params: Any,
+) -> Grown:
+    """Add synthetic rows to the classes below ``target`` with ``method``.
+
+    ``target`` is ``largest``, ``median``, a count (``"500"``) or a multiple (``"2x"``);
+    ``classes`` limits growth to the named classes. ``method_params`` are the method's
+    parameters: ``k``, ``magnitude``, ``variance_kept``, ``metric``, ``index``, ``strict``.
+    The result equals what ``embloom grow`` writes for the same rows, labels and seed.
+    """
+    rows = _rows(x)
+    labels, names = _labels(y, rows.shape[0])
+    out = _embloom.grow(
+        rows,
+        labels,
+        names,
+        method,
+        str(target),
+        None if classes is None else [str(c) for c in classes],
+        int(seed),
+        unit_norm,
+        method_params,
+    )
+    gx, glabels, gclasses, _ids, _groups, _folds, origin, parent, partner, weight = out
+    return Grown(
+        x=gx,
+        y=np.asarray(gclasses, dtype=object)[glabels],
+        origin=np.asarray(origin, dtype=object),
+        parent=parent,
+        partner=partner,
+        weight=weight,
+    )
+
+
+class Results:
+    """An assessment's results: the figures of ``embloom assess``'s results.json.
+
+    ``summary`` has one dict per (method, probe, metric) with the mean and the paired
+    difference against ``none``; ``per_class`` one per (method, probe, class).
+    ``str(results)`` is the table the command line prints.
+    """
+
+    def __init__(self, inner: Any, warnings_: list) -> None:
+        self._inner = inner
+        self._json = inner.to_json()
+        data = json.loads(self._json)
+        self.data: dict = data
+        self.summary: list = data["summary"]
+        self.per_class: list = data["per_class"]
+        self.warnings: list = data["warnings"]
+
+    def to_json(self) -> str:
+        """results.json's text."""
+        return self._json
+
+    def to_pandas(self) -> Any:
+        """``summary`` as a pandas DataFrame (needs pandas, which embloom does not depend on)."""
+        try:
+            import pandas as pd
+        except ImportError as err:
+            raise ImportError("to_pandas needs pandas: pip install pandas") from err
+        return pd.DataFrame(self.summary)
+
+    def write_report(self, dir: Union[str, PathLike], *, force: bool = False) -> None:
+        """Write results.json, the CSV tables and report.html to ``dir``, all or nothing."""
+        self._inner.write_report(str(dir), force)
+
+    def __str__(self) -> str:
+        return self._inner.table()
+
+    def __repr__(self) -> str:
+        return f"<embloom.Results: {len(self.summary)} summary rows>"
+
+
+class _Bar:
+    """A one-line progress bar on stderr, redrawn from the library's progress callback."""
+
+    def __init__(self) -> None:
+        self.start = time.monotonic()
+
+    def __call__(self, done: int, total: int, fold: int, folds: int, method: str) -> None:
+        width = 30
+        filled = width * done // max(total, 1)
+        elapsed = time.monotonic() - self.start
+        sys.stderr.write(
+            f"\r{'#' * filled}{'-' * (width - filled)} {done}/{total} "
+            f"fold {fold}/{folds} {method} [{elapsed:.0f}s]\x1b[K"
+        )
+        sys.stderr.flush()
+
+    def finish(self) -> None:
+        sys.stderr.write("\r\x1b[K")
+        sys.stderr.flush()
+
+
+def assess(
+    x: Any,
+    y: Any,
+    *,
+    methods: Sequence[str] = ("none", "interpolate", "extrapolate", "principal-noise"),
+    probes: Sequence[str] = ("knn", "linear"),
+    folds: int = 5,
+    repeats: int = 1,
+    groups: Optional[Sequence] = None,
+    fold: Optional[Sequence[int]] = None,
+    seed: int = 0,
+    progress: bool = True,
+    target: str = "median",
+    classes: Optional[Sequence[str]] = None,
+    unit_norm: str = "auto",
+    knn_k: Optional[int] = None,
+    knn_metric: Optional[str] = None,
+    linear_l2: Optional[float] = None,
+    linear_max_iter: Optional[int] = None,
+    interval: Optional[str] = None,
+    diagnostics: bool = True,
+    **method_params: Any,
+) -> Results:
+    """Compare ``methods`` against ``none`` on k-NN and linear probes, as ``embloom assess``.
+
+    Stratified k-fold (grouped when ``groups`` is given, the given folds with ``fold``); each
+    method is fitted on a fold's real training rows only and probes are scored on real
+    held-out rows only. ``progress=True`` draws a bar on stderr. Ctrl-C raises
+    KeyboardInterrupt within a fraction of a second; nothing is written.
+    """
+    rows = _rows(x)
+    labels, names = _labels(y, rows.shape[0])
+    config = {
+        "methods": [str(m) for m in methods],
+        "probes": [str(p) for p in probes],
+        "folds": int(folds),
+        "repeats": int(repeats),
+        "seed": int(seed),
+        "target": str(target),
+        "classes": None if classes is None else [str(c) for c in classes],
+        "unit_norm": unit_norm,
+        "knn_k": knn_k,
+        "knn_metric": knn_metric,
+        "linear_l2": linear_l2,
+        "linear_max_iter": linear_max_iter,
+        "interval": interval,
+        "diagnostics": bool(diagnostics),
+        "method_params": method_params,
+    }
+    bar = _Bar() if progress else None
+    try:
+        inner, notes = _embloom.assess(
+            rows,
+            labels,
+            names,
+            config,
+            _optional(groups, rows.shape[0]),
+            None if fold is None else [int(f) for f in fold],
+            bar,
+        )
+    finally:
+        if bar is not None:
+            bar.finish()
+    for note in notes:
+        warnings.warn(note, stacklevel=2)
+    return Results(inner, notes)

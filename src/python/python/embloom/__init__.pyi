@@ -1,0 +1,101 @@
+from os import PathLike
+from typing import Any, Optional, Sequence, Union
+
+import numpy as np
+
+__all__ = [
+    "Dataset",
+    "Grown",
+    "InputError",
+    "ParameterError",
+    "Results",
+    "assess",
+    "grow",
+    "read",
+    "write",
+]
+
+_Path = Union[str, PathLike[str]]
+
+class InputError(ValueError): ...
+class ParameterError(ValueError): ...
+
+class Dataset:
+    x: np.ndarray
+    y: np.ndarray
+    ids: Optional[np.ndarray]
+    groups: Optional[np.ndarray]
+    folds: Optional[np.ndarray]
+    notes: list[str]
+
+class Grown:
+    x: np.ndarray
+    y: np.ndarray
+    origin: np.ndarray
+    parent: np.ndarray
+    partner: np.ndarray
+    weight: np.ndarray
+
+class Results:
+    data: dict[str, Any]
+    summary: list[dict[str, Any]]
+    per_class: list[dict[str, Any]]
+    warnings: list[str]
+    def to_json(self) -> str: ...
+    def to_pandas(self) -> Any: ...
+    def write_report(self, dir: _Path, *, force: bool = ...) -> None: ...
+
+def read(
+    path: _Path,
+    *,
+    embeddings_key: str = ...,
+    labels_key: str = ...,
+    label_column: str = ...,
+    fold_key: str = ...,
+    labels_file: Optional[_Path] = ...,
+    drop_nonfinite: bool = ...,
+) -> Dataset: ...
+def write(
+    path: _Path,
+    x: Any,
+    y: Any,
+    *,
+    ids: Optional[Sequence[Any]] = ...,
+    groups: Optional[Sequence[Any]] = ...,
+    folds: Optional[Sequence[int]] = ...,
+    force: bool = ...,
+) -> None: ...
+def grow(
+    x: Any,
+    y: Any,
+    *,
+    method: str = ...,
+    target: str = ...,
+    classes: Optional[Sequence[str]] = ...,
+    seed: int = ...,
+    unit_norm: str = ...,
+    **method_params: Any,
+) -> Grown: ...
+def assess(
+    x: Any,
+    y: Any,
+    *,
+    methods: Sequence[str] = ...,
+    probes: Sequence[str] = ...,
+    folds: int = ...,
+    repeats: int = ...,
+    groups: Optional[Sequence[Any]] = ...,
+    fold: Optional[Sequence[int]] = ...,
+    seed: int = ...,
+    progress: bool = ...,
+    target: str = ...,
+    classes: Optional[Sequence[str]] = ...,
+    unit_norm: str = ...,
+    knn_k: Optional[int] = ...,
+    knn_metric: Optional[str] = ...,
+    linear_l2: Optional[float] = ...,
+    linear_max_iter: Optional[int] = ...,
+    interval: Optional[str] = ...,
+    diagnostics: bool = ...,
+    **method_params: Any,
+) -> Results: ...

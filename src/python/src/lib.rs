@@ -1,0 +1,506 @@
+//! The Python module `embloom._embloom`: thin bindings of the embloom library. The Python
+//! package (`python/embloom/__init__.py`) wraps these with keyword arguments, label encoding
+//! and result objects; everything computed here is the same library call the binary makes, so
+//! a seed gives the same bytes from either.
+
+use std::path::PathBuf;
+use std::sync::atomic::{AtomicBool, Ordering};
+use std::sync::{Arc, Mutex, mpsc};
+use std::time::Duration;
+
+use embloom::Dataset;
+use embloom::assess::{AssessConfig, AssessResults, InputInfo, Progress, assess_grown_observed};
+use embloom::augment::{
+    AugmentParams, MethodKind, Target, UnitNorm, assemble, grow_dataset, plan_for,
+};
+use embloom::eval::IntervalKind;
+use embloom::io::{self, AugmentedSet, ReadOptions};
+use embloom::neighbors::{IndexKind, Metric};
+use embloom::probe::{KnnParams, LinearParams, ProbeKind};
+use numpy::{IntoPyArray, PyArray1, PyArray2, PyReadonlyArray1, PyReadonlyArray2};
+use pyo3::exceptions::PyValueError;
+use pyo3::prelude::*;
+use pyo3::types::PyDict;
+
+pyo3::create_exception!(
+    _embloom,
+    InputError,
+    PyValueError,
+    "Bad input data or file."
+);
+pyo3::create_exception!(
+    _embloom,
+    ParameterError,
+    PyValueError,
+    "A parameter out of range."
+);
+
+/// The library's error as the Python exception of its kind, with the library's what/where/fix
+/// text. Input, I/O, data and output problems are `InputError`; parameters and resource
+/// limits (a job too big for the memory) are `ParameterError`.
+fn to_py(e: embloom::Error) -> PyErr {
+    let text = e.to_string();
+    match e {
+        embloom::Error::Param { .. } | embloom::Error::Resource { .. } => {
+            ParameterError::new_err(text)
+        }
+        _ => InputError::new_err(text),
+    }
+}
+
+fn param_err(name: &str, detail: String, fix: &str) -> PyErr {
+    to_py(embloom::Error::param(name, detail, fix))
+}
+
+/// A dataset from the arrays Python passed: rows (copied once into the library's owned
+/// matrix), class indices and class names.
+fn dataset(
+    x: PyReadonlyArray2<'_, f32>,
+    labels: PyReadonlyArray1<'_, u32>,
+    classes: Vec<String>,
+) -> PyResult<Dataset> {
+    let x = x.as_array().to_owned();
+    let labels = labels
+        .as_slice()
+        .map(<[u32]>::to_vec)
+        .unwrap_or_else(|_| labels.as_array().to_vec());
+    if labels.len() != x.nrows() {
+        return Err(to_py(embloom::Error::data(
+            format!("x has {} rows but y has {} labels", x.nrows(), labels.len()),
+            "pass one label per row",
+        )));
+    }
+    if let Some(&bad) = labels.iter().find(|&&l| l as usize >= classes.len()) {
+        return Err(to_py(embloom::Error::data(
+            format!("label index {bad} has no class name"),
+            "pass a class name for every label index",
+        )));
+    }
+    Ok(Dataset::new(x, labels, classes))
+}
+
+/// The shared method parameters from Python keyword arguments (library names with `_` for `-`).
+fn augment_params(params: Option<&Bound<'_, PyDict>>) -> PyResult<AugmentParams> {
+    let mut p = AugmentParams::default();
+    let Some(params) = params else { return Ok(p) };
+    for (key, value) in params.iter() {
+        let key: String = key.extract()?;
+        match key.as_str() {
+            "k" | "neighbours" => p.neighbours = value.extract()?,
+            "magnitude" => p.magnitude = value.extract()?,
+            "variance_kept" => p.variance_kept = value.extract()?,
+            "strict" => p.strict = value.extract()?,
+            "metric" => p.metric = metric(&value.extract::<String>()?, "metric")?,
+            "index" => {
+                p.index = match value.extract::<String>()?.as_str() {
+                    "exact" => IndexKind::Exact,
+                    "kdtree" => IndexKind::KdTree,
+                    s => {
+                        return Err(param_err(
+                            "index",
+                            format!("'{s}' is not a neighbour index"),
+                            "use exact or kdtree",
+                        ));
+                    }
+                }
+            }
+            other => {
+                return Err(param_err(
+                    other,
+                    format!("'{other}' is not a method parameter"),
+                    "use k, magnitude, variance_kept, metric, index or strict",
+                ));
+            }
+        }
+    }
+    Ok(p)
+}
+
+/// A neighbour metric by name, as the binary spells them.
+fn metric(s: &str, name: &str) -> PyResult<Metric> {
+    match s {
+        "cosine" => Ok(Metric::Cosine),
+        "euclidean" => Ok(Metric::Euclidean),
+        _ => Err(param_err(
+            name,
+            format!("'{s}' is not a metric"),
+            "use cosine or euclidean",
+        )),
+    }
+}
+
+/// An augmented set as the tuple the Python side turns into an object.
+type SetTuple<'py> = (
+    Bound<'py, PyArray2<f32>>,
+    Bound<'py, PyArray1<u32>>,
+    Vec<String>,
+    Option<Vec<String>>,
+    Option<Vec<String>>,
+    Option<Vec<i64>>,
+    Vec<String>,
+    Bound<'py, PyArray1<i64>>,
+    Bound<'py, PyArray1<i64>>,
+    Bound<'py, PyArray1<f32>>,
+);
+
+fn set_tuple(py: Python<'_>, set: AugmentedSet) -> SetTuple<'_> {
+    let AugmentedSet {
+        data,
+        origin,
+        parent,
+        partner,
+        weight,
+    } = set;
+    (
+        data.x.into_pyarray(py),
+        data.labels.into_pyarray(py),
+        data.classes,
+        data.ids,
+        data.groups,
+        data.folds,
+        origin,
+        parent.into_pyarray(py),
+        partner.into_pyarray(py),
+        weight.into_pyarray(py),
+    )
+}
+
+/// Grow `x` (rows) with `labels` (class indices into `classes`), exactly as `embloom grow`.
+#[pyfunction]
+#[pyo3(signature = (x, labels, classes, method, target, grow_classes, seed, unit_norm, params=None))]
+#[allow(clippy::too_many_arguments)]
+fn grow<'py>(
+    py: Python<'py>,
+    x: PyReadonlyArray2<'py, f32>,
+    labels: PyReadonlyArray1<'py, u32>,
+    classes: Vec<String>,
+    method: &str,
+    target: &str,
+    grow_classes: Option<Vec<String>>,
+    seed: u64,
+    unit_norm: &str,
+    params: Option<&Bound<'py, PyDict>>,
+) -> PyResult<SetTuple<'py>> {
+    let ds = dataset(x, labels, classes)?;
+    let method: MethodKind = method.parse().map_err(to_py)?;
+    let target: Target = target.parse().map_err(to_py)?;
+    let unit_norm: UnitNorm = unit_norm.parse().map_err(to_py)?;
+    let params = augment_params(params)?;
+    let set = py
+        .allow_threads(|| {
+            embloom::neighbors::magnitude::check(&PathBuf::from("x"), ds.x.view())?;
+            let plan = plan_for(&ds, target, grow_classes.as_deref())?;
+            let grown = grow_dataset(&ds, &plan, method, &params, unit_norm, seed)?;
+            assemble(&ds, &grown, method)
+        })
+        .map_err(to_py)?;
+    Ok(set_tuple(py, set))
+}
+
+/// Read a file as `embloom` reads it (keys as in the library's `ReadOptions`).
+#[pyfunction]
+#[pyo3(signature = (path, embeddings_key, labels_key, label_column, fold_key, labels_file=None, drop_nonfinite=false))]
+#[allow(clippy::too_many_arguments)]
+fn read<'py>(
+    py: Python<'py>,
+    path: PathBuf,
+    embeddings_key: String,
+    labels_key: String,
+    label_column: String,
+    fold_key: String,
+    labels_file: Option<PathBuf>,
+    drop_nonfinite: bool,
+) -> PyResult<(SetTuple<'py>, Vec<String>)> {
+    let opts = ReadOptions {
+        labels_file,
+        embeddings_key,
+        labels_key,
+        label_column,
+        fold_key,
+        drop_nonfinite,
+        keep_nonfinite: false,
+    };
+    let loaded = py.allow_threads(|| io::read(&path, &opts)).map_err(to_py)?;
+    let n = loaded.dataset.n_rows();
+    let set = AugmentedSet {
+        origin: loaded.origin.unwrap_or_else(|| vec!["real".into(); n]),
+        parent: loaded.parent.unwrap_or_else(|| (0..n as i64).collect()),
+        partner: loaded.partner.unwrap_or_else(|| vec![-1; n]),
+        weight: vec![0.0; n],
+        data: loaded.dataset,
+    };
+    Ok((set_tuple(py, set), loaded.notes))
+}
+
+/// Write rows, labels and optional ids/groups/folds to `path` (format by extension), all or
+/// nothing, as every embloom output.
+#[pyfunction]
+#[pyo3(signature = (path, x, labels, classes, ids=None, groups=None, folds=None, force=false))]
+#[allow(clippy::too_many_arguments)]
+fn write(
+    py: Python<'_>,
+    path: PathBuf,
+    x: PyReadonlyArray2<'_, f32>,
+    labels: PyReadonlyArray1<'_, u32>,
+    classes: Vec<String>,
+    ids: Option<Vec<String>>,
+    groups: Option<Vec<String>>,
+    folds: Option<Vec<i64>>,
+    force: bool,
+) -> PyResult<()> {
+    let mut ds = dataset(x, labels, classes)?;
+    let n = ds.n_rows();
+    for (name, len) in [
+        ("ids", ids.as_ref().map(Vec::len)),
+        ("groups", groups.as_ref().map(Vec::len)),
+        ("folds", folds.as_ref().map(Vec::len)),
+    ] {
+        if let Some(len) = len
+            && len != n
+        {
+            return Err(to_py(embloom::Error::data(
+                format!("x has {n} rows but {name} has {len} values"),
+                format!("pass one value of {name} per row"),
+            )));
+        }
+    }
+    ds.ids = ids;
+    ds.groups = groups;
+    ds.folds = folds;
+    let set = AugmentedSet::all_real(ds);
+    py.allow_threads(|| {
+        io::output_format(&path)?;
+        io::write(&path, &set, force)
+    })
+    .map_err(to_py)
+}
+
+/// A finished assessment, kept whole so the report folder is rendered by the library itself.
+#[pyclass(frozen)]
+struct Results(AssessResults);
+
+#[pymethods]
+impl Results {
+    /// results.json's text, as `embloom assess --json` prints it.
+    fn to_json(&self) -> PyResult<String> {
+        serde_json::to_string_pretty(&self.0).map_err(|e| {
+            to_py(embloom::Error::data(
+                format!("cannot serialise the results: {e}"),
+                "report this as a bug",
+            ))
+        })
+    }
+
+    /// The terminal table `embloom assess` prints.
+    fn table(&self) -> String {
+        embloom::report::terminal_table(&self.0)
+    }
+
+    /// Write results.json, the CSV tables and report.html to `dir`, all or nothing.
+    #[pyo3(signature = (dir, force=false))]
+    fn write_report(&self, py: Python<'_>, dir: PathBuf, force: bool) -> PyResult<()> {
+        py.allow_threads(|| embloom::report::write_report_dir_guarded(&dir, &self.0, force, &[]))
+            .map_err(to_py)
+    }
+}
+
+/// Why the worker stopped early: Python asked it to (Ctrl-C). Carried by an unwind that
+/// `resume_unwind` starts without running the panic hook, so nothing is printed.
+struct Cancelled;
+
+/// What the worker thread sends the waiting Python thread.
+enum Message {
+    Step(Progress),
+    Done(embloom::Result<AssessResults>),
+}
+
+/// Assess `x`/`labels` as `embloom assess` does. The work runs on a thread of its own while
+/// this thread, without the GIL, waits for its messages: every 100 ms it takes the GIL to let
+/// Python handle signals (Ctrl-C raises KeyboardInterrupt here at once, and the worker is
+/// stopped at its next step; nothing has been written) and to pass progress to `on_progress`.
+#[pyfunction]
+#[pyo3(signature = (x, labels, classes, config, groups=None, folds=None, on_progress=None))]
+#[allow(clippy::too_many_arguments)]
+fn assess<'py>(
+    py: Python<'py>,
+    x: PyReadonlyArray2<'py, f32>,
+    labels: PyReadonlyArray1<'py, u32>,
+    classes: Vec<String>,
+    config: &Bound<'py, PyDict>,
+    groups: Option<Vec<String>>,
+    folds: Option<Vec<i64>>,
+    on_progress: Option<Bound<'py, PyAny>>,
+) -> PyResult<(Results, Vec<String>)> {
+    let mut ds = dataset(x, labels, classes)?;
+    ds.groups = groups;
+    ds.folds = folds;
+    let (cfg, warnings) = assess_config(config, &ds)?;
+    let input = InputInfo {
+        path: "(arrays)".into(),
+        sha256: String::new(),
+        rows: ds.n_rows(),
+        dims: ds.dims(),
+        classes: ds.classes.clone(),
+        class_counts: ds.class_counts(),
+    };
+    let cancelled = Arc::new(AtomicBool::new(false));
+    let (tx, rx) = mpsc::channel();
+    // A Receiver is not Sync; the lock lets the GIL-free wait borrow it.
+    let rx = Mutex::new(rx);
+    let stop = Arc::clone(&cancelled);
+    std::thread::spawn(move || {
+        let done_tx = tx.clone();
+        let run = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
+            embloom::neighbors::magnitude::check(&PathBuf::from("x"), ds.x.view())?;
+            assess_grown_observed(&ds, &cfg, input, &[], &mut |p| {
+                if stop.load(Ordering::Relaxed) {
+                    std::panic::resume_unwind(Box::new(Cancelled));
+                }
+                let _ = tx.send(Message::Step(p));
+            })
+        }));
+        if let Ok(result) = run {
+            let _ = done_tx.send(Message::Done(result));
+        }
+    });
+    loop {
+        let msg = py.allow_threads(|| match rx.lock() {
+            Ok(rx) => rx.recv_timeout(Duration::from_millis(100)),
+            Err(_) => Err(mpsc::RecvTimeoutError::Disconnected),
+        });
+        if let Err(e) = py.check_signals() {
+            cancelled.store(true, Ordering::Relaxed);
+            return Err(e);
+        }
+        match msg {
+            Ok(Message::Step(p)) => {
+                if let Some(cb) = &on_progress {
+                    let method = p.method.to_string();
+                    if let Err(e) = cb.call1((p.done, p.total, p.fold, p.folds, method)) {
+                        cancelled.store(true, Ordering::Relaxed);
+                        return Err(e);
+                    }
+                }
+            }
+            Ok(Message::Done(result)) => {
+                let mut results = result.map_err(to_py)?;
+                results.warnings.extend(warnings.iter().cloned());
+                return Ok((Results(results), warnings));
+            }
+            Err(mpsc::RecvTimeoutError::Timeout) => {}
+            Err(mpsc::RecvTimeoutError::Disconnected) => {
+                return Err(to_py(embloom::Error::data(
+                    "the assessment stopped without a result",
+                    "report this as a bug",
+                )));
+            }
+        }
+    }
+}
+
+fn parse<T: std::str::FromStr<Err = embloom::Error>>(
+    d: &Bound<'_, PyDict>,
+    key: &str,
+) -> PyResult<Option<T>> {
+    match d.get_item(key)? {
+        None => Ok(None),
+        Some(v) if v.is_none() => Ok(None),
+        Some(v) => {
+            let s: String = v.str()?.extract()?;
+            s.parse().map(Some).map_err(to_py)
+        }
+    }
+}
+
+fn get<'py, T: FromPyObject<'py>>(d: &Bound<'py, PyDict>, key: &str) -> PyResult<Option<T>> {
+    match d.get_item(key)? {
+        None => Ok(None),
+        Some(v) if v.is_none() => Ok(None),
+        Some(v) => v.extract().map(Some),
+    }
+}
+
+/// The assessment's configuration from the Python keywords, with the command line's defaults
+/// (the library's own), and the k-NN k clamped to a fold's training rows as the binary does.
+fn assess_config(d: &Bound<'_, PyDict>, ds: &Dataset) -> PyResult<(AssessConfig, Vec<String>)> {
+    let methods: Vec<String> = get(d, "methods")?.unwrap_or_default();
+    let mut kinds = vec![MethodKind::None];
+    for m in methods {
+        let k: MethodKind = m.parse().map_err(to_py)?;
+        if !kinds.contains(&k) {
+            kinds.push(k);
+        }
+    }
+    let probes: Vec<String> =
+        get(d, "probes")?.unwrap_or_else(|| vec!["knn".into(), "linear".into()]);
+    let probes = probes
+        .iter()
+        .map(|p| p.parse::<ProbeKind>())
+        .collect::<embloom::Result<Vec<_>>>()
+        .map_err(to_py)?;
+    let params: Option<Bound<'_, PyDict>> = get(d, "method_params")?;
+    let mut knn = KnnParams::default();
+    if let Some(k) = get(d, "knn_k")? {
+        knn.k = k;
+    }
+    if let Some(m) = get::<String>(d, "knn_metric")? {
+        knn.metric = metric(&m, "knn-metric")?;
+    }
+    let mut linear = LinearParams::default();
+    if let Some(l2) = get(d, "linear_l2")? {
+        linear.l2 = l2;
+    }
+    if let Some(it) = get(d, "linear_max_iter")? {
+        linear.max_iter = it;
+    }
+    let interval = match get::<String>(d, "interval")? {
+        None => IntervalKind::default(),
+        Some(s) => IntervalKind::parse(&s).ok_or_else(|| {
+            param_err(
+                "interval",
+                format!("unknown interval '{s}'"),
+                "use corrected-t or another interval the library names",
+            )
+        })?,
+    };
+    let mut cfg = AssessConfig {
+        methods: kinds,
+        probes,
+        folds: get(d, "folds")?.unwrap_or(5),
+        repeats: get(d, "repeats")?.unwrap_or(1),
+        target: parse(d, "target")?.unwrap_or(Target::Median),
+        classes: get(d, "classes")?,
+        augment: augment_params(params.as_ref())?,
+        unit_norm: parse(d, "unit_norm")?.unwrap_or(UnitNorm::Auto),
+        knn,
+        linear,
+        interval,
+        seed: get(d, "seed")?.unwrap_or(0),
+        diagnostics: get(d, "diagnostics")?.unwrap_or(true),
+    }
+    .validated()
+    .map_err(to_py)?;
+    let mut warnings = Vec::new();
+    let train = ds.n_rows() - ds.n_rows() / cfg.folds.max(2);
+    if cfg.knn.k > train.max(1) {
+        warnings.push(format!(
+            "knn_k {} is more than the {train} training rows of a fold; using k = {}",
+            cfg.knn.k,
+            train.max(1)
+        ));
+        cfg.knn.k = train.max(1);
+    }
+    Ok((cfg, warnings))
+}
+
+#[pymodule]
+fn _embloom(m: &Bound<'_, PyModule>) -> PyResult<()> {
+    m.add("InputError", m.py().get_type::<InputError>())?;
+    m.add("ParameterError", m.py().get_type::<ParameterError>())?;
+    m.add_function(wrap_pyfunction!(grow, m)?)?;
+    m.add_function(wrap_pyfunction!(assess, m)?)?;
+    m.add_class::<Results>()?;
+    m.add_function(wrap_pyfunction!(read, m)?)?;
+    m.add_function(wrap_pyfunction!(write, m)?)?;
+    Ok(())
+}
