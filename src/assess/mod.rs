@@ -5,6 +5,7 @@ mod config;
 mod from_file;
 mod input;
 mod method_id;
+mod probe_side;
 pub mod results;
 mod run;
 mod scatter;
@@ -16,6 +17,7 @@ pub use config::{AssessConfig, ResultsConfig};
 pub use from_file::{FileRows, GrownFile};
 pub use input::sha256_of;
 pub use method_id::MethodId;
+pub use probe_side::not_applicable;
 pub use results::{AssessResults, InputInfo};
 pub use run::{
     Progress, assess, assess_grown_observed, assess_observed, assess_with, assess_with_observed,

@@ -23,14 +23,16 @@ pub enum Knob {
     Neighbours,
     Target,
     VarianceKept,
+    Tau,
 }
 
 impl Knob {
-    pub const ALL: [Knob; 4] = [
+    pub const ALL: [Knob; 5] = [
         Knob::Magnitude,
         Knob::Neighbours,
         Knob::Target,
         Knob::VarianceKept,
+        Knob::Tau,
     ];
 
     pub fn name(self) -> &'static str {
@@ -39,6 +41,7 @@ impl Knob {
             Knob::Neighbours => "neighbours",
             Knob::Target => "target",
             Knob::VarianceKept => "variance-kept",
+            Knob::Tau => "tau",
         }
     }
 
@@ -49,16 +52,18 @@ impl Knob {
             Knob::Neighbours => Some(Param::Neighbours),
             Knob::Target => None,
             Knob::VarianceKept => Some(Param::VarianceKept),
+            Knob::Tau => Some(Param::Tau),
         }
     }
 
-    /// Whether `method` reads this knob. Target is read by every method that makes rows; the
+    /// Whether `method` reads this knob. Target is read by every method that makes rows (not by
+    /// reweight or logit-adjust, which make none); the
     /// others only by the methods whose params read them, so sweeping an unused knob would
     /// print the same row at every value.
     pub fn used_by(self, method: MethodKind) -> bool {
         match self.param() {
             Some(p) => method.reads_param(p),
-            None => method != MethodKind::None,
+            None => method.makes_rows(),
         }
     }
 
@@ -83,6 +88,7 @@ impl Knob {
             Knob::VarianceKept => {
                 c.augment.variance_kept = value.parse().map_err(|_| bad("a number"))?
             }
+            Knob::Tau => c.augment.tau = value.parse().map_err(|_| bad("a number"))?,
         }
         Ok(c)
     }
@@ -203,6 +209,13 @@ pub fn sweep(
             .filter(|k| k.used_by(method))
             .map(|k| k.name())
             .collect();
+        if used.is_empty() {
+            return Err(Error::param(
+                "--method",
+                format!("{method} has no knobs: it makes no rows and reads no parameter"),
+                "assess it with assess instead, or sweep a method with knobs, such as interpolate or logit-adjust",
+            ));
+        }
         return Err(Error::param(
             "--knob",
             format!("{method} does not use {knob}: every value would give the same rows"),

@@ -81,12 +81,24 @@ methods! {
     Extrapolate => extrapolate, "extrapolate", "x + λ·(x − n), away from a neighbour (DeVries & Taylor 2017)", ExtrapolateParams, ExtrapolateValidParams;
     PrincipalNoise => principal_noise, "principal-noise", "Gaussian noise along the class's principal directions", PrincipalNoiseParams, PrincipalNoiseValidParams;
     GaussianNoise => gaussian_noise, "gaussian-noise", "isotropic Gaussian noise (baseline)", GaussianNoiseParams, GaussianNoiseValidParams;
+    Reweight => reweight, "reweight", "no rows: probes weigh classes by n / (C·n_c) (King & Zeng 2001)", ReweightParams, ReweightValidParams;
+    LogitAdjust => logit_adjust, "logit-adjust", "no rows: linear scores shifted by −τ·log prior (Menon et al. 2021)", LogitAdjustParams, LogitAdjustValidParams;
 }
 
 impl MethodKind {
     /// Whether the method reads `param`.
     pub fn reads_param(self, param: Param) -> bool {
         self.reads().contains(&param)
+    }
+
+    /// Whether the method makes synthetic rows. `none` makes none, and so do the methods that
+    /// change how a probe learns instead (`reweight`, `logit-adjust`): grow has nothing to
+    /// write for them and the target does not move them.
+    pub fn makes_rows(self) -> bool {
+        !matches!(
+            self,
+            MethodKind::None | MethodKind::Reweight | MethodKind::LogitAdjust
+        )
     }
 
     /// Whether the method needs same-class neighbours (so a one-row class cannot grow).
