@@ -22,4 +22,5 @@ mod knn_ties;
 mod neighbors_exact;
 mod pca_iris;
 mod probe_digits;
+mod probe_reweight;
 mod report_render;
