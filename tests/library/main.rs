@@ -9,6 +9,7 @@ mod assess_from_file;
 mod assess_grown;
 mod assess_intervals;
 mod assess_leakage;
+mod assess_probe_side;
 mod assess_sweep;
 mod augment_methods;
 mod eval_diagnostics;
