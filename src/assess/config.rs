@@ -242,6 +242,8 @@ pub struct AugmentRecord {
     pub metric: NeighbourMetric,
     pub neighbours: usize,
     pub strict: bool,
+    /// τ of logit-adjust.
+    pub tau: f64,
     #[serde(serialize_with = "f32_spelled")]
     pub variance_kept: f64,
 }
@@ -297,6 +299,7 @@ impl ResultsConfig {
                 metric: a.metric,
                 neighbours: a.neighbours,
                 strict: a.strict,
+                tau: a.tau,
                 variance_kept: a.variance_kept,
             },
             classes: cfg.classes.clone(),

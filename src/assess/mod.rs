@@ -6,6 +6,7 @@ mod external;
 mod from_file;
 mod input;
 mod method_id;
+mod probe_side;
 pub mod results;
 mod run;
 mod scatter;
@@ -23,6 +24,7 @@ pub use external::{
 pub use from_file::{FileRows, GrownFile};
 pub use input::sha256_of;
 pub use method_id::{MethodId, UNION_JOIN};
+pub use probe_side::not_applicable;
 pub use results::{AssessResults, HashedFile, InputInfo};
 pub use run::{
     Progress, assess, assess_grown_observed, assess_observed, assess_sets_observed, assess_with,

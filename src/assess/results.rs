@@ -109,6 +109,9 @@ pub struct SummaryRow {
     /// Why there is no interval (bounds and p are then empty), e.g. "no interval (5 folds, no
     /// variation)".
     pub no_interval: Option<String>,
+    /// False when the method does not apply to the probe (logit-adjust with k-NN): every
+    /// figure is then empty and `no_interval` says why.
+    pub applies: bool,
 }
 
 /// One class's recall under a method and probe, with its paired difference against `none`.

@@ -11,6 +11,7 @@ use super::config::{AssessConfig, ExternalBudget, ResultsConfig};
 use super::external::{self, RowSets};
 use super::from_file::FileRows;
 use super::method_id::MethodId;
+use super::probe_side::{ProbeSide, not_applicable};
 use super::results::{AssessResults, DiagnosticRow, FoldRecord, InputInfo, WorkCounters};
 use super::{scatter, shared_knn, summary};
 use crate::augment::{self, Augmenter, Grown, MethodKind, Plan, class_indices, describe_notes};
@@ -24,7 +25,7 @@ use crate::eval::protocol::{Fold, SplitKind, make_folds};
 use crate::neighbors::{self, Knn};
 use crate::probe::KnnProbe;
 use crate::probe::ProbeKind;
-use crate::probe::{LinearModel, LinearProbe};
+use crate::probe::{ClassWeight, LinearModel, LinearParams, LinearProbe, LogitAdjustment};
 use crate::seed;
 
 /// Bins of the expected calibration error (Guo et al. 2017 use 15).
@@ -318,6 +319,11 @@ pub(super) fn assess_reusing(
     let unit_norm = cfg.unit_norm.resolve(ds.view());
     let knn_probe = KnnProbe::new(cfg.knn)?;
     let linear_probe = LinearProbe::new(cfg.linear)?;
+    // reweight's linear probe: the same settings with balanced class weights.
+    let balanced_probe = LinearProbe::new(LinearParams {
+        class_weight: ClassWeight::Balanced,
+        ..cfg.linear
+    })?;
 
     let total = folds.len() * arms.len();
     let mut done = 0;
@@ -396,7 +402,12 @@ pub(super) fn assess_reusing(
                 .chain(&grown.labels)
                 .copied()
                 .collect();
+            let side = ProbeSide::of(&id, &cfg.augment);
             for (pi, &probe) in cfg.probes.iter().enumerate() {
+                if let Some(why) = not_applicable(&id, probe) {
+                    warnings.insert(why.to_string());
+                    continue;
+                }
                 let cached = reused
                     .filter(|_| id.is_baseline())
                     .and_then(|b| b.probes.get(pi));
@@ -419,36 +430,55 @@ pub(super) fn assess_reusing(
                             ctx.train.n_rows() as u32,
                             cfg.knn.k,
                         );
+                        let pred = match side {
+                            ProbeSide::Reweight => {
+                                knn_probe.predict_balanced(&merged, &labels, ds.n_classes())
+                            }
+                            _ => {
+                                knn_probe.predict_from_neighbours(&merged, &labels, ds.n_classes())
+                            }
+                        };
                         Evaluated {
-                            pred: knn_probe.predict_from_neighbours(
-                                &merged,
-                                &labels,
-                                ds.n_classes(),
-                            ),
+                            pred,
                             calibration: None,
                             converged: None,
                             model: None,
                         }
                     }
                     (None, ProbeKind::Linear) => {
-                        work.linear_fits += 1;
-                        work.linear_warm_starts += usize::from(baseline_linear.is_some());
-                        let model = linear_probe.fit_parts(
-                            &[ctx.train.x.view(), grown.x.view()],
-                            &labels,
-                            ds.n_classes(),
-                            baseline_linear.as_ref(),
-                        )?;
-                        let proba = model.predict_proba(ctx.test.view());
-                        work.linear_iterations_total += model.iterations;
-                        Evaluated {
-                            pred: model.predict(ctx.test.view()),
-                            calibration: Some((
-                                log_loss(&ctx.test.labels, proba.view()),
-                                ece(&ctx.test.labels, proba.view(), ECE_BINS),
-                            )),
-                            converged: Some(model.converged),
-                            model: Some(model),
+                        if let ProbeSide::LogitAdjust { tau } = side {
+                            logit_adjusted(
+                                &ctx,
+                                &labels,
+                                tau,
+                                baseline_linear.as_ref(),
+                                &linear_probe,
+                                &mut work,
+                            )?
+                        } else {
+                            let linear_probe = match side {
+                                ProbeSide::Reweight => &balanced_probe,
+                                _ => &linear_probe,
+                            };
+                            work.linear_fits += 1;
+                            work.linear_warm_starts += usize::from(baseline_linear.is_some());
+                            let model = linear_probe.fit_parts(
+                                &[ctx.train.x.view(), grown.x.view()],
+                                &labels,
+                                ds.n_classes(),
+                                baseline_linear.as_ref(),
+                            )?;
+                            let proba = model.predict_proba(ctx.test.view());
+                            work.linear_iterations_total += model.iterations;
+                            Evaluated {
+                                pred: model.predict(ctx.test.view()),
+                                calibration: Some((
+                                    log_loss(&ctx.test.labels, proba.view()),
+                                    ece(&ctx.test.labels, proba.view(), ECE_BINS),
+                                )),
+                                converged: Some(model.converged),
+                                model: Some(model),
+                            }
                         }
                     }
                 };
@@ -536,6 +566,41 @@ pub(super) fn assess_reusing(
         warnings: warnings.into_iter().collect(),
         work,
         elapsed_seconds: started.elapsed().as_secs_f64(),
+    })
+}
+
+/// logit-adjust on the linear probe: the fold's baseline fit (the same rows and settings:
+/// the method adds none), its test scores shifted by −τ·log π of the training labels. Fitted
+/// here only when no baseline model was left.
+fn logit_adjusted(
+    ctx: &FoldContext,
+    labels: &[u32],
+    tau: f64,
+    baseline: Option<&LinearModel>,
+    probe: &LinearProbe,
+    work: &mut WorkCounters,
+) -> Result<Evaluated> {
+    let n_classes = ctx.train.n_classes();
+    let fitted;
+    let model = match baseline {
+        Some(m) => m,
+        None => {
+            work.linear_fits += 1;
+            fitted = probe.fit(ctx.train.x.view(), labels, n_classes, None)?;
+            work.linear_iterations_total += fitted.iterations;
+            &fitted
+        }
+    };
+    let adjust = LogitAdjustment::new(labels, n_classes, tau);
+    let proba = adjust.predict_proba(model, ctx.test.view());
+    Ok(Evaluated {
+        pred: adjust.predict(model, ctx.test.view()),
+        calibration: Some((
+            log_loss(&ctx.test.labels, proba.view()),
+            ece(&ctx.test.labels, proba.view(), ECE_BINS),
+        )),
+        converged: Some(model.converged),
+        model: None,
     })
 }
 

@@ -12,6 +12,7 @@ use std::collections::{BTreeMap, BTreeSet, HashMap};
 use rand::RngCore;
 
 use super::method_id::MethodId;
+use super::probe_side::not_applicable;
 use super::results::{AssessResults, ClassRow, DiagnosticRow, FoldRecord, SummaryRow};
 use crate::eval::Metric;
 use crate::eval::interval::{
@@ -213,6 +214,25 @@ impl<'a> Aggregate<'a> {
                 .map(|r| r.metrics.iter().map(|(n, _)| *n).collect())
                 .unwrap_or_default();
             for m in 0..self.methods.len() {
+                if not_applicable(&self.methods[m], self.probes[p]).is_some() {
+                    rows.extend(metric_names.iter().map(|&name| SummaryRow {
+                        method: self.methods[m].clone(),
+                        probe: self.probes[p],
+                        metric: name,
+                        mean: f64::NAN,
+                        delta_mean: f64::NAN,
+                        delta_ci_low: f64::NAN,
+                        delta_ci_high: f64::NAN,
+                        p_value: f64::NAN,
+                        folds: 0,
+                        no_interval: Some(format!(
+                            "not applicable: {} does not apply to the {} probe",
+                            self.methods[m], self.probes[p]
+                        )),
+                        applies: false,
+                    }));
+                    continue;
+                }
                 for &name in &metric_names {
                     let (mean, iv) = self.estimate(m, p, name);
                     rows.push(SummaryRow {
@@ -226,6 +246,7 @@ impl<'a> Aggregate<'a> {
                         p_value: iv.p_value,
                         folds: iv.folds,
                         no_interval: iv.no_interval.as_ref().map(|r| r.to_string()),
+                        applies: true,
                     });
                 }
             }
@@ -239,6 +260,9 @@ impl<'a> Aggregate<'a> {
         let mut rows = Vec::new();
         for p in 0..self.probes.len() {
             for m in 0..self.methods.len() {
+                if not_applicable(&self.methods[m], self.probes[p]).is_some() {
+                    continue;
+                }
                 for (c, name) in self.classes.iter().enumerate() {
                     let (recall, iv) = self
                         .pooled(m, p, Metric::POOLED.len() + c)
@@ -316,6 +340,9 @@ impl<'a> Aggregate<'a> {
         let mut out = Vec::new();
         for p in 0..self.probes.len() {
             for m in 1..self.methods.len() {
+                if not_applicable(&self.methods[m], self.probes[p]).is_some() {
+                    continue;
+                }
                 let (_, ba) = self.estimate(m, p, Metric::BalancedAccuracy);
                 let (_, gr) = self.estimate(m, p, Metric::GrownClassRecall);
                 let mut s = format!(

@@ -27,15 +27,18 @@ pub enum Knob {
     Target,
     /// The share of class variance kept by principal-noise, in (0, 1].
     VarianceKept,
+    /// τ of logit-adjust, a number of at least 0.
+    Tau,
 }
 
 impl Knob {
     /// Every knob, in the order help text lists them.
-    pub const ALL: [Knob; 4] = [
+    pub const ALL: [Knob; 5] = [
         Knob::Magnitude,
         Knob::Neighbours,
         Knob::Target,
         Knob::VarianceKept,
+        Knob::Tau,
     ];
 
     /// The knob's name, as results.json writes it and parameter errors name it.
@@ -45,6 +48,7 @@ impl Knob {
             Knob::Neighbours => "neighbours",
             Knob::Target => "target",
             Knob::VarianceKept => "variance-kept",
+            Knob::Tau => "tau",
         }
     }
 
@@ -55,16 +59,18 @@ impl Knob {
             Knob::Neighbours => Some(Param::Neighbours),
             Knob::Target => None,
             Knob::VarianceKept => Some(Param::VarianceKept),
+            Knob::Tau => Some(Param::Tau),
         }
     }
 
-    /// Whether `method` reads this knob. Target is read by every method that makes rows; the
+    /// Whether `method` reads this knob. Target is read by every method that makes rows (not by
+    /// reweight or logit-adjust, which make none); the
     /// others only by the methods whose params read them, so sweeping an unused knob would
     /// print the same row at every value.
     pub fn used_by(self, method: MethodKind) -> bool {
         match self.param() {
             Some(p) => method.reads_param(p),
-            None => method != MethodKind::None,
+            None => method.makes_rows(),
         }
     }
 
@@ -89,6 +95,7 @@ impl Knob {
             Knob::VarianceKept => {
                 c.augment.variance_kept = value.parse().map_err(|_| bad("a number"))?
             }
+            Knob::Tau => c.augment.tau = value.parse().map_err(|_| bad("a number"))?,
         }
         Ok(c)
     }
@@ -224,6 +231,13 @@ pub fn sweep(
             .filter(|k| k.used_by(method))
             .map(|k| k.name())
             .collect();
+        if used.is_empty() {
+            return Err(Error::param(
+                "method",
+                format!("{method} has no knobs: it makes no rows and reads no parameter"),
+                "assess it with assess instead, or sweep a method with knobs, such as interpolate or logit-adjust",
+            ));
+        }
         return Err(Error::param(
             "knob",
             format!("{method} does not use {knob}: every value would give the same rows"),

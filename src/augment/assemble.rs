@@ -17,6 +17,15 @@ pub fn grow_dataset(
     unit_norm: UnitNorm,
     seed: u64,
 ) -> Result<Grown> {
+    if !method.makes_rows() && method != MethodKind::None {
+        return Err(Error::param(
+            "method",
+            format!(
+                "{method} makes no rows: it changes how the probes learn from the real rows, so a grown file would hold the input unchanged"
+            ),
+            "measure it with assess or sweep, or grow with a method that makes rows, such as interpolate",
+        ));
+    }
     let augmenter = super::build(method, params)?;
     let unit_norm = unit_norm.resolve(ds.view());
     super::grow(

@@ -87,12 +87,24 @@ methods! {
     Duplicate => duplicate, "duplicate", "copies of real rows drawn uniformly (random oversampling)", DuplicateParams, DuplicateValidParams;
     Borderline => borderline, "borderline", "Borderline-SMOTE1: SMOTE from rows in danger only (Han et al. 2005)", BorderlineParams, BorderlineValidParams;
     Adaptive => adaptive, "adaptive", "ADASYN: more rows from rows near other classes (He et al. 2008)", AdaptiveParams, AdaptiveValidParams;
+    Reweight => reweight, "reweight", "no rows: probes weigh classes by n / (C·n_c) (King & Zeng 2001)", ReweightParams, ReweightValidParams;
+    LogitAdjust => logit_adjust, "logit-adjust", "no rows: linear scores shifted by −τ·log prior (Menon et al. 2021)", LogitAdjustParams, LogitAdjustValidParams;
 }
 
 impl MethodKind {
     /// Whether the method reads `param`.
     pub fn reads_param(self, param: Param) -> bool {
         self.reads().contains(&param)
+    }
+
+    /// Whether the method makes synthetic rows. `none` makes none, and so do the methods that
+    /// change how a probe learns instead (`reweight`, `logit-adjust`): grow has nothing to
+    /// write for them and the target does not move them.
+    pub fn makes_rows(self) -> bool {
+        !matches!(
+            self,
+            MethodKind::None | MethodKind::Reweight | MethodKind::LogitAdjust
+        )
     }
 
     /// Whether the method needs same-class neighbours (so a one-row class cannot grow).

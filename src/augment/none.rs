@@ -44,15 +44,17 @@ impl Augmenter for NoneValidParams {
     }
 
     fn fit(&self, train: &Dataset, _classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
-        Ok(Box::new(FittedNone { dims: train.dims() }))
+        Ok(Box::new(NoRows { dims: train.dims() }))
     }
 }
 
-struct FittedNone {
-    dims: usize,
+/// A fit that makes no rows: the baseline's, and that of the methods which change how a
+/// probe learns rather than what it learns from (`reweight`, `logit-adjust`).
+pub(super) struct NoRows {
+    pub(super) dims: usize,
 }
 
-impl FittedAugmenter for FittedNone {
+impl FittedAugmenter for NoRows {
     /// Always zero rows, whatever `n` is: the baseline never synthesises.
     fn sample(&self, _class: u32, _n: usize, _rng: &mut Rng) -> Result<Synthetic> {
         Ok(Synthetic {

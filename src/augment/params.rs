@@ -10,7 +10,7 @@ use std::fmt;
 pub use linfa::ParamGuard;
 use serde::Serialize;
 
-use super::{Augmenter, neighbour_methods, principal_noise};
+use super::{Augmenter, logit_adjust, neighbour_methods, principal_noise};
 use crate::error::{Error, Result};
 use crate::neighbors::{IndexKind, Metric};
 
@@ -30,6 +30,8 @@ pub enum Param {
     NeighbourIndex,
     /// Refuse classes the method cannot grow instead of skipping them.
     Strict,
+    /// τ of logit-adjust, the scale of the shift by the log class prior.
+    Tau,
 }
 
 impl Param {
@@ -42,6 +44,7 @@ impl Param {
             Param::NeighbourMetric => "neighbour-metric",
             Param::NeighbourIndex => "neighbour-index",
             Param::Strict => "strict",
+            Param::Tau => "tau",
         }
     }
 }
@@ -69,6 +72,8 @@ pub struct AugmentParams {
     /// How same-class neighbours are found: exact (default) or the approximate k-d tree,
     /// worth it only for very large classes.
     pub index: IndexKind,
+    /// τ of logit-adjust (default 1, Menon et al. 2021).
+    pub tau: f64,
 }
 
 impl Default for AugmentParams {
@@ -81,6 +86,7 @@ impl Default for AugmentParams {
             metric: nb.metric,
             strict: false,
             index: nb.index,
+            tau: logit_adjust::DEFAULT_TAU,
         }
     }
 }

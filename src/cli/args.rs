@@ -94,6 +94,9 @@ pub struct MethodArgs {
     #[arg(long, default_value = "exact", value_parser = parse_index,
           help = param_help(Param::NeighbourIndex, "Same-class neighbour search: exact, or kdtree (approximate: a k-d tree over the leading principal components, for very large classes)"))]
     pub neighbour_index: IndexKind,
+    #[arg(long, default_value_t = AugmentParams::default().tau, value_name = "T",
+          help = param_help(Param::Tau, "Scale τ of the shift by −τ·log(class prior) of the linear probe's scores"))]
+    pub tau: f64,
     /// Make classes a method cannot grow (e.g. a single row) an error instead of a warning.
     #[arg(long)]
     pub strict: bool,
@@ -111,6 +114,7 @@ impl MethodArgs {
             metric: self.neighbour_metric,
             strict: self.strict,
             index: self.neighbour_index,
+            tau: self.tau,
         }
     }
 }
@@ -241,6 +245,7 @@ const FLAGS: &[(&str, &str, &str)] = &[
     ("neighbour-metric", "--neighbour-metric", ""),
     ("neighbour-index", "--neighbour-index", ""),
     ("strict", "--strict", ""),
+    ("tau", "--tau", ""),
     ("unit-norm", "--unit-norm", ""),
     ("probes", "--probes", ""),
     ("folds", "--folds", ""),

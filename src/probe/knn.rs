@@ -123,12 +123,38 @@ impl KnnProbe {
         train_y: &[u32],
         n_classes: usize,
     ) -> Vec<u32> {
+        self.predict_weighted(knn, train_y, n_classes, None)
+    }
+
+    /// [`KnnProbe::predict_from_neighbours`] with each neighbour's vote multiplied by
+    /// `1 / n_c`, `n_c` the number of rows of its class in `train_y`: every class then casts
+    /// the same total vote over the whole training set, so a rare class is not outvoted just
+    /// for being rare (the k-NN side of `reweight`). See [`inverse_class_counts`].
+    pub fn predict_balanced(&self, knn: &Knn, train_y: &[u32], n_classes: usize) -> Vec<u32> {
+        let weights = inverse_class_counts(train_y, n_classes);
+        self.predict_weighted(knn, train_y, n_classes, Some(&weights))
+    }
+
+    /// The vote, with each class's votes scaled by `class_weight[c]` when given.
+    fn predict_weighted(
+        &self,
+        knn: &Knn,
+        train_y: &[u32],
+        n_classes: usize,
+        class_weight: Option<&[f64]>,
+    ) -> Vec<u32> {
         let take = self.params.k.min(knn.k);
         let mut votes = vec![0.0f64; n_classes];
         (0..knn.n_queries())
             .map(|q| {
                 let (idx, dist) = knn.row(q);
-                self.accumulate(&idx[..take], &dist[..take], train_y, &mut votes);
+                self.accumulate(
+                    &idx[..take],
+                    &dist[..take],
+                    train_y,
+                    class_weight,
+                    &mut votes,
+                );
                 // Only the neighbours' classes hold votes: read and reset those alone, so a
                 // query costs O(k), not O(classes) (200,000 one-row classes made this
                 // quadratic).
@@ -159,7 +185,14 @@ impl KnnProbe {
     }
 
     /// Adds each neighbour's vote to its class.
-    fn accumulate(&self, idx: &[u32], dist: &[f32], train_y: &[u32], votes: &mut [f64]) {
+    fn accumulate(
+        &self,
+        idx: &[u32],
+        dist: &[f32],
+        train_y: &[u32],
+        class_weight: Option<&[f64]>,
+        votes: &mut [f64],
+    ) {
         let similarity = |d: f32| -> f64 {
             match self.params.metric {
                 Metric::Cosine => 1.0 - f64::from(d),
@@ -185,12 +218,27 @@ impl KnnProbe {
             let w = match self.params.vote {
                 Vote::Uniform => 1.0,
                 Vote::Weighted => ((similarity(d) - top) / t).exp(),
-            };
+            } * class_weight.map_or(1.0, |cw| cw[class as usize]);
             if w.is_finite() {
                 *slot += w;
             }
         }
     }
+}
+
+/// `1 / n_c` for every class c below `n_classes`, `n_c` its rows in `y` (0 for a class with
+/// no rows: it has no neighbour to weigh).
+pub fn inverse_class_counts(y: &[u32], n_classes: usize) -> Vec<f64> {
+    let mut counts = vec![0usize; n_classes];
+    for &c in y {
+        if let Some(n) = counts.get_mut(c as usize) {
+            *n += 1;
+        }
+    }
+    counts
+        .into_iter()
+        .map(|n| if n > 0 { 1.0 / n as f64 } else { 0.0 })
+        .collect()
 }
 
 #[cfg(test)]
@@ -272,6 +320,37 @@ mod tests {
             probe(4, Metric::Cosine, Vote::Uniform).predict_from_neighbours(&knn, &train_y, 2),
             vec![1]
         );
+    }
+
+    #[test]
+    fn balanced_vote_divides_each_neighbour_by_its_class_count() {
+        // Worked example from the definition (vote of class c = Σ neighbours of c × 1/n_c):
+        // training labels 0 ×4, 1 ×2. Neighbours (0, 0, 0, 1): uniform 3 vs 1, balanced
+        // 3/4 vs 1/2 → class 0 both ways. Neighbours (0, 0, 1, 1): uniform 2 vs 2 ties → the
+        // lowest index, 0; balanced 2/4 vs 2/2 → class 1.
+        let train_y = [0, 0, 0, 0, 1, 1];
+        let knn = table(
+            4,
+            &[
+                (&[0, 1, 2, 4], &[0.1, 0.2, 0.3, 0.4]),
+                (&[0, 1, 4, 5], &[0.1, 0.2, 0.3, 0.4]),
+            ],
+        );
+        let p = probe(4, Metric::Cosine, Vote::Uniform);
+        assert_eq!(p.predict_from_neighbours(&knn, &train_y, 2), vec![0, 0]);
+        assert_eq!(p.predict_balanced(&knn, &train_y, 2), vec![0, 1]);
+        assert_eq!(inverse_class_counts(&train_y, 3), vec![0.25, 0.5, 0.0]);
+        // With the weighted vote the class weight multiplies exp(sim/T): neighbours at cosine
+        // distances 0.1 (class 0) and 0.2 (class 1): 1/4 · e^0 = 0.25 against
+        // 1/2 · e^(−0.1/0.07) ≈ 0.120 → class 0; with class 0 at 12 rows, 1/12 ≈ 0.083 <
+        // 0.120 → class 1.
+        let knn = table(2, &[(&[0, 4], &[0.1, 0.2])]);
+        let w = probe(2, Metric::Cosine, Vote::Weighted);
+        assert_eq!(w.predict_balanced(&knn, &train_y, 2), vec![0]);
+        let mut many = vec![0u32; 12];
+        many.extend([1, 1]);
+        let knn = table(2, &[(&[0, 12], &[0.1, 0.2])]);
+        assert_eq!(w.predict_balanced(&knn, &many, 2), vec![1]);
     }
 
     #[test]

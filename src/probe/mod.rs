@@ -10,11 +10,13 @@ pub mod lbfgs;
 mod linear;
 mod linear_model;
 mod linfa_estimators;
+mod logit_adjust;
 mod scaling;
 mod softmax_loss;
 
 pub use kind::ProbeKind;
-pub use knn::{KnnParams, KnnProbe, Vote};
+pub use knn::{KnnParams, KnnProbe, Vote, inverse_class_counts};
 pub use linear::{ClassWeight, LinearParams, LinearProbe, class_weights};
 pub use linear_model::LinearModel;
 pub use linfa_estimators::FittedKnn;
+pub use logit_adjust::LogitAdjustment;

@@ -8,11 +8,16 @@ use crate::probe::ProbeKind;
 
 pub use crate::rounding::{MISSING, signed, value};
 
+/// Shown where a method does not apply to a probe (logit-adjust with k-NN): nothing was
+/// measured, which is not the same as a figure that could not be computed (`n/a`).
+pub const NOT_APPLICABLE: &str = "—";
+
 /// One summary cell: `mean (Δ +d.ddd [lo, hi])`, only the mean for the baseline, `n/a` when
-/// the assessment produced no row.
+/// the assessment produced no row, `—` when the method does not apply to the probe.
 pub fn summary_cell(row: Option<&SummaryRow>) -> String {
     match row {
         None => MISSING.to_string(),
+        Some(s) if !s.applies => NOT_APPLICABLE.to_string(),
         Some(s) if s.method.is_baseline() => value(s.mean),
         Some(s) if s.delta_mean.is_finite() && s.no_interval.is_some() => format!(
             "{} (Δ {} {})",

@@ -106,6 +106,7 @@ fn results() -> AssessResults {
                     p_value: if base { f64::NAN } else { 0.04 },
                     folds: 5,
                     no_interval: None,
+                    applies: true,
                 });
             }
             for (c, class) in CLASSES.iter().enumerate() {
