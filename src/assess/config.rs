@@ -51,7 +51,35 @@ pub struct AssessConfig {
     pub diagnostics: bool,
 }
 
+/// The k-NN probe's k was more than a fold's training rows and was lowered to them.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct KnnClamp {
+    /// The k asked for.
+    pub asked: usize,
+    /// The training rows of a fold (the smallest, with the last fold's remainder).
+    pub train_rows: usize,
+    /// The k used instead.
+    pub used: usize,
+}
+
 impl AssessConfig {
+    /// Lower the k-NN probe's k to the training rows of a fold of `rows` rows: more neighbours
+    /// than rows is meaningless, and a huge k would size buffers by it. Returns what changed,
+    /// for the caller to tell its user.
+    pub fn clamp_knn_k(&mut self, rows: usize) -> Option<KnnClamp> {
+        let train = rows - rows / self.folds.max(2);
+        if self.knn.k <= train.max(1) {
+            return None;
+        }
+        let asked = self.knn.k;
+        self.knn.k = train.max(1);
+        Some(KnnClamp {
+            asked,
+            train_rows: train,
+            used: self.knn.k,
+        })
+    }
+
     /// The configuration as results.json records it.
     pub fn record(&self) -> ResultsConfig {
         ResultsConfig::of(self)

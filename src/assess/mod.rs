@@ -15,7 +15,8 @@ mod summary;
 mod sweep;
 
 pub use config::{
-    AssessConfig, ExternalBudget, ExternalConfig, ExternalRecord, ExternalSetInfo, ResultsConfig,
+    AssessConfig, ExternalBudget, ExternalConfig, ExternalRecord, ExternalSetInfo, KnnClamp,
+    ResultsConfig,
 };
 pub use external::{
     PARENT_KEY, RowSets, check_name as check_external_name, read as read_external,

@@ -121,22 +121,12 @@ fn renormalise(x: &mut Array2<f32>) {
     }
 }
 
-/// Human-readable warnings for what a fit clamped or skipped.
+/// Human-readable warnings for what a fit clamped, adjusted or skipped. Skipped classes
+/// point at the `strict` setting, which turns them into an error.
 pub fn describe_notes(
     notes: &[FitNote],
     classes: &[String],
     method: super::MethodKind,
-) -> Vec<String> {
-    describe_notes_with(notes, classes, method, "set strict")
-}
-
-/// [`describe_notes`], with `strict` naming how the caller's user turns on strict mode (the
-/// binary names its flag).
-pub fn describe_notes_with(
-    notes: &[FitNote],
-    classes: &[String],
-    method: super::MethodKind,
-    strict: &str,
 ) -> Vec<String> {
     let mut skipped = Vec::new();
     let mut out = Vec::new();
@@ -157,7 +147,7 @@ pub fn describe_notes_with(
     }
     if !skipped.is_empty() {
         out.push(format!(
-            "{method} cannot grow {} and left {} unchanged; use another method for them, or {strict} to make this an error",
+            "{method} cannot grow {} and left {} unchanged; use another method for them, or set `strict` to make this an error",
             skipped.join(", "),
             if skipped.len() == 1 { "it" } else { "them" }
         ));

@@ -12,7 +12,7 @@ mod plan;
 mod unit_norm;
 
 pub use assemble::{assemble, grow_dataset};
-pub use grow::{Grown, describe_notes, describe_notes_with, grow};
+pub use grow::{Grown, describe_notes, grow};
 pub use neighbour_methods::NeighbourParams;
 pub use params::{AugmentParams, MethodParams, Param, ParamGuard};
 pub use plan::{Plan, Target, class_indices, plan_for};

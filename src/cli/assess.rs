@@ -253,19 +253,14 @@ fn from_file_notes(file: &GrownFile) -> Vec<String> {
         .collect()
 }
 
-/// Clamps the k-NN probe's k to the training rows of a fold (more neighbours than rows is
-/// meaningless, and a huge k would size buffers by it), saying so.
+/// The warning for a k-NN k the library lowered to a fold's training rows.
 pub fn clamp_knn_k(config: &mut AssessConfig, rows: usize) -> Option<String> {
-    let train = rows - rows / config.folds.max(2);
-    if config.knn.k <= train.max(1) {
-        return None;
-    }
-    let asked = config.knn.k;
-    config.knn.k = train.max(1);
-    Some(format!(
-        "--knn-k {asked} is more than the {} training rows of a fold; using k = {}",
-        train, config.knn.k
-    ))
+    config.clamp_knn_k(rows).map(|c| {
+        format!(
+            "--knn-k {} is more than the {} training rows of a fold; using k = {}",
+            c.asked, c.train_rows, c.used
+        )
+    })
 }
 
 /// The rule for classes with fewer rows (or groups) than folds. Such a class is missing from

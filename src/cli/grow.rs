@@ -5,9 +5,9 @@ use std::path::PathBuf;
 use clap::Args;
 use serde::Serialize;
 
-use super::args::{InputArgs, MethodArgs, method_help, parse_method, parse_size};
+use super::args::{InputArgs, MethodArgs, flag_text, method_help, parse_method, parse_size};
 use embloom::augment::{
-    AugmentParams, MethodKind, Plan, Target, UnitNorm, assemble, describe_notes_with, grow_dataset,
+    AugmentParams, MethodKind, Plan, Target, UnitNorm, assemble, describe_notes, grow_dataset,
     plan_for,
 };
 use embloom::error::Result;
@@ -246,12 +246,11 @@ pub fn execute(opts: &GrowOptions) -> Result<GrowSummary> {
             .notes
             .iter()
             .cloned()
-            .chain(describe_notes_with(
-                &grown.notes,
-                &ds.classes,
-                opts.method,
-                "--strict",
-            ))
+            .chain(
+                describe_notes(&grown.notes, &ds.classes, opts.method)
+                    .iter()
+                    .map(|w| flag_text(w)),
+            )
             .collect(),
     })
 }

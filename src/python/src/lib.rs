@@ -481,14 +481,11 @@ fn assess_config(d: &Bound<'_, PyDict>, ds: &Dataset) -> PyResult<(AssessConfig,
     .validated()
     .map_err(to_py)?;
     let mut warnings = Vec::new();
-    let train = ds.n_rows() - ds.n_rows() / cfg.folds.max(2);
-    if cfg.knn.k > train.max(1) {
+    if let Some(c) = cfg.clamp_knn_k(ds.n_rows()) {
         warnings.push(format!(
-            "knn_k {} is more than the {train} training rows of a fold; using k = {}",
-            cfg.knn.k,
-            train.max(1)
+            "knn_k {} is more than the {} training rows of a fold; using k = {}",
+            c.asked, c.train_rows, c.used
         ));
-        cfg.knn.k = train.max(1);
     }
     Ok((cfg, warnings))
 }
