@@ -219,6 +219,7 @@ fn read<'py>(
         fold_key,
         drop_nonfinite,
         keep_nonfinite: false,
+        ..ReadOptions::default()
     };
     let loaded = py.allow_threads(|| io::read(&path, &opts)).map_err(to_py)?;
     let n = loaded.dataset.n_rows();
@@ -311,7 +312,8 @@ struct Cancelled;
 /// What the worker thread sends the waiting Python thread.
 enum Message {
     Step(Progress),
-    Done(embloom::Result<AssessResults>),
+    /// Boxed: the results are large and sent once, the steps small and many.
+    Done(Box<embloom::Result<AssessResults>>),
 }
 
 /// Assess `x`/`labels` as `embloom assess` does. The work runs on a thread of its own while
@@ -342,6 +344,7 @@ fn assess<'py>(
         dims: ds.dims(),
         classes: ds.classes.clone(),
         class_counts: ds.class_counts(),
+        labels_file: None,
     };
     let cancelled = Arc::new(AtomicBool::new(false));
     let (tx, rx) = mpsc::channel();
@@ -360,7 +363,7 @@ fn assess<'py>(
             })
         }));
         if let Ok(result) = run {
-            let _ = done_tx.send(Message::Done(result));
+            let _ = done_tx.send(Message::Done(Box::new(result)));
         }
     });
     loop {
@@ -383,7 +386,7 @@ fn assess<'py>(
                 }
             }
             Ok(Message::Done(result)) => {
-                let mut results = result.map_err(to_py)?;
+                let mut results = (*result).map_err(to_py)?;
                 results.warnings.extend(warnings.iter().cloned());
                 return Ok((Results(results), warnings));
             }
