@@ -40,15 +40,7 @@
 //!     seed: 1,
 //!     diagnostics: false,
 //! };
-//! let input = InputInfo {
-//!     path: "street-signs (demo)".into(),
-//!     sha256: String::new(),
-//!     rows: set.n_rows(),
-//!     dims: set.dims(),
-//!     classes: set.classes.clone(),
-//!     class_counts: counts,
-//!     labels_file: None,
-//! };
+//! let input = InputInfo::in_memory("street-signs (demo)", &set);
 //! let results = assess(&set, &cfg, input)?;
 //! // One record per (fold, method, probe): 3 folds × 2 methods × 1 probe.
 //! assert_eq!(results.folds.len(), 6);

@@ -15,14 +15,23 @@ impl InputInfo {
     /// Describe `ds`, read from `path`, for the results.
     pub fn of(path: &Path, ds: &Dataset) -> Result<InputInfo> {
         Ok(InputInfo {
-            path: path.display().to_string(),
             sha256: sha256_of(path)?,
+            ..InputInfo::in_memory(path.display().to_string(), ds)
+        })
+    }
+
+    /// Describe `ds` held in memory (arrays from a caller, simulated data) under `name`: there
+    /// is no file to hash, so the SHA-256 is left empty.
+    pub fn in_memory(name: impl Into<String>, ds: &Dataset) -> InputInfo {
+        InputInfo {
+            path: name.into(),
+            sha256: String::new(),
             rows: ds.n_rows(),
             dims: ds.dims(),
             classes: ds.classes.clone(),
             class_counts: ds.class_counts(),
             labels_file: None,
-        })
+        }
     }
 
     /// Name the separate labels file the labels were read from, hashing it, so the results

@@ -282,15 +282,7 @@ pub fn run(
         .map(|i| {
             let mut rng = ChaCha8Rng::seed_from_u64(seed.wrapping_add(1_000_003 * i as u64 + 17));
             let ds = sample(w, &mu, &w.sizes, &mut rng);
-            let info = InputInfo {
-                path: "simulated".into(),
-                sha256: String::new(),
-                rows: ds.n_rows(),
-                dims: ds.dims(),
-                classes: ds.classes.clone(),
-                class_counts: ds.class_counts(),
-                labels_file: None,
-            };
+            let info = InputInfo::in_memory("simulated", &ds);
             let mut c = cfg.clone();
             c.seed = seed.wrapping_add(i as u64);
             let res = assess(&ds, &c, info).unwrap();

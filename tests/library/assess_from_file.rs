@@ -52,15 +52,7 @@ fn config(folds: usize, repeats: usize) -> AssessConfig {
 }
 
 fn info(ds: &Dataset) -> InputInfo {
-    InputInfo {
-        path: "test".into(),
-        sha256: String::new(),
-        rows: ds.n_rows(),
-        dims: ds.dims(),
-        classes: ds.classes.clone(),
-        class_counts: ds.class_counts(),
-        labels_file: None,
-    }
+    InputInfo::in_memory("test", ds)
 }
 
 /// One planted or honest synthetic row: its values, class, parent and partner.

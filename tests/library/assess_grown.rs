@@ -51,15 +51,7 @@ fn a_class_that_got_no_rows_is_not_marked_grown() {
         seed: 1,
         diagnostics: false,
     };
-    let info = InputInfo {
-        path: "single".into(),
-        sha256: String::new(),
-        rows: ds.n_rows(),
-        dims: ds.dims(),
-        classes: ds.classes.clone(),
-        class_counts: ds.class_counts(),
-        labels_file: None,
-    };
+    let info = InputInfo::in_memory("single", &ds);
     let r = assess(&ds, &cfg, info).unwrap();
     assert!(
         !r.grown_classes.contains(&"lone".to_string()),

@@ -58,15 +58,7 @@ fn config(interval: IntervalKind) -> AssessConfig {
 }
 
 fn info(ds: &Dataset) -> InputInfo {
-    InputInfo {
-        path: "separated".into(),
-        sha256: String::new(),
-        rows: ds.n_rows(),
-        dims: ds.dims(),
-        classes: ds.classes.clone(),
-        class_counts: ds.class_counts(),
-        labels_file: None,
-    }
+    InputInfo::in_memory("separated", ds)
 }
 
 #[test]

@@ -56,15 +56,7 @@ fn config() -> AssessConfig {
 }
 
 fn info(ds: &Dataset) -> InputInfo {
-    InputInfo {
-        path: "test".into(),
-        sha256: String::new(),
-        rows: ds.n_rows(),
-        dims: ds.dims(),
-        classes: ds.classes.clone(),
-        class_counts: ds.class_counts(),
-        labels_file: None,
-    }
+    InputInfo::in_memory("test", ds)
 }
 
 /// Records the ids of every training set it is fitted on, then behaves like interpolate.

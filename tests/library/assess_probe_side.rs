@@ -57,15 +57,7 @@ fn probe_side_methods_add_no_rows_and_logit_adjust_skips_knn() {
     }
     .validated()
     .unwrap();
-    let info = InputInfo {
-        path: "probe-side".into(),
-        sha256: String::new(),
-        rows: ds.n_rows(),
-        dims: ds.dims(),
-        classes: ds.classes.clone(),
-        class_counts: ds.class_counts(),
-        labels_file: None,
-    };
+    let info = InputInfo::in_memory("probe-side", &ds);
     let r = assess(&ds, &cfg, info).unwrap();
     assert!(r.folds.iter().all(|f| f.train_synthetic == 0));
     assert!(

@@ -53,15 +53,7 @@ fn config(method: MethodKind) -> AssessConfig {
 }
 
 fn info(ds: &Dataset) -> InputInfo {
-    InputInfo {
-        path: "overlapping".into(),
-        sha256: String::new(),
-        rows: ds.n_rows(),
-        dims: ds.dims(),
-        classes: ds.classes.clone(),
-        class_counts: ds.class_counts(),
-        labels_file: None,
-    }
+    InputInfo::in_memory("overlapping", ds)
 }
 
 /// The same f64 bit for bit (NaN equal to NaN: a missing interval is missing in both).

@@ -337,15 +337,7 @@ fn assess<'py>(
     ds.groups = groups;
     ds.folds = folds;
     let (cfg, warnings) = assess_config(config, &ds)?;
-    let input = InputInfo {
-        path: "(arrays)".into(),
-        sha256: String::new(),
-        rows: ds.n_rows(),
-        dims: ds.dims(),
-        classes: ds.classes.clone(),
-        class_counts: ds.class_counts(),
-        labels_file: None,
-    };
+    let input = InputInfo::in_memory("(arrays)", &ds);
     let cancelled = Arc::new(AtomicBool::new(false));
     let (tx, rx) = mpsc::channel();
     // A Receiver is not Sync; the lock lets the GIL-free wait borrow it.
