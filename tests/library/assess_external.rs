@@ -10,47 +10,12 @@ use embloom::assess::{
     AssessConfig, AssessResults, ExternalBudget, ExternalConfig, FileRows, InputInfo, MethodId,
     RowSets, assess_sets_observed, resolve_external,
 };
-use embloom::augment::{AugmentParams, MethodKind, Target, UnitNorm};
+use embloom::augment::MethodKind;
 use embloom::eval::protocol::{Fold, make_folds};
-use embloom::probe::{KnnParams, LinearParams, ProbeKind};
 use ndarray::Array2;
 
-/// Random property-test input (not a figure): 3 classes of 40, 10 and 12 rows in 6 dims.
-fn dataset() -> Dataset {
-    let counts = [40usize, 10, 12];
-    let mut labels = Vec::new();
-    for (c, &k) in counts.iter().enumerate() {
-        labels.extend(std::iter::repeat_n(c as u32, k));
-    }
-    let x = Array2::from_shape_fn((labels.len(), 6), |(i, j)| {
-        let h = ((i * 7919 + j * 104_729) % 1000) as f32 / 1000.0;
-        h + if j == labels[i] as usize { 1.2 } else { 0.0 }
-    });
-    Dataset::new(x, labels, vec!["a".into(), "b".into(), "c".into()])
-}
-
-fn config(folds: usize, repeats: usize) -> AssessConfig {
-    AssessConfig {
-        methods: vec![MethodKind::None, MethodKind::Interpolate],
-        probes: vec![ProbeKind::Knn, ProbeKind::Linear],
-        folds,
-        repeats,
-        target: Target::Largest,
-        classes: None,
-        augment: AugmentParams::default(),
-        unit_norm: UnitNorm::Off,
-        knn: KnnParams {
-            k: 3,
-            ..KnnParams::default()
-        },
-        linear: LinearParams::default(),
-        interval: embloom::eval::IntervalKind::default(),
-        seed: 11,
-        diagnostics: true,
-    }
-    .validated()
-    .unwrap()
-}
+// The same data and configuration as the grown-file tests: external sets use the same gate.
+use crate::assess_from_file::{config, dataset};
 
 fn info(ds: &Dataset) -> InputInfo {
     InputInfo::in_memory("test", ds)

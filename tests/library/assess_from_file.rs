@@ -15,7 +15,7 @@ use embloom::probe::{KnnParams, LinearParams, ProbeKind};
 use ndarray::Array2;
 
 /// Random property-test input (not a figure): 3 classes of 40, 10 and 12 rows in 6 dims.
-fn dataset() -> Dataset {
+pub(crate) fn dataset() -> Dataset {
     let counts = [40usize, 10, 12];
     let mut labels = Vec::new();
     for (c, &k) in counts.iter().enumerate() {
@@ -28,7 +28,7 @@ fn dataset() -> Dataset {
     Dataset::new(x, labels, vec!["a".into(), "b".into(), "c".into()])
 }
 
-fn config(folds: usize, repeats: usize) -> AssessConfig {
+pub(crate) fn config(folds: usize, repeats: usize) -> AssessConfig {
     AssessConfig {
         methods: vec![MethodKind::None, MethodKind::Interpolate],
         probes: vec![ProbeKind::Knn, ProbeKind::Linear],
