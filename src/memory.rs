@@ -98,13 +98,18 @@ impl Estimate {
     }
 }
 
-/// Bytes as MiB/GiB for messages.
+/// Bytes as GiB/MiB (KiB or bytes below a MiB) for messages.
 pub fn human(b: u64) -> String {
     let mib = b as f64 / (1u64 << 20) as f64;
     if mib >= 1024.0 {
         format!("{:.1} GiB", mib / 1024.0)
-    } else {
+    } else if mib >= 1.0 {
         format!("{mib:.0} MiB")
+    } else if b >= 1024 {
+        // Below a MiB, "0 MiB" would read as nothing at all.
+        format!("{:.0} KiB", b as f64 / 1024.0)
+    } else {
+        format!("{b} B")
     }
 }
 
@@ -282,6 +287,15 @@ pub fn peak_resident() -> Option<u64> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn small_sizes_are_not_shown_as_zero_mib() {
+        // common practice, no source: binary units, rounded to whole units.
+        assert_eq!(human(3 << 30), "3.0 GiB");
+        assert_eq!(human(5 << 20), "5 MiB");
+        assert_eq!(human(300 * 1024), "300 KiB");
+        assert_eq!(human(700), "700 B");
+    }
 
     #[test]
     fn sizes_and_refusal() {

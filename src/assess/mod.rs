@@ -13,6 +13,7 @@ mod scatter;
 mod shared_knn;
 mod summary;
 mod sweep;
+mod thin_classes;
 
 pub use config::{
     AssessConfig, ExternalBudget, ExternalConfig, ExternalRecord, ExternalSetInfo, KnnClamp,
@@ -33,3 +34,4 @@ pub use run::{
 };
 pub use summary::{LEVEL, summary_with};
 pub use sweep::{Knob, SweepPoint, SweepResults, SweepValue, sweep};
+pub use thin_classes::check_thin_classes;

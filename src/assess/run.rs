@@ -255,6 +255,7 @@ pub(super) fn assess_reusing(
             "assess needs at least two classes",
         ));
     }
+    let thin = super::check_thin_classes(ds, cfg.folds, &input.path)?;
     for f in from_file {
         f.check_against(ds)?;
     }
@@ -330,7 +331,7 @@ pub(super) fn assess_reusing(
     let mut records = Vec::new();
     let mut diagnostics = Vec::new();
     let mut scatters = Vec::new();
-    let mut warnings = BTreeSet::new();
+    let mut warnings: BTreeSet<String> = thin.into_iter().collect();
     // Warnings that can arise in any fold, each with the folds it concerns, so a run prints
     // it once rather than once per fold.
     let mut fold_warnings = FoldWarnings::default();

@@ -251,6 +251,9 @@ pub fn sweep(
             "give at least one value, e.g. 0.25,0.5,1",
         ));
     }
+    // Said once for the whole sweep (every value assesses the same rows and folds), not once
+    // per value.
+    let thin = super::check_thin_classes(ds, base.folds, &input.path)?;
     // Validate every value before the first (long) assessment starts.
     let configs = values
         .iter()
@@ -317,6 +320,9 @@ pub fn sweep(
             });
         }
         for w in r.warnings {
+            if thin.as_ref() == Some(&w) {
+                continue;
+            }
             match warned.iter_mut().find(|(seen, _)| *seen == w) {
                 Some((_, at)) => at.push(value.clone()),
                 None => warned.push((w, vec![value.clone()])),
@@ -324,15 +330,15 @@ pub fn sweep(
         }
         progress(i + 1, value);
     }
-    let warnings = warned
+    let warnings = thin
         .into_iter()
-        .map(|(w, at)| {
+        .chain(warned.into_iter().map(|(w, at)| {
             if at.len() == values.len() && values.len() > 1 {
                 format!("{w} (at every {knob})")
             } else {
                 format!("{knob} = {}: {w}", at.join(", "))
             }
-        })
+        }))
         .collect();
     Ok(SweepResults {
         embloom_version: env!("CARGO_PKG_VERSION").to_string(),

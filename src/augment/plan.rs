@@ -134,12 +134,34 @@ pub fn class_indices(names: &[String], ds: &crate::data::Dataset) -> Result<Vec<
                 Error::param(
                     "classes",
                     format!("no class named '{n}'"),
-                    format!("the classes are: {}", ds.classes.join(", ")),
+                    class_list(&ds.classes),
                 )
             })?);
         }
     }
     Ok(out)
+}
+
+/// How many class names an unknown-class error lists before "and N more".
+const LISTED_CLASSES: usize = 20;
+
+/// The fix of an unknown-class error: the class names, only the first few of a long list
+/// (a set with 200,000 classes must not print them all).
+fn class_list(classes: &[String]) -> String {
+    let shown = classes
+        .iter()
+        .take(LISTED_CLASSES)
+        .cloned()
+        .collect::<Vec<_>>();
+    if classes.len() > LISTED_CLASSES {
+        format!(
+            "the classes are: {}, and {} more (inspect lists them all)",
+            shown.join(", "),
+            classes.len() - LISTED_CLASSES
+        )
+    } else {
+        format!("the classes are: {}", shown.join(", "))
+    }
 }
 
 /// The growth plan for a whole dataset: `target` for the classes named in `classes` (all

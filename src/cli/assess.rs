@@ -12,7 +12,7 @@ use super::progress::{FoldBar, show_progress};
 use super::protocol::ProtocolArgs;
 use embloom::assess::{
     AssessConfig, AssessResults, ExternalConfig, FileRows, GrownFile, InputInfo, RowSets,
-    assess_sets_observed, read_external,
+    assess_sets_observed, check_thin_classes, read_external,
 };
 use embloom::augment::MethodKind;
 use embloom::error::Result;
@@ -132,7 +132,8 @@ pub fn execute_announced(
     let file_notes = from_file_notes(&loaded.file);
     let (rows, sets) = with_external(&mut loaded, &opts.external, &opts.read)?;
     let ds = &loaded.file.real;
-    let thin = thin_class_check(ds, config.folds, &opts.input)?;
+    // Checked again by the library; here so the warning comes before the work.
+    let thin = check_thin_classes(ds, config.folds, &loaded.info.path)?.map(|w| flag_text(&w));
     let clamped = clamp_knn_k(&mut config, ds.n_rows());
     check_memory(ds, &config, &rows, opts)?;
     let announced: Vec<String> = thin.into_iter().collect();
@@ -158,7 +159,6 @@ pub fn execute_announced(
     results.warnings.extend(file_notes);
     results.warnings.extend(loaded.notes.iter().cloned());
     results.warnings.extend(clamped);
-    results.warnings.extend(announced.iter().cloned());
     if loaded.dropped_nonfinite > 0 {
         results.warnings.push(format!(
             "{} input rows with NaN/Inf were skipped",
@@ -261,80 +261,6 @@ pub fn clamp_knn_k(config: &mut AssessConfig, rows: usize) -> Option<String> {
             c.asked, c.train_rows, c.used
         )
     })
-}
-
-/// The rule for classes with fewer rows (or groups) than folds. Such a class is missing from
-/// some test folds and some training folds, and a one-row class is never both trained on and
-/// tested, so its recall is 0 whatever the method. A few of them earn a warning (with a short
-/// list); when they are most of the classes, balanced accuracy and macro-F1 (means over
-/// classes) would measure the split rather than the methods, so the job is refused before any
-/// work, with the fold count that would pass if there is one.
-pub fn thin_class_check(
-    ds: &embloom::Dataset,
-    folds: usize,
-    path: &Path,
-) -> Result<Option<String>> {
-    let thin = embloom::eval::thin_classes(ds, folds);
-    if thin.is_empty() {
-        return Ok(None);
-    }
-    let present = ds.class_counts().iter().filter(|&&n| n > 0).count();
-    let unit = if ds.folds.is_some() {
-        "given folds"
-    } else if ds.groups.is_some() {
-        "groups"
-    } else {
-        "rows"
-    };
-    let shown: Vec<String> = thin
-        .iter()
-        .take(5)
-        .map(|&c| embloom::report::display_name(&ds.classes[c as usize], 40))
-        .collect();
-    let more = if thin.len() > 5 {
-        format!(" and {} more", thin.len() - 5)
-    } else {
-        String::new()
-    };
-    let what = if ds.folds.is_some() {
-        format!(
-            "{} of {present} classes are missing from some of the given folds ({}{more})",
-            thin.len(),
-            shown.join(", ")
-        )
-    } else {
-        format!(
-            "{} of {present} classes have fewer {unit} than the {folds} folds ({}{more})",
-            thin.len(),
-            shown.join(", ")
-        )
-    };
-    if 2 * thin.len() <= present {
-        return Ok(Some(format!(
-            "{what}: they cannot be in every fold, so their recall says little; merge or drop rare classes, or use fewer folds (--folds)"
-        )));
-    }
-    // The largest fold count (below the asked one) that leaves at most half the classes thin.
-    let passing = (2..folds)
-        .rev()
-        .find(|&f| 2 * embloom::eval::thin_classes(ds, f).len() <= present);
-    let folds_fix = match passing {
-        Some(f) => format!("use fewer folds (--folds {f} passes), or "),
-        None => "even --folds 2 leaves most of them thinner than the folds: ".to_string(),
-    };
-    Err(embloom::Error::input(
-        path,
-        format!(
-            "{what}. Such a class is missing from some test or training folds (a one-row class is never both trained on and tested, so its recall is 0 whatever the method), and with most classes like that balanced accuracy and macro-F1 would measure the split, not the methods; refused before any work"
-        ),
-        if ds.folds.is_some() {
-            "give every class rows in every fold of the fold column, or merge or drop the classes missing from some folds before assessing".to_string()
-        } else {
-            format!(
-                "{folds_fix}merge or drop the classes with fewer than {folds} {unit} before assessing (keep the classes you want to compare and join or remove the rest)"
-            )
-        },
-    ))
 }
 
 /// Refuses before the fold loop when one fold's work would not fit in memory.

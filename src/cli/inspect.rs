@@ -133,16 +133,17 @@ impl Inspection {
         }
         s += &format!("  exact duplicate rows: {}\n", self.duplicate_rows);
         let extras: Vec<&str> = [
-            (self.has_ids, "ids"),
-            (self.has_groups, "groups"),
-            (self.has_folds, "folds"),
+            (self.has_ids, "id"),
+            (self.has_groups, "group"),
+            (self.has_folds, "fold"),
         ]
         .iter()
         .filter(|(h, _)| *h)
         .map(|(_, n)| *n)
         .collect();
         if !extras.is_empty() {
-            s += &format!("  carries: {}\n", extras.join(", "));
+            // The role names every format accepts (the plural spellings are read with a note).
+            s += &format!("  carries per row: {}\n", extras.join(", "));
         }
         if !self.labelled {
             s += "  labels: not given (pass --labels FILE.npy to describe the classes)\n";

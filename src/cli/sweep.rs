@@ -9,7 +9,7 @@ use super::args::{InputArgs, MethodArgs, parse_method};
 use super::assess::load;
 use super::progress::show_progress;
 use super::protocol::ProtocolArgs;
-use embloom::assess::{AssessConfig, Knob, SweepResults, sweep};
+use embloom::assess::{AssessConfig, Knob, SweepResults, check_thin_classes, sweep};
 use embloom::augment::MethodKind;
 use embloom::error::{Error, Result};
 use embloom::io::{self, ReadOptions, write_atomically};
@@ -64,11 +64,14 @@ pub fn run(a: SweepArgs, quiet: bool) -> anyhow::Result<()> {
         csv: a.csv.clone(),
         force: a.force,
     };
-    let results = execute(&opts, show_progress(quiet))?;
+    let (results, thin) = execute(&opts, show_progress(quiet))?;
     if a.json {
         println!("{}", serde_json::to_string_pretty(&results)?);
     } else {
-        print!("{}", embloom::report::sweep_table(&results));
+        // The thin-class warning was printed before the work; it is not repeated under the table.
+        let mut shown = results.clone();
+        shown.warnings.retain(|w| Some(w) != thin.as_ref());
+        print!("{}", embloom::report::sweep_table(&shown));
     }
     Ok(())
 }
@@ -85,8 +88,9 @@ pub struct SweepOptions {
     pub force: bool,
 }
 
-/// Run a sweep and write its CSV when asked.
-pub fn execute(opts: &SweepOptions, show_progress: bool) -> Result<SweepResults> {
+/// Run a sweep and write its CSV when asked; also gives the thin-class warning printed on
+/// stderr before the work (it stays in the results).
+pub fn execute(opts: &SweepOptions, show_progress: bool) -> Result<(SweepResults, Option<String>)> {
     if let Some(csv) = &opts.csv {
         let inputs = io::output_target::inputs_of(&opts.input, &opts.read);
         io::output_target::check_file(csv, opts.force, &inputs, None)?;
@@ -94,7 +98,9 @@ pub fn execute(opts: &SweepOptions, show_progress: bool) -> Result<SweepResults>
     let loaded = load(&opts.input, &opts.read)?;
     let ds = &loaded.file.real;
     let mut config = opts.config.clone();
-    let thin = super::assess::thin_class_check(ds, config.folds, &opts.input)?;
+    // Checked again by the library; here so the warning comes before the work.
+    let thin = check_thin_classes(ds, config.folds, &loaded.info.path)?
+        .map(|w| super::args::flag_text(&w));
     let clamped = super::assess::clamp_knn_k(&mut config, ds.n_rows());
     if let Some(w) = &thin {
         eprintln!("warning: {w}");
@@ -131,7 +137,7 @@ pub fn execute(opts: &SweepOptions, show_progress: bool) -> Result<SweepResults>
             std::fs::write(tmp, text.as_bytes()).map_err(|e| Error::io(tmp, e))
         })?;
     }
-    Ok(results)
+    Ok((results, thin))
 }
 
 /// A sweep turns a knob of a method it fits in each fold; a grown file's rows were made once,

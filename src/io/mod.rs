@@ -187,8 +187,8 @@ impl Format {
 fn no_hdf5(path: &Path) -> Error {
     Error::input(
         path,
-        "this build of embloom has no HDF5 support",
-        "rebuild with `cargo build --release --features hdf5` (needs libhdf5-dev), or convert the file to .npz",
+        "this build of embloom has no HDF5 support (the optional `hdf5` feature, which needs libhdf5)",
+        "convert the file to .npz, or use a build with HDF5 support (README: Formats and keys)",
     )
 }
 
@@ -329,8 +329,8 @@ pub fn output_format(path: &Path) -> Result<Format> {
     if format == Format::Hdf5 {
         return Err(Error::output(
             path,
-            "this build of embloom has no HDF5 support",
-            "rebuild with `--features hdf5`, or write .npz",
+            "this build of embloom has no HDF5 support (the optional `hdf5` feature, which needs libhdf5)",
+            "write .npz, or use a build with HDF5 support (README: Formats and keys)",
         ));
     }
     Ok(format)

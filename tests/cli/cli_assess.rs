@@ -10,10 +10,9 @@ fn non_convergence_is_one_warning_with_its_folds_and_names_both_knobs() {
     let dir = tempdir();
     let input = p(dir.path(), "in.csv");
     write_csv(&input, &[30, 30, 12], 6, 5);
-    let o = embloom(
+    let o = assess_file(
+        &input,
         &[
-            "assess",
-            input.to_str().unwrap(),
             "--probes",
             "linear",
             "--methods",
@@ -25,7 +24,6 @@ fn non_convergence_is_one_warning_with_its_folds_and_names_both_knobs() {
             "--no-diagnostics",
             "--quiet",
         ],
-        &[],
     );
     let out = stdout(&o);
     assert!(o.status.success(), "{}", stderr(&o));
@@ -47,10 +45,9 @@ fn thin_classes_are_warned_about_before_the_work_and_not_again() {
     let dir = tempdir();
     let input = p(dir.path(), "in.csv");
     write_csv(&input, &[20, 20, 2], 4, 6);
-    let o = embloom(
+    let o = assess_file(
+        &input,
         &[
-            "assess",
-            input.to_str().unwrap(),
             "--probes",
             "knn",
             "--methods",
@@ -59,7 +56,6 @@ fn thin_classes_are_warned_about_before_the_work_and_not_again() {
             "4",
             "--quiet",
         ],
-        &[],
     );
     assert!(o.status.success(), "{}", stderr(&o));
     let err = stderr(&o);
@@ -141,10 +137,9 @@ fn a_separate_labels_file_is_named_with_its_sha256() {
     write_npy(&x_path, "<f4", &[n, dims], &xb);
     write_npy(&y_path, "<i8", &[n], &yb);
     let report = p(dir.path(), "report");
-    let o = embloom(
+    let o = assess_file(
+        &x_path,
         &[
-            "assess",
-            x_path.to_str().unwrap(),
             "--labels",
             y_path.to_str().unwrap(),
             "--probes",
@@ -157,7 +152,6 @@ fn a_separate_labels_file_is_named_with_its_sha256() {
             "--report",
             report.to_str().unwrap(),
         ],
-        &[],
     );
     assert!(o.status.success(), "{}", stderr(&o));
     let r: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();

@@ -125,19 +125,7 @@ fn older_ids_and_groups_headers_are_read_with_a_note() {
     }
     std::fs::write(&input, s).unwrap();
     let out = p(dir.path(), "out.csv");
-    let o = embloom(
-        &[
-            "grow",
-            input.to_str().unwrap(),
-            "-o",
-            out.to_str().unwrap(),
-            "--method",
-            "duplicate",
-            "--target",
-            "x2",
-        ],
-        &[],
-    );
+    let o = grow_file(&input, &out, &["--method", "duplicate", "--target", "x2"]);
     let err = stderr(&o);
     assert!(o.status.success(), "{err}");
     assert!(err.contains("'ids'") && err.contains("'groups'"), "{err}");

@@ -44,18 +44,7 @@ fn rare_digits(path: &Path) {
 }
 
 fn grow(input: &Path, out: &Path) -> Value {
-    let o = embloom(
-        &[
-            "grow",
-            input.to_str().unwrap(),
-            "-o",
-            out.to_str().unwrap(),
-            "--method",
-            "interpolate",
-            "--json",
-        ],
-        &[],
-    );
+    let o = grow_file(&input, &out, &["--method", "interpolate", "--json"]);
     assert!(o.status.success(), "{}", stderr(&o));
     serde_json::from_str(&stdout(&o)).unwrap()
 }
@@ -87,10 +76,9 @@ fn a_grown_digits_file_adds_its_rows_as_a_method_in_every_output() {
     let synthetic = summary["synthetic_rows"].as_u64().unwrap() as usize;
     assert!(synthetic > 100, "{summary}");
     let report = p(dir.path(), "report");
-    let o = embloom(
+    let o = assess_file(
+        &grown,
         &[
-            "assess",
-            grown.to_str().unwrap(),
             "--methods",
             "none,interpolate",
             "--probes",
@@ -101,7 +89,6 @@ fn a_grown_digits_file_adds_its_rows_as_a_method_in_every_output() {
             "--report",
             report.to_str().unwrap(),
         ],
-        &[],
     );
     assert!(o.status.success(), "{}", stderr(&o));
     let table = stdout(&o);
@@ -164,10 +151,9 @@ fn each_origin_of_a_file_is_a_method_of_its_own() {
         *line = f.join(",");
     }
     std::fs::write(&grown, lines.join("\n") + "\n").unwrap();
-    let o = embloom(
+    let o = assess_file(
+        &grown,
         &[
-            "assess",
-            grown.to_str().unwrap(),
             "--methods",
             "none",
             "--probes",
@@ -177,7 +163,6 @@ fn each_origin_of_a_file_is_a_method_of_its_own() {
             "--no-diagnostics",
             "--json",
         ],
-        &[],
     );
     assert!(o.status.success(), "{}", stderr(&o));
     let v: Value = serde_json::from_str(&stdout(&o)).unwrap();
@@ -202,7 +187,7 @@ fn a_synthetic_row_naming_no_real_row_is_refused_with_its_row() {
     f[parent] = "9999".into();
     lines[last] = f.join(",");
     std::fs::write(&grown, lines.join("\n") + "\n").unwrap();
-    let o = embloom(&["assess", grown.to_str().unwrap(), "--probes", "knn"], &[]);
+    let o = assess_file(&grown, &["--probes", "knn"]);
     assert!(!o.status.success());
     let err = stderr(&o);
     assert!(
@@ -304,17 +289,15 @@ fn planted_copies_of_held_out_rows_change_nothing() {
     let dirty = p(dir.path(), "planted.csv");
     std::fs::write(&dirty, planted).unwrap();
     let assess = |f: &Path| {
-        let o = embloom(
+        let o = assess_file(
+            &f,
             &[
-                "assess",
-                f.to_str().unwrap(),
                 "--methods",
                 "none,interpolate",
                 "--probes",
                 "knn,linear",
                 "--json",
             ],
-            &[],
         );
         assert!(o.status.success(), "{}", stderr(&o));
         let v: Value = serde_json::from_str(&stdout(&o)).unwrap();

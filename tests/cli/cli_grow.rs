@@ -27,12 +27,10 @@ fn real_rows_first_and_bit_identical_then_synthetic_with_provenance() {
     let input = p(dir.path(), "in.csv");
     write_csv(&input, &[30, 6, 12], 4, 1);
     let out = p(dir.path(), "out.csv");
-    let o = embloom(
+    let o = grow_file(
+        &input,
+        &out,
         &[
-            "grow",
-            input.to_str().unwrap(),
-            "-o",
-            out.to_str().unwrap(),
             "--method",
             "interpolate",
             "--target",
@@ -40,7 +38,6 @@ fn real_rows_first_and_bit_identical_then_synthetic_with_provenance() {
             "--seed",
             "3",
         ],
-        &[],
     );
     assert!(o.status.success(), "{}", stderr(&o));
     let (_, in_rows) = read_csv(&input);
@@ -181,18 +178,7 @@ fn single_row_class_is_skipped_with_a_warning_or_refused_with_strict() {
     // c2 has 3 rows: K = 5 is clamped to 2.
     assert!(err.contains("K = 2"), "{err}");
     let out2 = p(dir.path(), "strict.csv");
-    let o = embloom(
-        &[
-            "grow",
-            input.to_str().unwrap(),
-            "-o",
-            out2.to_str().unwrap(),
-            "--method",
-            "interpolate",
-            "--strict",
-        ],
-        &[],
-    );
+    let o = grow_file(&input, &out2, &["--method", "interpolate", "--strict"]);
     assert!(!o.status.success());
     assert!(stderr(&o).contains("c1"), "{}", stderr(&o));
     assert!(!out2.exists());
@@ -205,12 +191,10 @@ fn classes_option_limits_growth_and_unknown_class_is_named() {
     let input = p(dir.path(), "in.csv");
     write_csv(&input, &[20, 5, 6], 3, 5);
     let out = p(dir.path(), "out.csv");
-    let o = embloom(
+    let o = grow_file(
+        &input,
+        &out,
         &[
-            "grow",
-            input.to_str().unwrap(),
-            "-o",
-            out.to_str().unwrap(),
             "--method",
             "extrapolate",
             "--classes",
@@ -219,7 +203,6 @@ fn classes_option_limits_growth_and_unknown_class_is_named() {
             "largest",
             "--json",
         ],
-        &[],
     );
     assert!(o.status.success(), "{}", stderr(&o));
     let summary: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
@@ -267,18 +250,10 @@ fn unit_norm_input_gives_unit_norm_synthetic_rows() {
     }
     std::fs::write(&input, s).unwrap();
     let out = p(dir.path(), "out.csv");
-    let o = embloom(
-        &[
-            "grow",
-            input.to_str().unwrap(),
-            "-o",
-            out.to_str().unwrap(),
-            "--method",
-            "extrapolate",
-            "--magnitude",
-            "1.5",
-        ],
-        &[],
+    let o = grow_file(
+        &input,
+        &out,
+        &["--method", "extrapolate", "--magnitude", "1.5"],
     );
     assert!(o.status.success(), "{}", stderr(&o));
     assert!(stderr(&o).contains("renormalised"), "{}", stderr(&o));
@@ -296,12 +271,10 @@ fn kdtree_neighbour_index_gives_same_class_partners() {
     let input = p(dir.path(), "in.csv");
     write_csv(&input, &[300, 40], 40, 6);
     let out = p(dir.path(), "out.csv");
-    let o = embloom(
+    let o = grow_file(
+        &input,
+        &out,
         &[
-            "grow",
-            input.to_str().unwrap(),
-            "-o",
-            out.to_str().unwrap(),
             "--method",
             "interpolate",
             "--neighbour-index",
@@ -309,7 +282,6 @@ fn kdtree_neighbour_index_gives_same_class_partners() {
             "--target",
             "largest",
         ],
-        &[],
     );
     assert!(o.status.success(), "{}", stderr(&o));
     let (header, rows) = read_csv(&out);
@@ -342,19 +314,7 @@ fn synthetic_rows_carry_no_fold_and_no_group() {
     }
     std::fs::write(&input, text).unwrap();
     let out = p(dir.path(), "out.csv");
-    let o = embloom(
-        &[
-            "grow",
-            input.to_str().unwrap(),
-            "-o",
-            out.to_str().unwrap(),
-            "--method",
-            "interpolate",
-            "--seed",
-            "1",
-        ],
-        &[],
-    );
+    let o = grow_file(&input, &out, &["--method", "interpolate", "--seed", "1"]);
     assert!(o.status.success(), "{}", stderr(&o));
     let (header, rows) = read_csv(&out);
     let col = |name: &str| header.iter().position(|h| h == name).unwrap();
@@ -387,25 +347,16 @@ fn assessing_a_grown_file_uses_only_its_real_rows() {
     write_csv(&input, &[30, 6, 12], 4, 1);
     for ext in ["csv", "npz", "safetensors"] {
         let grown = p(dir.path(), &format!("grown.{ext}"));
-        let o = embloom(
-            &[
-                "grow",
-                input.to_str().unwrap(),
-                "-o",
-                grown.to_str().unwrap(),
-                "--method",
-                "interpolate",
-                "--target",
-                "largest",
-            ],
-            &[],
+        let o = grow_file(
+            &input,
+            &grown,
+            &["--method", "interpolate", "--target", "largest"],
         );
         assert!(o.status.success(), "{}", stderr(&o));
         let assessed = |f: &std::path::Path| {
-            let o = embloom(
+            let o = assess_file(
+                &f,
                 &[
-                    "assess",
-                    f.to_str().unwrap(),
                     "--methods",
                     "none",
                     "--probes",
@@ -415,7 +366,6 @@ fn assessing_a_grown_file_uses_only_its_real_rows() {
                     "--no-diagnostics",
                     "--json",
                 ],
-                &[],
             );
             assert!(o.status.success(), "{}", stderr(&o));
             let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();

@@ -36,19 +36,10 @@ fn a_grown_file_shows_real_and_synthetic_counts_per_class() {
     let input = p(dir.path(), "in.csv");
     write_csv(&input, &[20, 6], 3, 8);
     let grown = p(dir.path(), "grown.npz");
-    let o = embloom(
-        &[
-            "grow",
-            input.to_str().unwrap(),
-            "-o",
-            grown.to_str().unwrap(),
-            "--method",
-            "interpolate",
-            "--target",
-            "largest",
-            "--quiet",
-        ],
-        &[],
+    let o = grow_file(
+        &input,
+        &grown,
+        &["--method", "interpolate", "--target", "largest", "--quiet"],
     );
     assert!(o.status.success(), "{}", stderr(&o));
     let o = embloom(&["inspect", grown.to_str().unwrap(), "--json"], &[]);
@@ -74,18 +65,7 @@ fn a_file_embloom_wrote_with_only_real_rows_is_not_called_grown() {
     let input = p(dir.path(), "in.csv");
     write_csv(&input, &[20, 6], 3, 8);
     let out = p(dir.path(), "same.npz");
-    let o = embloom(
-        &[
-            "grow",
-            input.to_str().unwrap(),
-            "-o",
-            out.to_str().unwrap(),
-            "--method",
-            "none",
-            "--quiet",
-        ],
-        &[],
-    );
+    let o = grow_file(&input, &out, &["--method", "none", "--quiet"]);
     assert!(o.status.success(), "{}", stderr(&o));
     let o = embloom(&["inspect", out.to_str().unwrap()], &[]);
     let text = stdout(&o);

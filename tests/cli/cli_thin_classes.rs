@@ -7,10 +7,9 @@ use crate::common;
 use common::*;
 
 fn assess(input: &std::path::Path, report: &std::path::Path, folds: &str) -> std::process::Output {
-    embloom(
+    assess_file(
+        &input,
         &[
-            "assess",
-            input.to_str().unwrap(),
             "--probes",
             "knn",
             "--methods",
@@ -21,7 +20,6 @@ fn assess(input: &std::path::Path, report: &std::path::Path, folds: &str) -> std
             report.to_str().unwrap(),
             "--quiet",
         ],
-        &[],
     )
 }
 
@@ -41,7 +39,7 @@ fn most_classes_thinner_than_the_folds_are_refused_before_any_work() {
         "{err}"
     );
     assert!(err.contains("refused before any work"), "{err}");
-    assert!(err.contains("even --folds 2 leaves most of them"), "{err}");
+    assert!(err.contains("even --folds=2 leaves most of them"), "{err}");
     assert!(
         err.contains("merge or drop the classes with fewer than 5 rows"),
         "{err}"
@@ -64,7 +62,7 @@ fn the_refusal_names_a_fold_count_that_would_pass() {
         err.contains("3 of 5 classes have fewer rows than the 5 folds"),
         "{err}"
     );
-    assert!(err.contains("--folds 2 passes"), "{err}");
+    assert!(err.contains("--folds=2 passes"), "{err}");
     assert!(!report.exists());
     // The suggested fold count does pass, with no thin-class warning at all.
     let o = assess(&input, &report, "2");

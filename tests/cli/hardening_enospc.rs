@@ -93,19 +93,10 @@ fn grow_on_a_full_disk_says_so_once_and_leaves_nothing() {
     let input = input(dir.path());
     for ext in ["npz", "safetensors"] {
         let out = disk.path(&format!("out.{ext}"));
-        let o = embloom(
-            &[
-                "grow",
-                input.to_str().unwrap(),
-                "-o",
-                out.to_str().unwrap(),
-                "--method",
-                "interpolate",
-                "--target",
-                "largest",
-                "--quiet",
-            ],
-            &[],
+        let o = grow_file(
+            &input,
+            &out,
+            &["--method", "interpolate", "--target", "largest", "--quiet"],
         );
         let err = stderr(&o);
         assert_eq!(o.status.code(), Some(2), "{ext}: {err}");
@@ -123,12 +114,10 @@ fn a_forced_replacement_on_a_full_disk_keeps_the_old_output() {
     let input = input(dir.path());
     let out = disk.path("out.npz");
     std::fs::write(&out, b"the old output").unwrap();
-    let o = embloom(
+    let o = grow_file(
+        &input,
+        &out,
         &[
-            "grow",
-            input.to_str().unwrap(),
-            "-o",
-            out.to_str().unwrap(),
             "--method",
             "interpolate",
             "--target",
@@ -136,7 +125,6 @@ fn a_forced_replacement_on_a_full_disk_keeps_the_old_output() {
             "--force",
             "--quiet",
         ],
-        &[],
     );
     let err = stderr(&o);
     assert_eq!(o.status.code(), Some(2), "{err}");
@@ -153,10 +141,9 @@ fn an_assess_report_on_a_full_disk_says_so_once_and_leaves_nothing() {
     let dir = tempdir();
     let input = input(dir.path());
     let report = disk.path("report");
-    let o = embloom(
+    let o = assess_file(
+        &input,
         &[
-            "assess",
-            input.to_str().unwrap(),
             "--probes",
             "knn",
             "--methods",
@@ -165,7 +152,6 @@ fn an_assess_report_on_a_full_disk_says_so_once_and_leaves_nothing() {
             report.to_str().unwrap(),
             "--quiet",
         ],
-        &[],
     );
     let err = stderr(&o);
     assert_eq!(o.status.code(), Some(2), "{err}");

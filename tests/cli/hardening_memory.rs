@@ -245,17 +245,7 @@ fn refuses_above_max_memory_before_growing() {
     );
     assert!(err.contains("--target"), "{err}");
     assert!(!out.exists());
-    let o = common::embloom(
-        &[
-            "assess",
-            inp.to_str().unwrap(),
-            "--max-memory",
-            "1M",
-            "--folds",
-            "2",
-        ],
-        &[],
-    );
+    let o = common::assess_file(&inp, &["--max-memory", "1M", "--folds", "2"]);
     let err = common::stderr(&o);
     assert_eq!(o.status.code(), Some(2), "{err}");
     assert!(

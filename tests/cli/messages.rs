@@ -68,10 +68,9 @@ fn a_huge_linear_l2_advises_a_smaller_one() {
     let dir = common::tempdir();
     let input = dir.path().join("s.csv");
     small_csv(&input);
-    let o = embloom(
+    let o = assess_file(
+        &input,
         &[
-            "assess",
-            input.to_str().unwrap(),
             "--folds",
             "2",
             "--probes",
@@ -81,7 +80,6 @@ fn a_huge_linear_l2_advises_a_smaller_one() {
             "--report",
             dir.path().join("r").to_str().unwrap(),
         ],
-        &[],
     );
     let all = common::stdout(&o) + &stderr(&o);
     // With this λ the fit stops at once (the penalty's scale breaks the line search).

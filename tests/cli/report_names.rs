@@ -32,10 +32,9 @@ fn report_csvs_neutralise_formula_names_and_the_export_keeps_them() {
     names.push("plain");
     names_csv(&input, &names);
     let report = dir.path().join("rep");
-    let o = embloom(
+    let o = assess_file(
+        &input,
         &[
-            "assess",
-            input.to_str().unwrap(),
             "--folds",
             "2",
             "--probes",
@@ -44,7 +43,6 @@ fn report_csvs_neutralise_formula_names_and_the_export_keeps_them() {
             report.to_str().unwrap(),
             "--quiet",
         ],
-        &[],
     );
     assert!(o.status.success(), "{}", stderr(&o));
     let per_class = std::fs::read_to_string(report.join("per_class.csv")).unwrap();

@@ -13,18 +13,9 @@ fn huge_knn_k_is_clamped_with_a_warning() {
     let dir = common::tempdir();
     let input = dir.path().join("in.csv");
     write_csv(&input, &[30, 30], 3, 4);
-    let o = embloom(
-        &[
-            "assess",
-            input.to_str().unwrap(),
-            "--knn-k",
-            "1000000000",
-            "--probes",
-            "knn",
-            "--folds",
-            "2",
-        ],
-        &[],
+    let o = assess_file(
+        &input,
+        &["--knn-k", "1000000000", "--probes", "knn", "--folds", "2"],
     );
     let all = stdout(&o) + &stderr(&o);
     assert!(o.status.success(), "{all}");
@@ -39,10 +30,7 @@ fn huge_repeats_are_refused_before_any_work() {
     let dir = common::tempdir();
     let input = dir.path().join("in.csv");
     write_csv(&input, &[30, 30], 3, 4);
-    let o = embloom(
-        &["assess", input.to_str().unwrap(), "--repeats", "1000000"],
-        &[],
-    );
+    let o = assess_file(&input, &["--repeats", "1000000"]);
     assert!(!o.status.success());
     assert!(stderr(&o).contains("--repeats"), "{}", stderr(&o));
 }
@@ -93,18 +81,9 @@ fn classes_smaller_than_the_fold_count_are_warned_about() {
     let input = dir.path().join("in.csv");
     // 2 of 5 thin: a warning; most thin would be a refusal (tests/cli/cli_thin_classes.rs).
     write_csv(&input, &[20, 20, 20, 1, 1], 5, 4);
-    let o = embloom(
-        &[
-            "assess",
-            input.to_str().unwrap(),
-            "--probes",
-            "knn",
-            "--methods",
-            "none",
-            "--folds",
-            "5",
-        ],
-        &[],
+    let o = assess_file(
+        &input,
+        &["--probes", "knn", "--methods", "none", "--folds", "5"],
     );
     let all = stdout(&o) + &stderr(&o);
     assert!(o.status.success(), "{all}");
@@ -122,10 +101,9 @@ fn the_memory_estimate_counts_repeats() {
     let input = dir.path().join("in.csv");
     write_csv(&input, &[20, 20, 20], 4, 5);
     let run = |repeats: &str| {
-        embloom(
+        assess_file(
+            &input,
             &[
-                "assess",
-                input.to_str().unwrap(),
                 "--folds",
                 "5",
                 "--repeats",
@@ -134,7 +112,6 @@ fn the_memory_estimate_counts_repeats() {
                 "40M",
                 "--quiet",
             ],
-            &[],
         )
     };
     let o = run("1000");

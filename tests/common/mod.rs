@@ -92,3 +92,18 @@ pub fn write_npy(path: &Path, descr: &str, shape: &[usize], body: &[u8]) {
     bytes.extend(body);
     std::fs::write(path, bytes).unwrap();
 }
+
+/// `embloom grow INPUT -o OUT ARGS...`, the shape of most grow runs in the tests.
+pub fn grow_file(input: impl AsRef<Path>, out: impl AsRef<Path>, args: &[&str]) -> Output {
+    let (input, out) = (input.as_ref(), out.as_ref());
+    let mut all = vec!["grow", input.to_str().unwrap(), "-o", out.to_str().unwrap()];
+    all.extend_from_slice(args);
+    embloom(&all, &[])
+}
+
+/// `embloom assess INPUT ARGS...`.
+pub fn assess_file(input: impl AsRef<Path>, args: &[&str]) -> Output {
+    let mut all = vec!["assess", input.as_ref().to_str().unwrap()];
+    all.extend_from_slice(args);
+    embloom(&all, &[])
+}

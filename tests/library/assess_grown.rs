@@ -29,10 +29,9 @@ fn with_single_row_class() -> Dataset {
     Dataset::new(x, labels, vec!["a".into(), "b".into(), "lone".into()])
 }
 
-#[test]
-fn a_class_that_got_no_rows_is_not_marked_grown() {
-    let ds = with_single_row_class();
-    let cfg = AssessConfig {
+/// k-NN (k = 3) on 3 folds, interpolate grown to the largest class.
+fn three_fold_config() -> AssessConfig {
+    AssessConfig {
         methods: vec![MethodKind::None, MethodKind::Interpolate],
         probes: vec![ProbeKind::Knn],
         folds: 3,
@@ -50,7 +49,13 @@ fn a_class_that_got_no_rows_is_not_marked_grown() {
         interval: IntervalKind::default(),
         seed: 1,
         diagnostics: false,
-    };
+    }
+}
+
+#[test]
+fn a_class_that_got_no_rows_is_not_marked_grown() {
+    let ds = with_single_row_class();
+    let cfg = three_fold_config();
     let info = InputInfo::in_memory("single", &ds);
     let r = assess(&ds, &cfg, info).unwrap();
     assert!(
@@ -61,4 +66,50 @@ fn a_class_that_got_no_rows_is_not_marked_grown() {
     for row in r.per_class.iter().filter(|c| c.class == "lone") {
         assert!(!row.grown, "{row:?}");
     }
+}
+
+#[test]
+fn the_library_warns_of_a_thin_class_and_refuses_most_thin_classes_itself() {
+    // One of three classes (the 1-row class) has fewer rows than the 3 folds: a warning in
+    // the results (counted by hand).
+    let ds = with_single_row_class();
+    let r = assess(
+        &ds,
+        &three_fold_config(),
+        InputInfo::in_memory("single", &ds),
+    )
+    .unwrap();
+    assert!(
+        r.warnings
+            .iter()
+            .any(|w| w.starts_with("1 of 3 classes have fewer rows than the 3 folds (lone)")),
+        "{:?}",
+        r.warnings
+    );
+    // Sizes 1, 1, 12: two of three classes thin at 3 folds and at 2: refused before any
+    // work, with no flag spelling in the library's text (counted by hand).
+    let mut x = Array2::<f32>::zeros((14, 2));
+    for i in 0..14 {
+        x[[i, 0]] = i as f32;
+    }
+    let mut labels = vec![0u32, 1];
+    labels.extend(std::iter::repeat_n(2u32, 12));
+    let thin = Dataset::new(x, labels, vec!["a".into(), "b".into(), "c".into()]);
+    let err = assess(
+        &thin,
+        &three_fold_config(),
+        InputInfo::in_memory("thin", &thin),
+    )
+    .unwrap_err();
+    assert!(matches!(err, embloom::Error::Data { .. }), "{err:?}");
+    let text = err.to_string();
+    assert!(
+        text.starts_with("thin: 2 of 3 classes have fewer rows than the 3 folds (a, b)"),
+        "{text}"
+    );
+    assert!(
+        text.contains("even `folds`=2 leaves most of them"),
+        "{text}"
+    );
+    assert!(!text.contains("--"), "{text}");
 }

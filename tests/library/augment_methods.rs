@@ -673,3 +673,17 @@ fn cosine_metric_picks_cosine_neighbours() {
         ));
     }
 }
+
+#[test]
+fn an_unknown_class_lists_only_the_first_twenty_of_many() {
+    // 500 one-row classes (invented): the message names 20 and counts the rest.
+    let names: Vec<String> = (0..500).map(|i| format!("k{i:03}")).collect();
+    let x = ndarray::Array2::<f32>::zeros((500, 2));
+    let ds = embloom::Dataset::new(x, (0..500).collect(), names);
+    let err = embloom::augment::class_indices(&["nope".to_string()], &ds).unwrap_err();
+    let text = err.to_string();
+    assert!(text.contains("no class named 'nope'"), "{text}");
+    assert!(text.contains("k000, k001"), "{text}");
+    assert!(text.contains("k019, and 480 more"), "{text}");
+    assert!(!text.contains("k020"), "{text}");
+}

@@ -368,10 +368,10 @@ fn failed_write_leaves_nothing() {
 
 #[cfg(not(feature = "hdf5"))]
 #[test]
-fn hdf5_without_feature_says_how_to_rebuild() {
+fn hdf5_without_feature_names_the_feature() {
     has(
         &err(&fixture("set.h5"), &ReadOptions::default()),
-        &["set.h5", "--features hdf5"],
+        &["set.h5", "no HDF5 support", "the optional `hdf5` feature"],
     );
 }
 
