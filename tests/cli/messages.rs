@@ -3,7 +3,7 @@
 
 use crate::common;
 
-use common::{embloom, stderr};
+use common::{assess_file, embloom, stderr};
 
 /// A version 1.0 `.npy` file (numpy format spec: magic, header length, dict padded to 64).
 fn npy(path: &std::path::Path, descr: &str, shape: &str, data: &[u8]) {

@@ -5,7 +5,7 @@
 
 use crate::common;
 
-use common::{embloom, stderr};
+use common::{assess_file, embloom, stderr};
 
 fn names_csv(path: &std::path::Path, names: &[&str]) {
     let mut s = String::from("label,f0,f1\n");

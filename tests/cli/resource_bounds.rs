@@ -6,7 +6,7 @@
 
 use crate::common;
 
-use common::{embloom, stderr, stdout, write_csv};
+use common::{assess_file, embloom, stderr, stdout, write_csv};
 
 #[test]
 fn huge_knn_k_is_clamped_with_a_warning() {
