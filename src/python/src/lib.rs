@@ -11,8 +11,8 @@ use std::time::Duration;
 use embloom::Dataset;
 use embloom::assess::{
     AssessConfig, AssessResults, ExternalBudget, ExternalConfig, ExternalSetInfo, FileRows,
-    InputInfo, MethodId, Progress, RowSets, UNION_JOIN, assess_sets_observed,
-    check_external_name, resolve_external,
+    InputInfo, MethodId, Progress, RowSets, UNION_JOIN, assess_sets_observed, check_external_name,
+    resolve_external,
 };
 use embloom::augment::{
     AugmentParams, MethodKind, Target, UnitNorm, assemble, grow_dataset, plan_for,
@@ -507,7 +507,9 @@ fn methods_and_unions(
                     MethodId::External(n) if !external.contains(n) => {
                         return Err(param_err(
                             "methods",
-                            format!("{id} joins '{n}', which is neither a method nor an external set"),
+                            format!(
+                                "{id} joins '{n}', which is neither a method nor an external set"
+                            ),
                             "pass the external set in external, or join methods by their names",
                         ));
                     }
