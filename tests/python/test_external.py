@@ -62,7 +62,7 @@ def test_external_refusals(small_set, external_set):
                        external={"jitter": (x_e, np.full(len(y_e), "zebra"), parent)})
     with pytest.raises(embloom.InputError, match="3 values"):
         embloom.assess(x, y, probes=["knn"], folds=3, progress=False,
-                       external={"jitter": (x_e[:, :3], y_e, parent)})
+                       external={"jitter": (np.ascontiguousarray(x_e[:, :3]), y_e, parent)})
     with pytest.raises(embloom.ParameterError, match="cannot name an external set"):
         embloom.assess(x, y, probes=["knn"], folds=3, progress=False,
                        external={"interpolate": (x_e, y_e, parent)})
