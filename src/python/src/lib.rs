@@ -9,7 +9,11 @@ use std::sync::{Arc, Mutex, mpsc};
 use std::time::Duration;
 
 use embloom::Dataset;
-use embloom::assess::{AssessConfig, AssessResults, InputInfo, Progress, assess_grown_observed};
+use embloom::assess::{
+    AssessConfig, AssessResults, ExternalBudget, ExternalConfig, ExternalSetInfo, FileRows,
+    InputInfo, MethodId, Progress, RowSets, UNION_JOIN, assess_sets_observed, check_external_name,
+    resolve_external,
+};
 use embloom::augment::{
     AugmentParams, MethodKind, Target, UnitNorm, assemble, grow_dataset, plan_for,
 };
@@ -321,7 +325,7 @@ enum Message {
 /// Python handle signals (Ctrl-C raises KeyboardInterrupt here at once, and the worker is
 /// stopped at its next step; nothing has been written) and to pass progress to `on_progress`.
 #[pyfunction]
-#[pyo3(signature = (x, labels, classes, config, groups=None, folds=None, on_progress=None))]
+#[pyo3(signature = (x, labels, classes, config, groups=None, folds=None, on_progress=None, external=None))]
 #[allow(clippy::too_many_arguments)]
 fn assess<'py>(
     py: Python<'py>,
@@ -332,11 +336,14 @@ fn assess<'py>(
     groups: Option<Vec<String>>,
     folds: Option<Vec<i64>>,
     on_progress: Option<Bound<'py, PyAny>>,
+    external: Option<Vec<ExternalArrays<'py>>>,
 ) -> PyResult<(Results, Vec<String>)> {
     let mut ds = dataset(x, labels, classes)?;
     ds.groups = groups;
     ds.folds = folds;
-    let (cfg, warnings) = assess_config(config, &ds)?;
+    let (rows, sets) = external_sets(external.unwrap_or_default(), &ds)?;
+    let names: Vec<String> = sets.iter().map(|s| s.name.clone()).collect();
+    let (cfg, ext_cfg, warnings) = assess_config(config, &ds, &names)?;
     let input = InputInfo::in_memory("(arrays)", &ds);
     let cancelled = Arc::new(AtomicBool::new(false));
     let (tx, rx) = mpsc::channel();
@@ -347,7 +354,12 @@ fn assess<'py>(
         let done_tx = tx.clone();
         let run = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
             embloom::neighbors::magnitude::check(&PathBuf::from("x"), ds.x.view())?;
-            assess_grown_observed(&ds, &cfg, input, &[], &mut |p| {
+            let sets = RowSets {
+                rows: &rows,
+                config: &ext_cfg,
+                sets: &sets,
+            };
+            assess_sets_observed(&ds, &cfg, input, sets, &mut |p| {
                 if stop.load(Ordering::Relaxed) {
                     std::panic::resume_unwind(Box::new(Cancelled));
                 }
@@ -415,17 +427,120 @@ fn get<'py, T: FromPyObject<'py>>(d: &Bound<'py, PyDict>, key: &str) -> PyResult
     }
 }
 
-/// The assessment's configuration from the Python keywords, with the command line's defaults
-/// (the library's own), and the k-NN k clamped to a fold's training rows as the binary does.
-fn assess_config(d: &Bound<'_, PyDict>, ds: &Dataset) -> PyResult<(AssessConfig, Vec<String>)> {
-    let methods: Vec<String> = get(d, "methods")?.unwrap_or_default();
+/// One external set as the Python side passes it: its name, rows, class indices into its own
+/// class names, and each row's parent (a row index of the real rows, as text).
+type ExternalArrays<'py> = (
+    String,
+    PyReadonlyArray2<'py, f32>,
+    PyReadonlyArray1<'py, u32>,
+    Vec<String>,
+    Vec<String>,
+);
+
+/// The external sets resolved against `real` by the library's own rule (classes by name,
+/// parents by row index), and what results.json records of each: no file, so the path says
+/// the rows came from arrays and there is no digest.
+fn external_sets(
+    sets: Vec<ExternalArrays<'_>>,
+    real: &Dataset,
+) -> PyResult<(Vec<FileRows>, Vec<ExternalSetInfo>)> {
+    let mut rows = Vec::with_capacity(sets.len());
+    let mut infos = Vec::with_capacity(sets.len());
+    for (name, x, labels, classes, parents) in sets {
+        check_external_name(&name).map_err(to_py)?;
+        if infos.iter().any(|i: &ExternalSetInfo| i.name == name) {
+            return Err(param_err(
+                "external",
+                format!("two external sets are named '{name}'"),
+                "give each external set its own name",
+            ));
+        }
+        let set = dataset(x, labels, classes)?;
+        if parents.len() != set.n_rows() {
+            return Err(to_py(embloom::Error::data(
+                format!(
+                    "external set '{name}' has {} rows but {} parents",
+                    set.n_rows(),
+                    parents.len()
+                ),
+                "pass one parent (a row index of x) per row of the set",
+            )));
+        }
+        let where_ = PathBuf::from(format!("external set '{name}'"));
+        let r = resolve_external(&name, &where_, &set, &parents, real).map_err(to_py)?;
+        infos.push(ExternalSetInfo {
+            name,
+            path: "(arrays)".into(),
+            sha256: String::new(),
+            rows: r.n_rows(),
+        });
+        rows.push(r);
+    }
+    Ok((rows, infos))
+}
+
+/// The methods list as the binary reads its method entries: a method name, an external set's
+/// name, or a union of either joined by `+` (its parts' methods are run too).
+fn methods_and_unions(
+    methods: Vec<String>,
+    external: &[String],
+) -> PyResult<(Vec<MethodKind>, Vec<MethodId>)> {
     let mut kinds = vec![MethodKind::None];
+    let mut unions = Vec::new();
     for m in methods {
-        let k: MethodKind = m.parse().map_err(to_py)?;
-        if !kinds.contains(&k) {
-            kinds.push(k);
+        if m.contains(UNION_JOIN) {
+            let id: MethodId = m.parse().map_err(to_py)?;
+            let parts = match &id {
+                MethodId::Union(parts) => parts.as_slice(),
+                _ => &[],
+            };
+            if parts.len() < 2 || parts.iter().any(|p| p.name().is_empty() || p.is_baseline()) {
+                return Err(param_err(
+                    "methods",
+                    format!("'{m}' is not a union"),
+                    "join two or more methods or external sets (not none) with +, e.g. flips+interpolate",
+                ));
+            }
+            for p in parts {
+                match p {
+                    MethodId::Kind(k) if !kinds.contains(k) => kinds.push(*k),
+                    MethodId::External(n) if !external.contains(n) => {
+                        return Err(param_err(
+                            "methods",
+                            format!(
+                                "{id} joins '{n}', which is neither a method nor an external set"
+                            ),
+                            "pass the external set in external, or join methods by their names",
+                        ));
+                    }
+                    _ => {}
+                }
+            }
+            if !unions.contains(&id) {
+                unions.push(id);
+            }
+        } else if external.contains(&m) {
+            // An external set is always assessed; naming it is allowed, as on the command line.
+        } else {
+            let k: MethodKind = m.parse().map_err(to_py)?;
+            if !kinds.contains(&k) {
+                kinds.push(k);
+            }
         }
     }
+    Ok((kinds, unions))
+}
+
+/// The assessment's configuration from the Python keywords, with the command line's defaults
+/// (the library's own), and the k-NN k clamped to a fold's training rows as the binary does.
+fn assess_config(
+    d: &Bound<'_, PyDict>,
+    ds: &Dataset,
+    external: &[String],
+) -> PyResult<(AssessConfig, ExternalConfig, Vec<String>)> {
+    let methods: Vec<String> = get(d, "methods")?.unwrap_or_default();
+    let (kinds, unions) = methods_and_unions(methods, external)?;
+    let budget: ExternalBudget = parse(d, "external_budget")?.unwrap_or_default();
     let probes: Vec<String> =
         get(d, "probes")?.unwrap_or_else(|| vec!["knn".into(), "linear".into()]);
     let probes = probes
@@ -482,7 +597,7 @@ fn assess_config(d: &Bound<'_, PyDict>, ds: &Dataset) -> PyResult<(AssessConfig,
             c.asked, c.train_rows, c.used
         ));
     }
-    Ok((cfg, warnings))
+    Ok((cfg, ExternalConfig { budget, unions }, warnings))
 }
 
 #[pymodule]

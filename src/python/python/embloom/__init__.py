@@ -264,6 +264,26 @@ class _Bar:
         sys.stderr.flush()
 
 
+def _external_set(name: Any, value: Any, dims: int) -> tuple:
+    """One ``external`` entry as the binding takes it: rows, class indices and names, parents."""
+    try:
+        x_e, y_e, parent = value
+    except (TypeError, ValueError):
+        raise ParameterError(
+            f"external set '{name}' is not an (x, y, parent) triple\n"
+            "  fix: pass external={name: (rows, labels, parent rows)}"
+        ) from None
+    rows = _rows(x_e)
+    labels, names = _labels(y_e, rows.shape[0])
+    parents = np.asarray(parent).reshape(-1)
+    if parents.dtype.kind not in "iu":
+        raise InputError(
+            f"external set '{name}': parent is {parents.dtype}, not integers\n"
+            "  fix: give each augmented row the row of x (counted from 0) it was made from"
+        )
+    return (str(name), rows, labels, names, [str(int(p)) for p in parents])
+
+
 def assess(
     x: Any,
     y: Any,
@@ -285,6 +305,8 @@ def assess(
     linear_max_iter: Optional[int] = None,
     interval: Optional[str] = None,
     diagnostics: bool = True,
+    external: Optional[dict] = None,
+    external_budget: Union[str, int] = "match",
     **method_params: Any,
 ) -> Results:
     """Compare ``methods`` against ``none`` on k-NN and linear probes, as ``embloom assess``.
@@ -293,9 +315,18 @@ def assess(
     method is fitted on a fold's real training rows only and probes are scored on real
     held-out rows only. ``progress=True`` draws a bar on stderr. Ctrl-C raises
     KeyboardInterrupt within a fraction of a second; nothing is written.
+
+    ``external`` compares input-space augmentation with the feature-space methods: a dict
+    ``{name: (x_e, y_e, parent)}`` of your backbone's embeddings of augmented samples, their
+    labels (from the set, not the parent: a transform may change the class) and, per row, the
+    row of ``x`` it was made from. Each set is a method called ``name``; in each fold a row is
+    used only when its parent is a training row. ``external_budget`` is ``"match"`` (as many
+    rows per grown class as the feature-space methods add), ``"all"`` or a count per class.
+    A ``methods`` entry joined by ``+`` (``"flips+interpolate"``) trains on the union.
     """
     rows = _rows(x)
     labels, names = _labels(y, rows.shape[0])
+    sets = [_external_set(name, value, rows.shape[1]) for name, value in (external or {}).items()]
     config = {
         "methods": [str(m) for m in methods],
         "probes": [str(p) for p in probes],
@@ -311,6 +342,7 @@ def assess(
         "linear_max_iter": linear_max_iter,
         "interval": interval,
         "diagnostics": bool(diagnostics),
+        "external_budget": str(external_budget),
         "method_params": method_params,
     }
     bar = _Bar() if progress else None
@@ -323,6 +355,7 @@ def assess(
             _optional(groups, rows.shape[0]),
             None if fold is None else [int(f) for f in fold],
             bar,
+            sets,
         )
     finally:
         if bar is not None:

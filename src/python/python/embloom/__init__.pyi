@@ -97,5 +97,7 @@ def assess(
     linear_max_iter: Optional[int] = ...,
     interval: Optional[str] = ...,
     diagnostics: bool = ...,
+    external: Optional[dict[str, tuple[Any, Any, Any]]] = ...,
+    external_budget: Union[str, int] = ...,
     **method_params: Any,
 ) -> Results: ...
