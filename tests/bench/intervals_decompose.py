@@ -30,6 +30,8 @@ benchmark reports them. The formulas are transcriptions, not the library's code:
   factors above;
 - folds x 0.45, honest df: the same with the df counting the noise of s^2 itself,
   r (k - 1)(var / (c s^2))^2 (the subtracted test-row noise is estimated from those folds too);
+- per class x c: the excess class by class (each class's fold spread of its recall delta less
+  its own test-row noise, clipped at zero, weighted as the figure weights the class), times c;
 - row + B/r: row SE^2 plus the between-repeat variance of the mean (5 x 3 only);
 - oracle: the normal interval with the true V, the best any variance estimate can do.
 """
@@ -83,12 +85,24 @@ def components(d, classes):
             [recall_delta(label[m & (fold == f)], pm[m & (fold == f)], pb[m & (fold == f)], classes) for f in range(K)]
         )
         single.append(row_se2(row[m], label[m], pm[m], pb[m], classes))
+    # Per class: mean over repeats of the fold spread of its recall delta less its own
+    # test-row noise, weighted as the figure weights the class.
+    per_class = []
+    for c in classes:
+        e = []
+        for r in range(rep.max() + 1):
+            m = rep == r
+            fd = [recall_delta(label[m & (fold == f)], pm[m & (fold == f)], pb[m & (fold == f)], [c]) for f in range(K)]
+            se1 = row_se2(row[m], label[m], pm[m], pb[m], [c])
+            e.append(np.var(fd, ddof=1) - K * se1)
+        per_class.append(np.mean(e) / len(classes) ** 2)
     first = (rep == 0) & (fold == 0)
     return {
         "est": np.mean(reps),
         "reps": np.asarray(reps),
         "folds": np.asarray(folds),
         "single": np.mean(single),
+        "per_class": np.asarray(per_class),
         "row": row_se2(row, label, pm, pb, classes),
         "n_train": float(train[first][0]),
         "n_test": float(first.sum()),
@@ -130,6 +144,17 @@ def folds_times(factor, honest=False):
     return f
 
 
+def per_class_times(factor):
+    """The excess estimated class by class, each clipped at zero, so that a class whose folds
+    spread less than their noise does not cancel one that spreads more."""
+
+    def f(c, _):
+        e = factor * np.clip(c["per_class"], 0, None).sum()
+        return with_excess(c, e, e)
+
+    return f
+
+
 def between(c, _):
     if repeats(c) < 2:
         return None
@@ -146,6 +171,8 @@ FORMULAS = [
     ("folds x 0.45", folds_times(1 / K + 1 / (K - 1))),
     ("folds x 3.2", folds_times((K - 1) ** 2 / K)),
     ("folds x 0.45, honest df", folds_times(1 / K + 1 / (K - 1), honest=True)),
+    ("per class x 0.45", per_class_times(1 / K + 1 / (K - 1))),
+    ("per class x 3.2", per_class_times((K - 1) ** 2 / K)),
     ("row + B/r", between),
     ("oracle (true V)", oracle),
 ]
