@@ -3,21 +3,33 @@
 //! coverage of the Monte Carlo truth with a Wilson interval, its rate of excluding zero, and
 //! the ratio of its mean printed width to 2 · 1.96 × the spread of the point estimates.
 //! The configurations and the generative model are in `intervals_sim.rs`.
+//!
+//! `cargo bench --bench intervals -- dump FILE [DATASETS [TRAIN_SETS [TEST_PER_CLASS]]]`
+//! writes every test row's outcome of the same simulation to FILE (CSV) and the truths to
+//! FILE.truth.csv instead, for `tests/bench/intervals_decompose.py`.
 
 #[path = "intervals_sim.rs"]
 mod sim;
 
+use std::io::Write;
 use std::time::Instant;
 
 fn main() {
-    let args: Vec<usize> = std::env::args()
-        .skip(1)
-        .filter_map(|a| a.parse().ok())
-        .collect();
+    let raw: Vec<String> = std::env::args().skip(1).collect();
+    let dump = raw
+        .iter()
+        .position(|a| a == "dump")
+        .and_then(|i| raw.get(i + 1).cloned());
+    let args: Vec<usize> = raw.iter().filter_map(|a| a.parse().ok()).collect();
     let datasets = args.first().copied().unwrap_or(400);
     let train_sets = args.get(1).copied().unwrap_or(300);
     let test_per_class = args.get(2).copied().unwrap_or(2000);
     let started = Instant::now();
+    if let Some(path) = dump {
+        write_outcomes(&path, datasets, train_sets, test_per_class);
+        eprintln!("elapsed {:.0} s", started.elapsed().as_secs_f64());
+        return;
+    }
     println!(
         "{datasets} data sets per configuration; truth from {train_sets} fresh training sets × {test_per_class} test rows per class"
     );
@@ -51,4 +63,35 @@ fn main() {
         }
     }
     eprintln!("elapsed {:.0} s", started.elapsed().as_secs_f64());
+}
+
+/// The `dump` mode: every configuration's truth and test-row outcomes, written to temporary
+/// files renamed into place at the end so that an interrupted run leaves no partial file.
+fn write_outcomes(path: &str, datasets: usize, train_sets: usize, test_per_class: usize) {
+    let (tmp, truth_path) = (format!("{path}.partial"), format!("{path}.truth.csv"));
+    let mut out = std::io::BufWriter::new(std::fs::File::create(&tmp).unwrap());
+    let mut truths = String::from("world,name,truth,mc_se\n");
+    writeln!(
+        out,
+        "world,protocol,dataset,repeat,fold,train_real,row,label,method_pred,baseline_pred"
+    )
+    .unwrap();
+    for (wi, w) in sim::worlds().iter().enumerate() {
+        let truth = sim::truth(w, 5, train_sets, test_per_class, 11);
+        truths.push_str(&format!(
+            "{wi},{},{},{}\n",
+            w.name, truth.delta, truth.mc_se
+        ));
+        for (pi, (folds, repeats)) in [(5, 1), (5, 3)].into_iter().enumerate() {
+            for lines in sim::outcomes(w, datasets, folds, repeats, 23) {
+                for line in lines.lines() {
+                    writeln!(out, "{wi},{pi},{line}").unwrap();
+                }
+            }
+        }
+    }
+    out.flush().unwrap();
+    drop(out);
+    std::fs::write(&truth_path, truths).unwrap();
+    std::fs::rename(&tmp, path).unwrap();
 }

@@ -249,17 +249,9 @@ pub fn wilson(k: usize, n: usize) -> (f64, f64) {
 /// What one summary row printed: estimate, bounds, p-value, whether it has an interval.
 type Printed = (f64, f64, f64, f64, bool);
 
-/// Assess `datasets` simulated data sets of `w` and tally every interval kind against `truth`.
-pub fn run(
-    w: &World,
-    truth: Truth,
-    datasets: usize,
-    folds: usize,
-    repeats: usize,
-    seed: u64,
-) -> Vec<Tally> {
-    let mu = means(w);
-    let cfg = AssessConfig {
+/// The configuration every simulated data set of `w` is assessed with.
+fn assess_config(w: &World, folds: usize, repeats: usize, seed: u64) -> AssessConfig {
+    AssessConfig {
         methods: vec![MethodKind::None, w.method],
         probes: vec![ProbeKind::Knn],
         folds,
@@ -275,13 +267,77 @@ pub fn run(
         diagnostics: false,
     }
     .validated()
-    .unwrap();
+    .unwrap()
+}
+
+/// Simulated data set `i` of `w` (the same draw in `run` and `outcomes`).
+fn dataset(w: &World, mu: &Array2<f64>, i: usize, seed: u64) -> Dataset {
+    let mut rng = ChaCha8Rng::seed_from_u64(seed.wrapping_add(1_000_003 * i as u64 + 17));
+    sample(w, mu, &w.sizes, &mut rng)
+}
+
+/// Every test row's outcome in `datasets` simulated data sets of `w`, as CSV lines
+/// `dataset,repeat,fold,train_real,row,label,method_pred,baseline_pred`: the raw material of
+/// `intervals_decompose.py`, which splits the variance of the estimate into the part the
+/// test rows explain and the part they do not, and evaluates interval formulas on it.
+pub fn outcomes(
+    w: &World,
+    datasets: usize,
+    folds: usize,
+    repeats: usize,
+    seed: u64,
+) -> Vec<String> {
+    let mu = means(w);
+    let cfg = assess_config(w, folds, repeats, seed);
+    (0..datasets)
+        .into_par_iter()
+        .map(|i| {
+            let ds = dataset(w, &mu, i, seed);
+            let mut c = cfg.clone();
+            c.seed = seed.wrapping_add(i as u64);
+            let res = assess(&ds, &c, InputInfo::in_memory("simulated", &ds)).unwrap();
+            let mut s = String::new();
+            for b in res.folds.iter().filter(|r| r.method.name() == "none") {
+                let m = res
+                    .folds
+                    .iter()
+                    .find(|r| r.method.name() != "none" && r.repeat == b.repeat && r.fold == b.fold)
+                    .unwrap();
+                let (bo, mo) = (&b.outcome, &m.outcome);
+                for j in 0..bo.rows.len() {
+                    s.push_str(&format!(
+                        "{i},{},{},{},{},{},{},{}\n",
+                        b.repeat,
+                        b.fold,
+                        b.train_real,
+                        bo.rows[j],
+                        bo.labels[j],
+                        mo.pred[j],
+                        bo.pred[j]
+                    ));
+                }
+            }
+            s
+        })
+        .collect()
+}
+
+/// Assess `datasets` simulated data sets of `w` and tally every interval kind against `truth`.
+pub fn run(
+    w: &World,
+    truth: Truth,
+    datasets: usize,
+    folds: usize,
+    repeats: usize,
+    seed: u64,
+) -> Vec<Tally> {
+    let mu = means(w);
+    let cfg = assess_config(w, folds, repeats, seed);
     let method = w.method.name().to_string();
     let per_dataset: Vec<Vec<Printed>> = (0..datasets)
         .into_par_iter()
         .map(|i| {
-            let mut rng = ChaCha8Rng::seed_from_u64(seed.wrapping_add(1_000_003 * i as u64 + 17));
-            let ds = sample(w, &mu, &w.sizes, &mut rng);
+            let ds = dataset(w, &mu, i, seed);
             let info = InputInfo::in_memory("simulated", &ds);
             let mut c = cfg.clone();
             c.seed = seed.wrapping_add(i as u64);
