@@ -44,7 +44,7 @@ fn rare_digits(path: &Path) {
 }
 
 fn grow(input: &Path, out: &Path) -> Value {
-    let o = grow_file(&input, &out, &["--method", "interpolate", "--json"]);
+    let o = grow_file(input, out, &["--method", "interpolate", "--json"]);
     assert!(o.status.success(), "{}", stderr(&o));
     serde_json::from_str(&stdout(&o)).unwrap()
 }
@@ -290,7 +290,7 @@ fn planted_copies_of_held_out_rows_change_nothing() {
     std::fs::write(&dirty, planted).unwrap();
     let assess = |f: &Path| {
         let o = assess_file(
-            &f,
+            f,
             &[
                 "--methods",
                 "none,interpolate",

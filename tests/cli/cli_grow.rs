@@ -355,7 +355,7 @@ fn assessing_a_grown_file_uses_only_its_real_rows() {
         assert!(o.status.success(), "{}", stderr(&o));
         let assessed = |f: &std::path::Path| {
             let o = assess_file(
-                &f,
+                f,
                 &[
                     "--methods",
                     "none",

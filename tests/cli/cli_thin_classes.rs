@@ -8,7 +8,7 @@ use common::*;
 
 fn assess(input: &std::path::Path, report: &std::path::Path, folds: &str) -> std::process::Output {
     assess_file(
-        &input,
+        input,
         &[
             "--probes",
             "knn",
