@@ -200,10 +200,10 @@ fn from_table(
         .iter()
         .map(|&k| Ok((table.roles[k], role_col(table.roles[k])?)))
         .collect::<Result<_>>()?;
-    for i in 0..n {
+    for (i, &source) in source_row.iter().enumerate().take(n) {
         line.clear();
         if i < export.n_real {
-            let r = source_row[i] as usize;
+            let r = source as usize;
             if verbatim {
                 line.raw(rows.raw(r)?);
             } else {
