@@ -109,6 +109,7 @@ pub fn assemble(ds: &Dataset, grown: &Grown, method: MethodKind) -> Result<Augme
         source_row: Some(source_row),
         int_ids: ds.int_ids,
         int_groups: ds.int_groups,
+        table: ds.table.clone(),
     };
     let mut origin = vec!["real".to_string(); n_real];
     origin.extend(std::iter::repeat_n(method.name().to_string(), n_syn));

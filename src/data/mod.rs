@@ -79,6 +79,10 @@ pub struct Dataset {
     pub int_ids: bool,
     /// The file stored groups as integers: outputs write them back as int64, not text.
     pub int_groups: bool,
+    /// The CSV/TSV table the rows were read from (where each of its rows sits, found again
+    /// by `source_row`), so an output table can carry the real rows' own text and the
+    /// ignored columns through; `None` for every other input.
+    pub table: Option<std::sync::Arc<crate::io::TableSource>>,
 }
 
 impl Dataset {
@@ -98,6 +102,7 @@ impl Dataset {
             source_row: None,
             int_ids: false,
             int_groups: false,
+            table: None,
         }
     }
 
@@ -185,6 +190,7 @@ impl Dataset {
             ),
             int_ids: self.int_ids,
             int_groups: self.int_groups,
+            table: self.table.clone(),
         }
     }
 

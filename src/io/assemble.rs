@@ -44,6 +44,8 @@ pub struct Stored {
     pub float_type: FloatType,
     pub int_ids: bool,
     pub int_groups: bool,
+    /// The text table the rows came from (CSV/TSV), for writing their text back.
+    pub table: Option<std::sync::Arc<super::csv::TableSource>>,
     pub notes: Vec<String>,
 }
 
@@ -188,6 +190,7 @@ pub fn finish(
         float_type,
         int_ids,
         int_groups,
+        table,
         notes,
     } = stored;
     let (x, x_f64, labels, ids, groups, folds, origin, source_row) =
@@ -233,6 +236,7 @@ pub fn finish(
     dataset.source_row = source_row;
     dataset.int_ids = int_ids && dataset.ids.is_some();
     dataset.int_groups = int_groups && dataset.groups.is_some();
+    dataset.table = table;
     Ok(Loaded {
         dataset,
         dropped_nonfinite: dropped,

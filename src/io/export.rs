@@ -7,6 +7,7 @@ use std::path::Path;
 use ndarray::Array2;
 
 use super::AugmentedSet;
+use super::csv::{Role, TableSource};
 use crate::data::FloatType;
 use crate::error::{Error, Result};
 
@@ -21,6 +22,15 @@ pub enum Matrix<'a> {
 }
 
 impl Matrix<'_> {
+    /// The shortest text that reads back to row `i`, column `j` in the matrix's own type
+    /// (Rust's float `Display` guarantees the round trip; half types are exact in f32).
+    pub fn text(&self, i: usize, j: usize) -> String {
+        match self {
+            Matrix::F16(x) | Matrix::BF16(x) | Matrix::F32(x) => x[[i, j]].to_string(),
+            Matrix::F64(x) => x[[i, j]].to_string(),
+        }
+    }
+
     pub fn shape(&self) -> [usize; 2] {
         let (r, c) = match self {
             Matrix::F16(x) | Matrix::BF16(x) | Matrix::F32(x) => x.dim(),
@@ -70,13 +80,93 @@ pub const PROVENANCE: [&str; 4] = ["origin", "parent", "partner", "weight"];
 
 /// The exported content of an augmented set.
 pub struct Export<'a> {
-    /// The f32 matrix, for text output (which writes what embloom computed in).
-    pub x: &'a Array2<f32>,
-    /// The matrix in the input's float type, for the binary formats.
+    /// The matrix in the input's float type (text output writes each value as the shortest
+    /// text that reads back to it in that type).
     pub stored: Matrix<'a>,
-    /// Keyed columns in table order: id, labels, group, fold (those present), source_row,
-    /// then [`PROVENANCE`].
-    pub columns: Vec<(&'static str, Column)>,
+    /// Keyed columns in table order: id, labels, group, fold (those present), the input
+    /// table's ignored columns (binary outputs only), source_row, then [`PROVENANCE`].
+    pub columns: Vec<(String, Column)>,
+    /// The table the real rows were read from, when the input was CSV/TSV: a table output
+    /// then keeps its columns and copies the real rows' text from it.
+    pub table: Option<&'a TableSource>,
+    /// The real rows (the first rows; each is row `source_row` of the input).
+    pub n_real: usize,
+}
+
+impl Export<'_> {
+    /// The column under `key`.
+    pub fn column(&self, key: &str) -> Option<&Column> {
+        self.columns.iter().find(|(k, _)| k == key).map(|(_, c)| c)
+    }
+}
+
+/// Names the table writer appends after the input's own columns.
+pub const APPENDED: [&str; 5] = [SOURCE_ROW, "origin", "parent", "partner", "weight"];
+
+fn clash(path: &Path, name: &str, table: &TableSource) -> Error {
+    Error::output(
+        path,
+        format!(
+            "column '{name}' of {} has the name of a column embloom writes itself",
+            table.path.display()
+        ),
+        format!("rename the column '{name}' in the input table"),
+    )
+}
+
+/// The input table's ignored columns for the real rows, read again from the table (see
+/// `csv/source.rs`), then the fill for synthetic rows: integers (every real row's cell an
+/// integer as `i64` writes it) stay integers with −1 for synthetic rows, anything else is the
+/// cells' text with empty text for synthetic rows.
+fn ignored_columns(
+    table: &TableSource,
+    source_rows: &[i64],
+    n_real: usize,
+    n: usize,
+) -> Result<Vec<(String, Column)>> {
+    let ignored: Vec<usize> = (0..table.names.len())
+        .filter(|&k| table.roles[k] == Role::Ignored)
+        .collect();
+    if ignored.is_empty() {
+        return Ok(Vec::new());
+    }
+    let mut cells: Vec<Vec<String>> = vec![Vec::with_capacity(n); ignored.len()];
+    let mut rows = table.reopen()?;
+    for &r in &source_rows[..n_real] {
+        let record = rows.fields(r as usize)?;
+        for (out, &k) in cells.iter_mut().zip(&ignored) {
+            let text = std::str::from_utf8(&record[k]).map_err(|_| {
+                Error::input_at(
+                    &table.path,
+                    format!("row {r}, column '{}'", table.names[k]),
+                    "the file is not valid UTF-8",
+                    "save the table as UTF-8",
+                )
+            })?;
+            out.push(text.to_string());
+        }
+    }
+    Ok(ignored
+        .iter()
+        .zip(cells)
+        .map(|(&k, mut v)| {
+            let ints: Option<Vec<i64>> = v
+                .iter()
+                .map(|s| s.parse::<i64>().ok().filter(|i| i.to_string() == *s))
+                .collect();
+            let col = match ints {
+                Some(mut i) if !v.is_empty() => {
+                    i.resize(n, -1);
+                    Column::Int(i)
+                }
+                _ => {
+                    v.resize(n, String::new());
+                    Column::Text(v)
+                }
+            };
+            (table.names[k].clone(), col)
+        })
+        .collect())
 }
 
 /// Ids or groups as integers when the input stored them so (and every value still reads as
@@ -110,8 +200,9 @@ fn label_column(set: &AugmentedSet) -> Column {
     }
 }
 
-/// Checks the set is consistent and lays it out as columns.
-pub fn prepare<'a>(path: &Path, set: &'a AugmentedSet) -> Result<Export<'a>> {
+/// Checks the set is consistent and lays it out as columns; `text` says the output is a
+/// table, which copies an input table's ignored columns itself.
+pub fn prepare<'a>(path: &Path, set: &'a AugmentedSet, text: bool) -> Result<Export<'a>> {
     let d = &set.data;
     let n = d.n_rows();
     let lens = [
@@ -149,22 +240,72 @@ pub fn prepare<'a>(path: &Path, set: &'a AugmentedSet) -> Result<Export<'a>> {
             "this is a bug in the caller; please report it",
         ));
     }
-    let mut columns = Vec::new();
-    if let Some(ids) = &d.ids {
-        columns.push(("id", role_column(ids, d.int_ids)));
+    let source_rows = d.source_rows();
+    let n_real = set.origin.iter().take_while(|o| *o == "real").count();
+    let table = d.table.as_deref();
+    if let Some(t) = table
+        && let Some(r) = source_rows[..n_real]
+            .iter()
+            .find(|&&r| r < 0 || r as usize >= t.rows())
+    {
+        return Err(Error::output(
+            path,
+            format!(
+                "real row source {r} is not a row of {} ({} rows)",
+                t.path.display(),
+                t.rows()
+            ),
+            "this is a bug in the caller; please report it",
+        ));
     }
-    columns.push(("labels", label_column(set)));
+    let mut columns: Vec<(String, Column)> = Vec::new();
+    let mut push = |k: &str, c: Column| columns.push((k.to_string(), c));
+    if let Some(ids) = &d.ids {
+        push("id", role_column(ids, d.int_ids));
+    }
+    push("labels", label_column(set));
     if let Some(g) = &d.groups {
-        columns.push(("group", role_column(g, d.int_groups)));
+        push("group", role_column(g, d.int_groups));
     }
     if let Some(f) = &d.folds {
-        columns.push(("fold", Column::Int(f.clone())));
+        push("fold", Column::Int(f.clone()));
     }
-    columns.push((SOURCE_ROW, Column::Int(d.source_rows())));
-    columns.push(("origin", Column::Text(set.origin.clone())));
-    columns.push(("parent", Column::Int(set.parent.clone())));
-    columns.push(("partner", Column::Int(set.partner.clone())));
-    columns.push(("weight", Column::F32(set.weight.clone())));
+    let carried = match table {
+        Some(t) if !text => ignored_columns(t, &source_rows, n_real, n)?,
+        _ => Vec::new(),
+    };
+    let appended: Vec<(&str, Column)> = vec![
+        (SOURCE_ROW, Column::Int(source_rows)),
+        ("origin", Column::Text(set.origin.clone())),
+        ("parent", Column::Int(set.parent.clone())),
+        ("partner", Column::Int(set.partner.clone())),
+        ("weight", Column::F32(set.weight.clone())),
+    ];
+    if let Some(t) = table {
+        // A table output keeps the input's columns beside the appended ones; a binary output
+        // keeps the ignored columns beside every key it writes.
+        let taken: Vec<&str> = if text {
+            APPENDED.to_vec()
+        } else {
+            let mut k: Vec<&str> = columns.iter().map(|(k, _)| k.as_str()).collect();
+            k.extend(APPENDED);
+            k.push("embeddings");
+            k
+        };
+        let own: Vec<&str> = if text {
+            (0..t.names.len())
+                .filter(|&k| t.roles[k] != Role::Provenance)
+                .map(|k| t.names[k].as_str())
+                .collect()
+        } else {
+            carried.iter().map(|(k, _)| k.as_str()).collect()
+        };
+        if let Some(name) = own.iter().find(|n| taken.contains(n)) {
+            return Err(clash(path, name, t));
+        }
+    }
+    columns.extend(carried);
+    columns.extend(appended.into_iter().map(|(k, c)| (k.to_string(), c)));
     let stored = match d.float_type {
         FloatType::F16 => Matrix::F16(&d.x),
         FloatType::BF16 => Matrix::BF16(&d.x),
@@ -175,8 +316,9 @@ pub fn prepare<'a>(path: &Path, set: &'a AugmentedSet) -> Result<Export<'a>> {
         }),
     };
     Ok(Export {
-        x: &d.x,
         stored,
         columns,
+        table,
+        n_real,
     })
 }

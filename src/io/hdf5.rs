@@ -242,8 +242,12 @@ pub fn write(tmp: &Path, export: &Export<'_>) -> Result<()> {
     for (key, col) in &export.columns {
         let b = file.new_dataset_builder();
         match col {
-            Column::Int(v) => b.with_data(ArrayView1::from(v.as_slice())).create(*key),
-            Column::F32(v) => b.with_data(ArrayView1::from(v.as_slice())).create(*key),
+            Column::Int(v) => b
+                .with_data(ArrayView1::from(v.as_slice()))
+                .create(key.as_str()),
+            Column::F32(v) => b
+                .with_data(ArrayView1::from(v.as_slice()))
+                .create(key.as_str()),
             Column::Text(v) => {
                 let s = v
                     .iter()
@@ -257,7 +261,8 @@ pub fn write(tmp: &Path, export: &Export<'_>) -> Result<()> {
                         })
                     })
                     .collect::<Result<Vec<_>>>()?;
-                b.with_data(ArrayView1::from(s.as_slice())).create(*key)
+                b.with_data(ArrayView1::from(s.as_slice()))
+                    .create(key.as_str())
             }
         }
         .map_err(e)?;

@@ -7,7 +7,7 @@
 //! |---|---|---|
 //! | `.npy` | embeddings; labels from `labels_file` | refused (one array cannot hold labels and provenance) |
 //! | `.npz` | members by key; `id`, `group` (or the older `ids`, `groups`), fold carried | uncompressed archive, embeddings in the input's float type |
-//! | `.csv` / `.tsv` | header row; label, `id`, `group`, fold columns; the rest are features | same layout, f32 text |
+//! | `.csv` / `.tsv` | header row; label, `id`, `group`, fold, ignored columns; the rest are features | a table input's columns and real rows' text, then provenance; else role columns, `f0`.., provenance |
 //! | `.safetensors` | tensors by key | text columns as I64 codes, names in `__metadata__` |
 //! | `.h5` / `.hdf5` | datasets by path (feature `hdf5`) | variable-length UTF-8 strings |
 //!
@@ -37,7 +37,14 @@ use crate::error::{Error, Result};
 pub use atomic::check_target;
 pub use atomic::write_dir_with as write_dir_atomically;
 pub use atomic::write_with as write_atomically;
+pub use csv::TableSource;
 pub use read_memory::read_staging_bytes;
+
+/// The fold key (member, tensor, dataset or column) read when the caller names none.
+pub const DEFAULT_FOLD_KEY: &str = "fold";
+/// The plural spelling of the fold key, accepted in its place with a note (as `ids` and
+/// `groups` are for `id` and `group`).
+pub const OLD_FOLD_KEY: &str = "folds";
 
 /// Where to find each piece of a dataset inside a file.
 #[derive(Debug, Clone)]
@@ -81,7 +88,7 @@ impl Default for ReadOptions {
             embeddings_key: "embeddings".into(),
             labels_key: "labels".into(),
             label_column: "label".into(),
-            fold_key: "fold".into(),
+            fold_key: DEFAULT_FOLD_KEY.into(),
             id_column: None,
             group_column: None,
             fold_column: None,
@@ -340,7 +347,7 @@ pub fn output_format(path: &Path) -> Result<Format> {
 /// unless `force`. The file appears complete or not at all (see `atomic.rs`).
 pub fn write(path: &Path, set: &AugmentedSet, force: bool) -> Result<()> {
     let format = output_format(path)?;
-    let export = export::prepare(path, set)?;
+    let export = export::prepare(path, set, matches!(format, Format::Csv | Format::Tsv))?;
     atomic::write_with(path, force, |tmp| match format {
         Format::Npz => {
             let file = std::fs::OpenOptions::new()
@@ -350,8 +357,8 @@ pub fn write(path: &Path, set: &AugmentedSet, force: bool) -> Result<()> {
                 .map_err(|e| Error::io(tmp, e))?;
             npz::write(file, &export).map_err(|e| Error::io(tmp, e))
         }
-        Format::Csv => stream(tmp, |w| csv::write(w, b',', &export)),
-        Format::Tsv => stream(tmp, |w| csv::write(w, b'\t', &export)),
+        Format::Csv => csv::write(tmp, b',', &export),
+        Format::Tsv => csv::write(tmp, b'\t', &export),
         Format::Safetensors => stream(tmp, |w| safetensors::write(w, &export)),
         #[cfg(feature = "hdf5")]
         Format::Hdf5 => hdf5::write(tmp, &export),

@@ -6,10 +6,10 @@ use std::path::Path;
 use super::Format;
 use crate::data::FloatType;
 
-/// Bytes per row the streaming CSV reader keeps beside the matrix: its line number, its
-/// label code, and room for one text role (an id or group `String`: a 24-byte header plus a
-/// heap block the allocator rounds up to 32 bytes).
-const CSV_ROW: u64 = 8 + 4 + 56;
+/// Bytes per row the streaming CSV reader keeps beside the matrix: its line number, its byte
+/// offset, its label code, and room for one text role (an id or group `String`: a 24-byte
+/// header plus a heap block the allocator rounds up to 32 bytes).
+const CSV_ROW: u64 = 8 + 8 + 4 + 56;
 
 /// Peak bytes of the reader's staging while it decodes `path` into a `rows × dims` f32
 /// matrix: the parsed text for CSV/TSV, else about one decoded-size image (npz members are

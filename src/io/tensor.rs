@@ -250,15 +250,29 @@ pub fn keyed_parts(
         )),
         None => None,
     };
-    let folds = src
-        .get_optional(&opts.fold_key)?
-        .map(|t| t.into_ints(path, &opts.fold_key))
+    // The default fold key falls back to the plural spelling, with a note, as `id` and
+    // `group` do; a key the caller named is read as named.
+    let mut fold_key = opts.fold_key.as_str();
+    let mut fold_tensor = src.get_optional(fold_key)?;
+    if fold_tensor.is_none() && fold_key == super::DEFAULT_FOLD_KEY {
+        fold_tensor = src.get_optional(super::OLD_FOLD_KEY)?;
+        if fold_tensor.is_some() {
+            fold_key = super::OLD_FOLD_KEY;
+            notes.push(format!(
+                "read key '{fold_key}' as the row folds; embloom names it '{}'",
+                super::DEFAULT_FOLD_KEY
+            ));
+        }
+    }
+    let folds = fold_tensor
+        .map(|t| t.into_ints(path, fold_key))
         .transpose()?;
     let stored = super::assemble::Stored {
         x_f64: matrix.x_f64,
         float_type: matrix.float_type,
         int_ids: ids.as_ref().is_some_and(|r| r.2),
         int_groups: groups.as_ref().is_some_and(|r| r.2),
+        table: None,
         notes,
     };
     let parts = super::assemble::Parts {
@@ -269,7 +283,7 @@ pub fn keyed_parts(
         labels_source: format!("key '{}'", opts.labels_key),
         ids: ids.map(|(k, v, _)| (k, v)),
         groups: groups.map(|(k, v, _)| (k, v)),
-        folds: folds.map(|v| (format!("key '{}'", opts.fold_key), v)),
+        folds: folds.map(|v| (format!("key '{fold_key}'"), v)),
         row_lines: None,
         origin,
         parent,

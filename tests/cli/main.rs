@@ -13,6 +13,7 @@ mod cli_grow;
 mod cli_inspect;
 mod cli_sweep;
 mod cli_thin_classes;
+mod csv_round_trip;
 mod demo_data;
 mod hardening_atomic;
 mod hardening_catalogue;

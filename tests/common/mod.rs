@@ -72,9 +72,9 @@ pub fn only_these(dir: &Path, keep: &[&str]) -> bool {
         .all(|e| keep.contains(&e.file_name().to_string_lossy().as_ref()))
 }
 
-/// Write a little-endian `.npy` (version 1.0, C order) of `shape` with `descr` (`<f4`, `<i8`)
-/// from the raw element bytes, as numpy's format specification lays it out.
-pub fn write_npy(path: &Path, descr: &str, shape: &[usize], body: &[u8]) {
+/// The bytes of a little-endian `.npy` (version 1.0, C order) of `shape` with `descr`
+/// (`<f4`, `<i8`) from the raw element bytes, as numpy's format specification lays it out.
+pub fn npy_bytes(descr: &str, shape: &[usize], body: &[u8]) -> Vec<u8> {
     let dims: Vec<String> = shape.iter().map(|d| d.to_string()).collect();
     let shape = if dims.len() == 1 {
         format!("({},)", dims[0])
@@ -90,7 +90,26 @@ pub fn write_npy(path: &Path, descr: &str, shape: &[usize], body: &[u8]) {
     bytes.extend((header.len() as u16).to_le_bytes());
     bytes.extend(header.as_bytes());
     bytes.extend(body);
-    std::fs::write(path, bytes).unwrap();
+    bytes
+}
+
+/// Write a `.npy` file (see [`npy_bytes`]).
+pub fn write_npy(path: &Path, descr: &str, shape: &[usize], body: &[u8]) {
+    std::fs::write(path, npy_bytes(descr, shape, body)).unwrap();
+}
+
+/// Write an uncompressed `.npz` (a zip of `.npy` members, as `numpy.savez` writes it) from
+/// (member name, `.npy` bytes) pairs.
+pub fn write_npz(path: &Path, members: &[(&str, Vec<u8>)]) {
+    use std::io::Write;
+    let mut z = zip::ZipWriter::new(std::fs::File::create(path).unwrap());
+    let opts =
+        zip::write::SimpleFileOptions::default().compression_method(zip::CompressionMethod::Stored);
+    for (name, bytes) in members {
+        z.start_file(format!("{name}.npy"), opts).unwrap();
+        z.write_all(bytes).unwrap();
+    }
+    z.finish().unwrap();
 }
 
 /// `embloom grow INPUT -o OUT ARGS...`, the shape of most grow runs in the tests.

@@ -120,3 +120,64 @@ fn a_memory_limit_below_the_estimate_refuses_the_table_before_reading_it() {
         other => panic!("not a resource error: {other}"),
     }
 }
+
+#[test]
+fn plural_fold_spelling_is_read_with_a_note_in_csv_and_npz() {
+    // `folds` is read as the fold role when no `fold` is present, as `ids`/`groups` are;
+    // the expected folds are the cells written here (common practice, no source).
+    let dir = TempDir::new().unwrap();
+    let p = write(&dir, "plural.csv", "folds,label,a\n0,x,1\n1,y,2\n0,x,3\n");
+    let l = read(&p, &ReadOptions::default()).unwrap();
+    assert_eq!(l.dataset.dims(), 1, "folds is not a feature");
+    assert_eq!(l.dataset.folds.as_deref(), Some(&[0, 1, 0][..]));
+    assert!(
+        l.notes
+            .iter()
+            .any(|n| n.contains("'folds'") && n.contains("'fold'")),
+        "{:?}",
+        l.notes
+    );
+    let npz = dir.path().join("plural.npz");
+    let f32s: Vec<u8> = [1.0f32, 2.0, 3.0]
+        .iter()
+        .flat_map(|v| v.to_le_bytes())
+        .collect();
+    let i64s = |v: &[i64]| -> Vec<u8> { v.iter().flat_map(|x| x.to_le_bytes()).collect() };
+    crate::common::write_npz(
+        &npz,
+        &[
+            (
+                "embeddings",
+                crate::common::npy_bytes("<f4", &[3, 1], &f32s),
+            ),
+            (
+                "labels",
+                crate::common::npy_bytes("<i8", &[3], &i64s(&[0, 1, 0])),
+            ),
+            (
+                "folds",
+                crate::common::npy_bytes("<i8", &[3], &i64s(&[1, 0, 1])),
+            ),
+        ],
+    );
+    let l = read(&npz, &ReadOptions::default()).unwrap();
+    assert_eq!(l.dataset.folds.as_deref(), Some(&[1, 0, 1][..]));
+    assert!(
+        l.notes.iter().any(|n| n.contains("'folds'")),
+        "{:?}",
+        l.notes
+    );
+    // A fold key the caller names is read as named, without a note.
+    let opts = ReadOptions {
+        fold_key: "folds".into(),
+        ..ReadOptions::default()
+    };
+    for path in [&p, &npz] {
+        let l = read(path, &opts).unwrap();
+        assert!(
+            l.dataset.folds.is_some() && l.notes.is_empty(),
+            "{:?}",
+            l.notes
+        );
+    }
+}

@@ -22,6 +22,7 @@ mod eval_stats;
 mod io_bad;
 mod io_csv_roles;
 mod io_roundtrip;
+mod io_table_text;
 mod knn_ties;
 mod neighbors_exact;
 mod pca_iris;

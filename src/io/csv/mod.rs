@@ -7,8 +7,11 @@
 //! time.
 
 mod read;
+mod source;
 mod table;
 mod write;
 
 pub use read::read;
+pub use source::TableSource;
+pub(crate) use table::Role;
 pub use write::write;

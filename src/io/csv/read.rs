@@ -10,6 +10,7 @@ use ndarray::Array2;
 
 use super::super::ReadOptions;
 use super::super::assemble::{Parts, Stored};
+use super::source::TableSource;
 use super::table::{self, Columns, Role};
 use crate::data::{FloatType, RawLabels};
 use crate::error::{Error, Result};
@@ -176,6 +177,9 @@ pub fn read(path: &Path, sep: u8, opts: &ReadOptions) -> Result<(Parts, Stored)>
     let mut feats: Vec<f32> = Vec::new();
     let mut labels = Interner::default();
     let mut lines: Vec<usize> = Vec::new();
+    // Where each row starts, so a table written from the rows can copy their text (see
+    // `source.rs`).
+    let mut starts: Vec<u64> = Vec::new();
     let mut ids = cols.has(Role::Id).then(Vec::new);
     let mut groups = cols.has(Role::Group).then(Vec::new);
     let mut folds = cols.has(Role::Fold).then(Vec::new);
@@ -208,6 +212,7 @@ pub fn read(path: &Path, sep: u8, opts: &ReadOptions) -> Result<(Parts, Stored)>
         let pos = record.position().cloned();
         line = pos.as_ref().map_or(line + 1, |p| p.line());
         last_start = pos.map_or(last_start, |p| p.byte());
+        starts.push(last_start);
         if record.len() != width {
             if reader.position().byte() >= file_len && unclosed_quote(path, last_start)? {
                 return Err(never_closed(path, line));
@@ -326,7 +331,25 @@ pub fn read(path: &Path, sep: u8, opts: &ReadOptions) -> Result<(Parts, Stored)>
         partner,
         parent_refs: parent_refs.map(|v| (column(Role::ParentRef), v)),
     };
+    // Ids and groups that are all integers (as written by `i64`'s own formatting, so `007`
+    // stays text) are integers in every output, as they are from the binary formats.
+    let integers = |v: &Option<(String, Vec<String>)>| {
+        v.as_ref().is_some_and(|(_, v)| {
+            v.iter()
+                .all(|s| s.parse::<i64>().is_ok_and(|i| i.to_string() == *s))
+        })
+    };
     let stored = Stored {
+        int_ids: integers(&parts.ids),
+        int_groups: integers(&parts.groups),
+        table: Some(std::sync::Arc::new(TableSource::new(
+            path,
+            sep,
+            cols.names,
+            cols.roles,
+            starts,
+            reader.position().byte(),
+        )?)),
         notes: cols.notes,
         ..Stored::default()
     };

@@ -5,8 +5,8 @@
 use std::collections::HashMap;
 use std::path::Path;
 
-use super::super::ReadOptions;
 use super::super::export::{PROVENANCE, SOURCE_ROW};
+use super::super::{DEFAULT_FOLD_KEY, OLD_FOLD_KEY, ReadOptions};
 use crate::error::{Error, Result};
 
 /// What a column is used for.
@@ -175,6 +175,13 @@ pub fn resolve(
         None => {
             if let Some(&i) = seen.get(opts.fold_key.as_str()) {
                 assign(i, Role::Fold, &mut roles)?;
+            } else if opts.fold_key == DEFAULT_FOLD_KEY
+                && let Some(&i) = seen.get(OLD_FOLD_KEY)
+            {
+                assign(i, Role::Fold, &mut roles)?;
+                notes.push(format!(
+                    "read column '{OLD_FOLD_KEY}' as the row folds; embloom names it '{DEFAULT_FOLD_KEY}'"
+                ));
             }
         }
     }
