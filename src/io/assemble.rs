@@ -45,6 +45,8 @@ pub struct Stored {
     pub int_ids: bool,
     pub int_groups: bool,
     pub notes: Vec<String>,
+    /// A columnar file's columns with no role (see [`super::Carried`]).
+    pub carried: Option<super::Carried>,
 }
 
 fn row_name(lines: &Option<Vec<usize>>, row: usize) -> String {
@@ -189,6 +191,7 @@ pub fn finish(
         int_ids,
         int_groups,
         notes,
+        carried,
     } = stored;
     let (x, x_f64, labels, ids, groups, folds, origin, source_row) =
         if dropped == 0 || keep_nonfinite {
@@ -241,5 +244,6 @@ pub fn finish(
         partner,
         parent_refs,
         notes,
+        carried,
     })
 }

@@ -260,6 +260,7 @@ pub fn keyed_parts(
         int_ids: ids.as_ref().is_some_and(|r| r.2),
         int_groups: groups.as_ref().is_some_and(|r| r.2),
         notes,
+        carried: None,
     };
     let parts = super::assemble::Parts {
         x: matrix.x,

@@ -7,7 +7,7 @@
 //! time.
 
 mod read;
-mod table;
+pub(super) mod table;
 mod write;
 
 pub use read::read;
