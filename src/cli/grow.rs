@@ -196,9 +196,10 @@ fn left_out(loaded: &io::Loaded, output: &std::path::Path) -> Option<String> {
         Ok(io::Format::Parquet | io::Format::Arrow)
     );
     (!columnar && !names.is_empty()).then(|| {
+        let quoted: Vec<String> = names.iter().map(|n| format!("'{n}'")).collect();
         format!(
-            "the input's columns {} are not written: only a .parquet or .arrow output carries them",
-            names.join(", ")
+            "input columns {} are left out: only a .parquet or .arrow output carries them",
+            quoted.join(", ")
         )
     })
 }

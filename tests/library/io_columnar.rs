@@ -309,12 +309,8 @@ fn grown_sets_read_back_with_provenance_and_carried_columns() {
         assert_eq!(back.parent, Some(set.parent.clone()), "{ext}");
         assert_eq!(back.partner, Some(set.partner.clone()), "{ext}");
         let t = load(&out);
-        let names: Vec<&str> = t
-            .schema()
-            .fields()
-            .iter()
-            .map(|f| f.name().as_str())
-            .collect();
+        let schema = t.schema();
+        let names: Vec<&str> = schema.fields().iter().map(|f| f.name().as_str()).collect();
         assert_eq!(
             names,
             [

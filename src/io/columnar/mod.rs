@@ -29,11 +29,21 @@ use crate::error::{Error, Result};
 const BATCH_ROWS: usize = 8192;
 
 fn unreadable(path: &Path, what: &str, e: impl std::fmt::Display) -> Error {
-    Error::input(
-        path,
-        format!("not a readable {what} file: {e}"),
-        format!("rewrite the file with pyarrow (a {what} file written by pyarrow or pandas reads)"),
-    )
+    let e = e.to_string();
+    // A codec left out of the build (see the module doc) is the user's to change, not a
+    // broken file.
+    let codec = if what == "Parquet" { "snappy" } else { "lz4" };
+    let fix = if ["Disabled feature", "not supported", "requires the"]
+        .iter()
+        .any(|m| e.contains(m))
+    {
+        format!(
+            "embloom reads {what} files uncompressed or with {codec}: rewrite the file with compression='{codec}' (pyarrow, pandas)"
+        )
+    } else {
+        format!("rewrite the file with pyarrow (a {what} file written by pyarrow or pandas reads)")
+    };
+    Error::input(path, format!("not a readable {what} file: {e}"), fix)
 }
 
 /// Reads the pieces of a dataset from a Parquet file.
