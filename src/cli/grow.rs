@@ -18,7 +18,8 @@ use embloom::io::{self, ReadOptions};
 pub struct GrowArgs {
     #[command(flatten)]
     pub input: InputArgs,
-    /// Output file; its extension picks the format (.npz, .csv, .tsv, .safetensors, .h5).
+    /// Output file; its extension picks the format (.npz, .csv, .tsv, .safetensors, .h5,
+    /// .parquet, .arrow).
     #[arg(long, short)]
     pub output: PathBuf,
     #[arg(long, value_parser = parse_method, help = method_help())]

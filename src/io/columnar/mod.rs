@@ -6,6 +6,7 @@
 //! pyarrow and pandas default); Arrow files uncompressed or LZ4 (the Feather default).
 
 mod decode;
+mod ipc_check;
 mod read;
 mod write;
 
@@ -62,8 +63,9 @@ pub fn read_parquet(path: &Path, opts: &ReadOptions) -> Result<(Parts, Stored)> 
 
 /// Reads the pieces of a dataset from an Arrow IPC file (Feather v2).
 pub fn read_ipc(path: &Path, opts: &ReadOptions) -> Result<(Parts, Stored)> {
-    let file = File::open(path).map_err(|e| Error::io(path, e))?;
-    let reader = arrow_ipc::reader::FileReader::try_new_buffered(file, None)
+    let bytes = std::fs::read(path).map_err(|e| Error::io(path, e))?;
+    ipc_check::check(path, &bytes)?;
+    let reader = arrow_ipc::reader::FileReader::try_new(std::io::Cursor::new(bytes), None)
         .map_err(|e| unreadable(path, "Arrow IPC", e))?;
     let schema = reader.schema();
     let batches = reader.map(|b| b.map_err(|e| unreadable(path, "Arrow IPC", e)));
