@@ -534,14 +534,39 @@ fn columnar_seed(ext: &str) -> Vec<u8> {
     std::fs::read(path).unwrap()
 }
 
+/// The Arrow seed again with LZ4-compressed buffers (pyarrow's Feather default), so mutants
+/// reach the decompressor and its declared lengths.
+#[cfg(feature = "columnar")]
+fn lz4_seed(plain: &[u8]) -> Vec<u8> {
+    use arrow_ipc::writer::{FileWriter, IpcWriteOptions};
+    let reader = arrow_ipc::reader::FileReader::try_new(std::io::Cursor::new(plain), None).unwrap();
+    let opts = IpcWriteOptions::default()
+        .try_with_compression(Some(arrow_ipc::CompressionType::LZ4_FRAME))
+        .unwrap();
+    let mut out = Vec::new();
+    let mut w = FileWriter::try_new_with_options(&mut out, &reader.schema(), opts).unwrap();
+    for b in reader {
+        w.write(&b.unwrap()).unwrap();
+    }
+    w.finish().unwrap();
+    drop(w);
+    out
+}
+
 #[cfg(feature = "columnar")]
 #[test]
 fn parquet_and_arrow_readers_survive_mutations() {
     for (name, file, stream) in [("parquet", "set.parquet", 11), ("arrow", "set.arrow", 12)] {
+        let seed = columnar_seed(&file[4..]);
+        let seeds = if name == "arrow" {
+            vec![lz4_seed(&seed), seed]
+        } else {
+            vec![seed]
+        };
         let t = fuzz(
             Target {
                 name,
-                seeds: vec![columnar_seed(&file[4..])],
+                seeds,
                 file,
                 labels: None,
                 opts: ReadOptions::default(),

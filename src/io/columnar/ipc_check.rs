@@ -1,7 +1,7 @@
 //! Checks an Arrow IPC file's block and buffer ranges before arrow-ipc reads it. Its reader
 //! trusts them: a negative length, a message shorter than its prefix or a buffer past the end
-//! of its block panics inside the crate, and a huge body length is allocated before the read
-//! fails. Every range is checked here against the file, so such a file is refused by name.
+//! of its block panics inside the crate, and a huge body length or uncompressed buffer
+//! length is allocated before the read fails. Every range is checked here against the file, so such a file is refused by name.
 
 use std::path::Path;
 
@@ -67,13 +67,35 @@ pub fn check(path: &Path, bytes: &[u8]) -> Result<()> {
         let batch = msg
             .header_as_record_batch()
             .or_else(|| msg.header_as_dictionary_batch().and_then(|d| d.data()));
-        let body = block.len() - meta;
+        let body = &block[meta..];
+        let lz4 = batch
+            .and_then(|r| r.compression())
+            .is_some_and(|c| c.codec() == arrow_ipc::CompressionType::LZ4_FRAME);
         for buf in batch.and_then(|r| r.buffers()).into_iter().flatten() {
-            if span(buf.offset(), buf.length(), body).is_none() {
+            let Some(range) = span(buf.offset(), buf.length(), body.len()) else {
                 return Err(corrupt(
                     path,
                     format!("a buffer of block {i} lies outside the block"),
                 ));
+            };
+            // A compressed buffer starts with its uncompressed length (−1: stored as is),
+            // which arrow-ipc reserves before decompressing; LZ4 expands at most 255-fold
+            // (a match length grows by 255 per input byte), so a larger claim is a lie.
+            let data = &body[range];
+            if lz4 && data.len() >= 8 {
+                let claimed = i64::from_le_bytes(data[..8].try_into().unwrap_or_default());
+                let most = (data.len() as i64 - 8)
+                    .saturating_mul(255)
+                    .saturating_add(64);
+                if claimed > most {
+                    return Err(corrupt(
+                        path,
+                        format!(
+                            "a buffer of block {i} claims {claimed} bytes uncompressed from {} bytes",
+                            data.len() - 8
+                        ),
+                    ));
+                }
             }
         }
     }
