@@ -55,6 +55,11 @@ pub fn check(path: &Path, bytes: &[u8]) -> Result<()> {
         let Some(whole) = whole else {
             return Err(corrupt(path, format!("block {i} lies outside the file")));
         };
+        // The format pads every message and buffer to 8 bytes; arrow-ipc asserts on
+        // misaligned buffers instead of refusing them.
+        if meta % 8 != 0 {
+            return Err(corrupt(path, format!("block {i} is not 8-byte aligned")));
+        }
         let block = &bytes[whole];
         let meta = meta as usize;
         let skip = if block[..4] == [0xff; 4] { 8 } else { 4 };
@@ -78,6 +83,12 @@ pub fn check(path: &Path, bytes: &[u8]) -> Result<()> {
                     format!("a buffer of block {i} lies outside the block"),
                 ));
             };
+            if range.start % 8 != 0 {
+                return Err(corrupt(
+                    path,
+                    format!("a buffer of block {i} is not 8-byte aligned"),
+                ));
+            }
             // A compressed buffer starts with its uncompressed length (−1: stored as is),
             // which arrow-ipc reserves before decompressing; LZ4 expands at most 255-fold
             // (a match length grows by 255 per input byte), so a larger claim is a lie.
