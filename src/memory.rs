@@ -142,9 +142,9 @@ pub fn for_read(path: &Path, rows: usize, dims: usize, stored: FloatType) -> Est
 }
 
 /// Peak of `grow`: reading, then the matrix, the synthetic rows, the stacked output and the
-/// export image (npz and safetensors build each member in memory; CSV and HDF5 stream). The
-/// export image is in the input's float type; f64 input also keeps its f64 values for the
-/// real rows and a stacked f64 copy of the output.
+/// export image (npz and safetensors build each member in memory, Parquet and Arrow one
+/// record batch; CSV and HDF5 stream). The export image is in the input's float type; f64
+/// input also keeps its f64 values for the real rows and a stacked f64 copy of the output.
 pub fn for_grow(
     input: &Path,
     rows: usize,
@@ -157,7 +157,7 @@ pub fn for_grow(
     let format = Format::of(output).ok();
     // Bytes per value as written: npz and HDF5 write bfloat16 as f32; CSV is text from f32.
     let written = match (format, stored) {
-        (Some(Format::Npz | Format::Hdf5), FloatType::BF16) => 4,
+        (Some(Format::Npz | Format::Hdf5 | Format::Parquet | Format::Arrow), FloatType::BF16) => 4,
         _ => stored.bytes() as u64,
     };
     let values = (out_rows as u64)
@@ -166,6 +166,9 @@ pub fn for_grow(
     let image = match format {
         Some(Format::Npz) => 2 * values,
         Some(Format::Safetensors) => values,
+        // The record batch, plus a row group's encoded pages held until it is flushed.
+        Some(Format::Parquet) => 2 * values,
+        Some(Format::Arrow) => values,
         // The half-precision copy HDF5 writes from.
         Some(Format::Hdf5) if stored == FloatType::F16 => values,
         _ => 0,

@@ -13,30 +13,32 @@ use embloom::neighbors::{IndexKind, Metric};
 /// Where the data is and which keys hold it.
 #[derive(Args, Debug, Clone)]
 pub struct InputArgs {
-    /// Embedding file: .npy, .npz, .csv, .tsv, .safetensors, .h5/.hdf5 (with the hdf5 feature).
+    /// Embedding file: .npy, .npz, .csv, .tsv, .safetensors, .h5/.hdf5 (with the hdf5 feature),
+    /// .parquet, .arrow/.feather (with the columnar feature).
     pub file: PathBuf,
     /// Labels for a .npy embedding file (a second .npy).
     #[arg(long, value_name = "FILE")]
     pub labels: Option<PathBuf>,
-    /// npz member, safetensors tensor or HDF5 dataset path of the embeddings.
+    /// npz member, safetensors tensor, HDF5 dataset path or Parquet/Arrow list column of the
+    /// embeddings.
     #[arg(long, default_value = "embeddings", value_name = "KEY")]
     pub embeddings_key: String,
     /// npz member, safetensors tensor or HDF5 dataset path of the labels.
     #[arg(long, default_value = "labels", value_name = "KEY")]
     pub labels_key: String,
-    /// CSV/TSV column holding the labels.
+    /// CSV/TSV/Parquet/Arrow column holding the labels.
     #[arg(long, default_value = "label", value_name = "NAME")]
     pub label_column: String,
     /// Member or column holding a fold assignment (used by assess when present).
     #[arg(long, default_value = "fold", value_name = "NAME")]
     pub fold_key: String,
-    /// CSV/TSV column holding row ids (default: `id`, or the older `ids`, when present).
+    /// Table column holding row ids (default: `id`, or the older `ids`, when present).
     #[arg(long, value_name = "NAME")]
     pub id_column: Option<String>,
-    /// CSV/TSV column holding groups (default: `group`, or the older `groups`, when present).
+    /// Table column holding groups (default: `group`, or the older `groups`, when present).
     #[arg(long, value_name = "NAME")]
     pub group_column: Option<String>,
-    /// CSV/TSV column holding a fold assignment (default: the --fold-key column when present).
+    /// Table column holding a fold assignment (default: the --fold-key column when present).
     #[arg(long, value_name = "NAME")]
     pub fold_column: Option<String>,
     /// CSV/TSV columns to read past (free text, say): not features; kept in a CSV output.

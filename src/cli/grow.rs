@@ -18,7 +18,8 @@ use embloom::io::{self, ReadOptions};
 pub struct GrowArgs {
     #[command(flatten)]
     pub input: InputArgs,
-    /// Output file; its extension picks the format (.npz, .csv, .tsv, .safetensors, .h5).
+    /// Output file; its extension picks the format (.npz, .csv, .tsv, .safetensors, .h5,
+    /// .parquet, .arrow).
     #[arg(long, short)]
     pub output: PathBuf,
     #[arg(long, value_parser = parse_method, help = method_help())]
@@ -188,6 +189,22 @@ fn check_memory(ds: &embloom::Dataset, plan: &Plan, opts: &GrowOptions) -> Resul
     )
 }
 
+/// A note when the input's carried columns have no place in the output's format.
+fn left_out(loaded: &io::Loaded, output: &std::path::Path) -> Option<String> {
+    let names = loaded.carried.as_ref()?.names();
+    let columnar = matches!(
+        io::Format::of(output),
+        Ok(io::Format::Parquet | io::Format::Arrow)
+    );
+    (!columnar && !names.is_empty()).then(|| {
+        let quoted: Vec<String> = names.iter().map(|n| format!("'{n}'")).collect();
+        format!(
+            "input columns {} are left out: only a .parquet or .arrow output carries them",
+            quoted.join(", ")
+        )
+    })
+}
+
 /// Grow the file and describe what was done.
 pub fn execute(opts: &GrowOptions) -> Result<GrowSummary> {
     let inputs = io::output_target::inputs_of(&opts.input, &opts.read);
@@ -214,7 +231,7 @@ pub fn execute(opts: &GrowOptions) -> Result<GrowSummary> {
         opts.seed,
     )?;
     let set = assemble(ds, &grown, opts.method)?;
-    io::write(&opts.output, &set, opts.force)?;
+    io::write_carrying(&opts.output, &set, opts.force, loaded.carried.as_ref())?;
     let counts = ds.class_counts();
     let mut added = vec![0usize; ds.n_classes()];
     for &l in &grown.labels {
@@ -246,6 +263,7 @@ pub fn execute(opts: &GrowOptions) -> Result<GrowSummary> {
             .notes
             .iter()
             .cloned()
+            .chain(left_out(&loaded, &opts.output))
             .chain(
                 describe_notes(&grown.notes, &ds.classes, opts.method)
                     .iter()

@@ -47,6 +47,8 @@ pub struct Stored {
     /// The text table the rows came from (CSV/TSV), for writing their text back.
     pub table: Option<std::sync::Arc<super::csv::TableSource>>,
     pub notes: Vec<String>,
+    /// A columnar file's columns with no role (see [`super::Carried`]).
+    pub carried: Option<super::Carried>,
 }
 
 fn row_name(lines: &Option<Vec<usize>>, row: usize) -> String {
@@ -192,6 +194,7 @@ pub fn finish(
         int_groups,
         table,
         notes,
+        carried,
     } = stored;
     let (x, x_f64, labels, ids, groups, folds, origin, source_row) =
         if dropped == 0 || keep_nonfinite {
@@ -245,5 +248,6 @@ pub fn finish(
         partner,
         parent_refs,
         notes,
+        carried,
     })
 }

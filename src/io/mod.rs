@@ -10,11 +10,15 @@
 //! | `.csv` / `.tsv` | header row; label, `id`, `group`, fold, ignored columns; the rest are features | a table input's columns and real rows' text, then provenance; else role columns, `f0`.., provenance |
 //! | `.safetensors` | tensors by key | text columns as I64 codes, names in `__metadata__` |
 //! | `.h5` / `.hdf5` | datasets by path (feature `hdf5`) | variable-length UTF-8 strings |
+//! | `.parquet`, `.arrow` / `.feather` | a list column or numeric columns; role columns by name as in CSV; other columns carried (feature `columnar`) | embeddings as one fixed-size list column, the input's other columns carried through |
 //!
 //! Every output carries `source_row`, each row's index in the input file.
 
 mod assemble;
 mod atomic;
+mod carried;
+#[cfg(feature = "columnar")]
+mod columnar;
 mod csv;
 mod export;
 #[cfg(feature = "hdf5")]
@@ -37,6 +41,7 @@ use crate::error::{Error, Result};
 pub use atomic::check_target;
 pub use atomic::write_dir_with as write_dir_atomically;
 pub use atomic::write_with as write_atomically;
+pub use carried::Carried;
 pub use csv::TableSource;
 pub use read_memory::read_staging_bytes;
 
@@ -121,6 +126,9 @@ pub struct Loaded {
     /// How the file was read where a user may want to know (an old key name accepted, say);
     /// the binary prints them, the library never does.
     pub notes: Vec<String>,
+    /// A columnar input's columns that have no role and are not features, in file row order,
+    /// for [`write_carrying`] to put back beside the rows they belong to.
+    pub carried: Option<Carried>,
 }
 
 /// An augmented set ready to export: real rows first, then synthetic rows, with provenance
@@ -155,10 +163,15 @@ pub enum Format {
     Safetensors,
     /// HDF5, named datasets (readable only with the `hdf5` feature).
     Hdf5,
+    /// Apache Parquet (readable only with the `columnar` feature).
+    Parquet,
+    /// Arrow IPC file, also called Feather v2 (readable only with the `columnar` feature).
+    Arrow,
 }
 
 /// Extensions accepted, for messages.
-pub const SUPPORTED: &str = ".npy, .npz, .csv, .tsv, .safetensors, .h5, .hdf5";
+pub const SUPPORTED: &str =
+    ".npy, .npz, .csv, .tsv, .safetensors, .h5, .hdf5, .parquet, .arrow, .feather";
 
 impl Format {
     /// The format of `path`, from its (case-insensitive) extension.
@@ -174,6 +187,8 @@ impl Format {
             "tsv" => Format::Tsv,
             "safetensors" => Format::Safetensors,
             "h5" | "hdf5" => Format::Hdf5,
+            "parquet" => Format::Parquet,
+            "arrow" | "feather" => Format::Arrow,
             _ => {
                 let found = if ext.is_empty() {
                     "no extension".to_string()
@@ -196,6 +211,15 @@ fn no_hdf5(path: &Path) -> Error {
         path,
         "this build of embloom has no HDF5 support (the optional `hdf5` feature, which needs libhdf5)",
         "convert the file to .npz, or use a build with HDF5 support (README: Formats and keys)",
+    )
+}
+
+#[cfg(not(feature = "columnar"))]
+fn no_columnar(path: &Path) -> Error {
+    Error::input(
+        path,
+        "this build of embloom has no Parquet or Arrow support",
+        "rebuild with `cargo build --release --features columnar`, or convert the file to .npz (pandas: numpy.savez)",
     )
 }
 
@@ -291,6 +315,12 @@ pub fn read(path: &Path, opts: &ReadOptions) -> Result<Loaded> {
         Format::Hdf5 => hdf5::read(path, opts)?,
         #[cfg(not(feature = "hdf5"))]
         Format::Hdf5 => return Err(no_hdf5(path)),
+        #[cfg(feature = "columnar")]
+        Format::Parquet => columnar::read_parquet(path, opts)?,
+        #[cfg(feature = "columnar")]
+        Format::Arrow => columnar::read_ipc(path, opts)?,
+        #[cfg(not(feature = "columnar"))]
+        Format::Parquet | Format::Arrow => return Err(no_columnar(path)),
     };
     assemble::finish(
         path,
@@ -322,7 +352,7 @@ pub fn output_format(path: &Path) -> Result<Format> {
         Error::output(
             path,
             "unknown output extension",
-            "name the output with one of .npz, .csv, .tsv, .safetensors, .h5",
+            "name the output with one of .npz, .csv, .tsv, .safetensors, .h5, .parquet, .arrow",
         )
     })?;
     if format == Format::Npy {
@@ -340,12 +370,34 @@ pub fn output_format(path: &Path) -> Result<Format> {
             "write .npz, or use a build with HDF5 support (README: Formats and keys)",
         ));
     }
+    #[cfg(not(feature = "columnar"))]
+    if matches!(format, Format::Parquet | Format::Arrow) {
+        return Err(Error::output(
+            path,
+            "this build of embloom has no Parquet or Arrow support",
+            "rebuild with `--features columnar`, or write .npz",
+        ));
+    }
     Ok(format)
 }
 
 /// Write an augmented set in the format of `path`'s extension. Refuses an existing file
 /// unless `force`. The file appears complete or not at all (see `atomic.rs`).
 pub fn write(path: &Path, set: &AugmentedSet, force: bool) -> Result<()> {
+    write_carrying(path, set, force, None)
+}
+
+/// [`write`], with the input's carried columns (see [`Loaded::carried`]): a Parquet or Arrow
+/// output puts each real row's values back beside it (by its `source_row`) and nulls on the
+/// synthetic rows; the other formats have no place for arbitrary typed columns and leave
+/// them out.
+#[cfg_attr(not(feature = "columnar"), allow(unused_variables))]
+pub fn write_carrying(
+    path: &Path,
+    set: &AugmentedSet,
+    force: bool,
+    carried: Option<&Carried>,
+) -> Result<()> {
     let format = output_format(path)?;
     let export = export::prepare(path, set, matches!(format, Format::Csv | Format::Tsv))?;
     atomic::write_with(path, force, |tmp| match format {
@@ -362,10 +414,14 @@ pub fn write(path: &Path, set: &AugmentedSet, force: bool) -> Result<()> {
         Format::Safetensors => stream(tmp, |w| safetensors::write(w, &export)),
         #[cfg(feature = "hdf5")]
         Format::Hdf5 => hdf5::write(tmp, &export),
+        #[cfg(feature = "columnar")]
+        Format::Parquet => columnar::write_parquet(tmp, &export, carried),
+        #[cfg(feature = "columnar")]
+        Format::Arrow => columnar::write_ipc(tmp, &export, carried),
         _ => Err(Error::output(
             path,
             "unsupported output format",
-            "use .npz, .csv, .safetensors or .h5",
+            "use .npz, .csv, .safetensors, .h5, .parquet or .arrow",
         )),
     })
 }

@@ -274,6 +274,7 @@ pub fn keyed_parts(
         int_groups: groups.as_ref().is_some_and(|r| r.2),
         table: None,
         notes,
+        carried: None,
     };
     let parts = super::assemble::Parts {
         x: matrix.x,

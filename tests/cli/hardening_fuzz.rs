@@ -1,6 +1,7 @@
 //! Readers under fuzzing, in the normal test suite: every reader (npy, npz, csv, tsv,
-//! safetensors, and HDF5 with the feature) is fed thousands of mutated and truncated versions
-//! of the committed valid fixtures plus arbitrary bytes. Each case must end in an error or a
+//! safetensors, and HDF5 and Parquet/Arrow with their features) is fed thousands of mutated
+//! and truncated versions of valid files (committed fixtures; for Parquet/Arrow, a set
+//! embloom writes) plus arbitrary bytes. Each case must end in an error or a
 //! valid dataset: never a panic, and never a single allocation above the stated bound.
 //!
 //! The bound (per case, on the largest single heap allocation while reading):
@@ -516,6 +517,64 @@ fn safetensors_reader_survives_mutations() {
         9,
     );
     assert!(t.ok > 0 && t.err > 0, "{t:?}");
+}
+
+/// A small grown table as embloom writes it in `ext` (Parquet or Arrow), as a fuzz seed: the
+/// writer is the one under test elsewhere, so no committed binary fixture is needed.
+#[cfg(feature = "columnar")]
+fn columnar_seed(ext: &str) -> Vec<u8> {
+    use embloom::data::Dataset;
+    use embloom::io::{AugmentedSet, write};
+    let dir = tempfile::tempdir().unwrap();
+    let x = ndarray::Array2::from_shape_fn((6, 3), |(i, j)| i as f32 * 0.5 - j as f32);
+    let mut d = Dataset::new(x, vec![0, 1, 0, 1, 0, 1], vec!["a".into(), "b".into()]);
+    d.ids = Some((0..6).map(|i| format!("r{i}")).collect());
+    let path = dir.path().join(format!("seed.{ext}"));
+    write(&path, &AugmentedSet::all_real(d), false).unwrap();
+    std::fs::read(path).unwrap()
+}
+
+/// The Arrow seed again with LZ4-compressed buffers (pyarrow's Feather default), so mutants
+/// reach the decompressor and its declared lengths.
+#[cfg(feature = "columnar")]
+fn lz4_seed(plain: &[u8]) -> Vec<u8> {
+    use arrow_ipc::writer::{FileWriter, IpcWriteOptions};
+    let reader = arrow_ipc::reader::FileReader::try_new(std::io::Cursor::new(plain), None).unwrap();
+    let opts = IpcWriteOptions::default()
+        .try_with_compression(Some(arrow_ipc::CompressionType::LZ4_FRAME))
+        .unwrap();
+    let mut out = Vec::new();
+    let mut w = FileWriter::try_new_with_options(&mut out, &reader.schema(), opts).unwrap();
+    for b in reader {
+        w.write(&b.unwrap()).unwrap();
+    }
+    w.finish().unwrap();
+    drop(w);
+    out
+}
+
+#[cfg(feature = "columnar")]
+#[test]
+fn parquet_and_arrow_readers_survive_mutations() {
+    for (name, file, stream) in [("parquet", "set.parquet", 11), ("arrow", "set.arrow", 12)] {
+        let seed = columnar_seed(&file[4..]);
+        let seeds = if name == "arrow" {
+            vec![lz4_seed(&seed), seed]
+        } else {
+            vec![seed]
+        };
+        let t = fuzz(
+            Target {
+                name,
+                seeds,
+                file,
+                labels: None,
+                opts: ReadOptions::default(),
+            },
+            stream,
+        );
+        assert!(t.ok > 0 && t.err > 0, "{t:?}");
+    }
 }
 
 /// HDF5 goes through the C library (libhdf5), which is known to crash (SIGSEGV in its heap

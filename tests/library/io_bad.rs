@@ -84,11 +84,11 @@ fn missing_file_and_unknown_extension() {
     let m = err(Path::new("/nonexistent/emb.npz"), &ReadOptions::default());
     has(&m, &["/nonexistent/emb.npz", "not found"]);
     let dir = TempDir::new().unwrap();
-    let p = dir.path().join("emb.parquet");
+    let p = dir.path().join("emb.orc");
     fs::write(&p, b"x").unwrap();
     has(
         &err(&p, &ReadOptions::default()),
-        &["emb.parquet", ".parquet", ".npz", ".safetensors", ".h5"],
+        &["emb.orc", ".orc", ".npz", ".safetensors", ".h5", ".parquet"],
     );
 }
 

@@ -20,6 +20,8 @@ mod eval_metrics;
 mod eval_protocol;
 mod eval_stats;
 mod io_bad;
+#[cfg(feature = "columnar")]
+mod io_columnar;
 mod io_csv_roles;
 mod io_roundtrip;
 mod io_table_text;

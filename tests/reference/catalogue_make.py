@@ -224,7 +224,9 @@ def make_bad():
          "data_offsets point past the end of the file", "fall outside")
     case("huge_header.safetensors", (10**15).to_bytes(8, "little") + b"{}",
          "a header length of 10^15 bytes", "exceeds the file")
-    case("table.parquet", b"PAR1", "an unsupported extension", "not a supported format")
+    case("table.parquet", b"PAR1",
+         "the Parquet magic and nothing else (without the columnar feature: no Parquet support)",
+         "Parquet")
 
     with open(os.path.join(BAD, "cases.json"), "w") as f:
         json.dump(cases, f, indent=1)

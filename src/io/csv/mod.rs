@@ -8,7 +8,7 @@
 
 mod read;
 mod source;
-mod table;
+pub(super) mod table;
 mod write;
 
 pub use read::read;

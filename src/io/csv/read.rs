@@ -170,7 +170,7 @@ pub fn read(path: &Path, sep: u8, opts: &ReadOptions) -> Result<(Parts, Stored)>
             "give a table with a header row",
         ));
     }
-    let cols: Columns = table::resolve(path, header_line as usize, names, opts)?;
+    let cols: Columns = table::resolve(path, &format!("line {header_line}"), names, opts)?;
     let dims = cols.dims();
     let width = cols.names.len();
     let body_start = reader.position().byte();

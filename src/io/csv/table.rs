@@ -54,10 +54,10 @@ impl Columns {
     }
 }
 
-fn no_column(path: &Path, line: usize, what: &str, name: &str, names: &[String]) -> Error {
+fn no_column(path: &Path, at: &str, what: &str, name: &str, names: &[String]) -> Error {
     Error::input_at(
         path,
-        format!("line {line}, column '{name}'"),
+        format!("{at}, column '{name}'"),
         format!(
             "no {what} column '{name}'; columns present: {}",
             names.join(", ")
@@ -66,19 +66,16 @@ fn no_column(path: &Path, line: usize, what: &str, name: &str, names: &[String])
     )
 }
 
-/// Resolves the header `names` (trimmed, from line `line`) into roles as `opts` asks.
-pub fn resolve(
-    path: &Path,
-    line: usize,
-    names: Vec<String>,
-    opts: &ReadOptions,
-) -> Result<Columns> {
+/// Resolves the header `names` (trimmed) into roles as `opts` asks. `at` says where the names
+/// are, for messages (`line 1` of a text table, `schema` of a columnar file): the columnar
+/// formats share these rules so a role option means the same thing in every table.
+pub fn resolve(path: &Path, at: &str, names: Vec<String>, opts: &ReadOptions) -> Result<Columns> {
     let mut seen: HashMap<&str, usize> = HashMap::new();
     for (i, n) in names.iter().enumerate() {
         if n.is_empty() {
             return Err(Error::input_at(
                 path,
-                format!("line {line}, column {}", i + 1),
+                format!("{at}, column {}", i + 1),
                 "a column has no name (often a pandas index written by to_csv)",
                 "name every column, or write the table with index=False",
             ));
@@ -86,7 +83,7 @@ pub fn resolve(
         if let Some(first) = seen.insert(n, i) {
             return Err(Error::input_at(
                 path,
-                format!("line {line}, column '{n}'"),
+                format!("{at}, column '{n}'"),
                 format!(
                     "column name '{n}' appears twice (columns {} and {})",
                     first + 1,
@@ -99,7 +96,7 @@ pub fn resolve(
     if !seen.contains_key(opts.label_column.as_str()) {
         return Err(Error::input_at(
             path,
-            format!("line {line}, column '{}'", opts.label_column),
+            format!("{at}, column '{}'", opts.label_column),
             format!(
                 "no label column '{}'; columns present: {}",
                 opts.label_column,
@@ -114,7 +111,7 @@ pub fn resolve(
         if roles[i] != Role::Feature && roles[i] != role {
             return Err(Error::input_at(
                 path,
-                format!("line {line}, column '{}'", names[i]),
+                format!("{at}, column '{}'", names[i]),
                 format!(
                     "column '{}' is given two roles ({:?} and {:?})",
                     names[i], roles[i], role
@@ -132,7 +129,7 @@ pub fn resolve(
             None => {
                 return Err(Error::input_at(
                     path,
-                    format!("line {line}"),
+                    at.to_string(),
                     format!(
                         "no column '{key}' naming each row's parent; columns present: {}",
                         names.join(", ")
@@ -153,7 +150,7 @@ pub fn resolve(
         match given {
             Some(name) => match seen.get(name.as_str()) {
                 Some(&i) => assign(i, role, &mut roles)?,
-                None => return Err(no_column(path, line, what, name, &names)),
+                None => return Err(no_column(path, at, what, name, &names)),
             },
             None => {
                 if let Some(&i) = seen.get(default) {
@@ -170,7 +167,7 @@ pub fn resolve(
     match &opts.fold_column {
         Some(name) => match seen.get(name.as_str()) {
             Some(&i) => assign(i, Role::Fold, &mut roles)?,
-            None => return Err(no_column(path, line, "fold", name, &names)),
+            None => return Err(no_column(path, at, "fold", name, &names)),
         },
         None => {
             if let Some(&i) = seen.get(opts.fold_key.as_str()) {
@@ -188,7 +185,7 @@ pub fn resolve(
     for name in &opts.ignore_columns {
         match seen.get(name.as_str()) {
             Some(&i) => assign(i, Role::Ignored, &mut roles)?,
-            None => return Err(no_column(path, line, "ignored", name, &names)),
+            None => return Err(no_column(path, at, "ignored", name, &names)),
         }
     }
     // An embloom export carries all four provenance columns; they are not features.
