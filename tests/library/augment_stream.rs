@@ -17,7 +17,9 @@ fn stream(ds: Dataset, p: StreamParams) -> Stream {
 }
 
 fn all(s: &Stream) -> Vec<Batch> {
-    s.batches().collect::<embloom::Result<_>>().expect("batches")
+    s.batches()
+        .collect::<embloom::Result<_>>()
+        .expect("batches")
 }
 
 fn in_pool<T: Send>(threads: usize, f: impl FnOnce() -> T + Send) -> T {
@@ -89,7 +91,10 @@ fn the_share_from_the_target_is_the_grown_sets_share() {
     // classes (data/README.md) below the median 140 are 120, 110, 16, 90, 14, 10: 20 + 30 +
     // 124 + 50 + 126 + 130 = 480 planned rows, share 480 / 1760 = 0.2727; in a batch of 100,
     // round(27.27) = 27 synthetic rows.
-    let s = stream(signs(), StreamParams::new(MethodKind::Interpolate).batch_size(100));
+    let s = stream(
+        signs(),
+        StreamParams::new(MethodKind::Interpolate).batch_size(100),
+    );
     let e = s.epoch(0).unwrap();
     assert!((e.share() - 480.0 / 1760.0).abs() < 1e-12);
     let b = s.batch(&e, 0).unwrap();
@@ -210,7 +215,10 @@ fn bad_stream_parameters_are_typed_errors() {
     // The library's error convention (DEVELOPERS.md): a Param error by its library name.
     let name = |r: embloom::Result<_>| match r {
         Err(embloom::Error::Param { name, .. }) => name,
-        other => panic!("expected a parameter error, got {:?}", other.map(|_: ()| ())),
+        other => panic!(
+            "expected a parameter error, got {:?}",
+            other.map(|_: ()| ())
+        ),
     };
     let check = |p: StreamParams| p.check().map(|_| ());
     assert_eq!(
@@ -231,7 +239,9 @@ fn bad_stream_parameters_are_typed_errors() {
         "method"
     );
     assert_eq!(
-        name(check(StreamParams::new(MethodKind::Interpolate).batch_size(0))),
+        name(check(
+            StreamParams::new(MethodKind::Interpolate).batch_size(0)
+        )),
         "batch-size"
     );
     assert_eq!(
