@@ -260,8 +260,10 @@ fn bad_stream_parameters_are_typed_errors() {
         )),
         "magnitude"
     );
-    let mut p = AugmentParams::default();
-    p.neighbours = 0;
+    let p = AugmentParams {
+        neighbours: 0,
+        ..AugmentParams::default()
+    };
     assert_eq!(
         name(check(StreamParams::new(MethodKind::Interpolate).augment(p))),
         "neighbours"
