@@ -108,7 +108,7 @@ pub fn grow(
 
 /// Rescale each row to unit length (norm taken in f64). A zero row has no direction and is
 /// left as it is.
-fn renormalise(x: &mut Array2<f32>) {
+pub(super) fn renormalise(x: &mut Array2<f32>) {
     for mut row in x.rows_mut() {
         let norm = row
             .iter()

@@ -9,6 +9,7 @@ mod grow;
 mod neighbour_methods;
 mod params;
 mod plan;
+mod stream;
 mod unit_norm;
 
 pub use assemble::{assemble, grow_dataset};
@@ -16,6 +17,9 @@ pub use grow::{Grown, describe_notes, grow};
 pub use neighbour_methods::NeighbourParams;
 pub use params::{AugmentParams, MethodParams, Param, ParamGuard};
 pub use plan::{Plan, Target, class_indices, plan_for};
+pub use stream::{
+    Batch, Batches, DEFAULT_BATCH_SIZE, Epoch, Schedule, Stream, StreamParams, StreamValidParams,
+};
 pub use unit_norm::UnitNorm;
 
 use std::fmt;

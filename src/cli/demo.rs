@@ -4,10 +4,11 @@ use std::path::Path;
 
 use super::assess::AssessOptions;
 use super::grow::GrowOptions;
-use super::inspect::Inspection;
+use super::inspect::render;
 use super::progress::show_progress;
 use embloom::assess::AssessConfig;
 use embloom::augment::{AugmentParams, MethodKind, Target, UnitNorm};
+use embloom::data::Inspection;
 use embloom::demo::{DEMO_SEED, demo_set};
 use embloom::error::Result;
 use embloom::io::{self, ReadOptions};
@@ -38,7 +39,11 @@ pub fn demo(out: &Path, force: bool, quiet: bool) -> Result<()> {
     println!("== embloom inspect {}", data.display());
     print!(
         "{}",
-        Inspection::of(&data, &loaded.dataset, loaded.origin.as_deref()).render()
+        render(&Inspection::of(
+            &data,
+            &loaded.dataset,
+            loaded.origin.as_deref()
+        ))
     );
 
     let grown = out.join("street-signs-grown.npz");

@@ -3,10 +3,12 @@
 //! Records and targets travel together (as in linfa's `DatasetBase`) so that a row subset can
 //! never lose its labels, groups or fold assignment on the way through the pipeline.
 
+mod inspection;
 mod labels;
 mod row_index;
 mod stats;
 
+pub use inspection::{ClassCount, Inspection};
 pub use labels::{RawLabels, encode_labels};
 pub use row_index::RowIndex;
 pub use stats::{DatasetStats, NonFinite, UNIT_NORM_TOL, is_unit_norm};

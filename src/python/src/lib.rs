@@ -15,8 +15,10 @@ use embloom::assess::{
     resolve_external,
 };
 use embloom::augment::{
-    AugmentParams, MethodKind, Target, UnitNorm, assemble, grow_dataset, plan_for,
+    AugmentParams, Epoch, MethodKind, ParamGuard, Schedule, Stream as LibStream, StreamParams,
+    Target, UnitNorm, assemble, describe_notes, grow_dataset, plan_for,
 };
+use embloom::data::Inspection;
 use embloom::eval::IntervalKind;
 use embloom::io::{self, AugmentedSet, ReadOptions};
 use embloom::neighbors::{IndexKind, Metric};
@@ -600,6 +602,163 @@ fn assess_config(
     Ok((cfg, ExternalConfig { budget, unions }, warnings))
 }
 
+/// `inspect --json`'s text for rows and labels held in memory: the same library value the
+/// binary prints. `labels=None` describes the rows only, as for a `.npy` without labels.
+#[pyfunction]
+#[pyo3(signature = (x, labels, classes, dtype, ids=None, groups=None, folds=None, name="(arrays)".to_string()))]
+#[allow(clippy::too_many_arguments)]
+fn inspect(
+    py: Python<'_>,
+    x: PyReadonlyArray2<'_, f32>,
+    labels: Option<PyReadonlyArray1<'_, u32>>,
+    classes: Vec<String>,
+    dtype: String,
+    ids: Option<Vec<String>>,
+    groups: Option<Vec<String>>,
+    folds: Option<Vec<i64>>,
+    name: String,
+) -> PyResult<String> {
+    let file = PathBuf::from(name);
+    let report = match labels {
+        None => {
+            let x = x.as_array().to_owned();
+            py.allow_threads(|| Inspection::of_unlabelled(&file, x, dtype))
+        }
+        Some(labels) => {
+            let mut ds = dataset(x, labels, classes)?;
+            ds.stored_dtype = dtype;
+            ds.ids = ids;
+            ds.groups = groups;
+            ds.folds = folds;
+            py.allow_threads(|| Inspection::of(&file, &ds, None))
+        }
+    };
+    serde_json::to_string_pretty(&report).map_err(|e| {
+        to_py(embloom::Error::data(
+            format!("cannot serialise the inspection: {e}"),
+            "report this as a bug",
+        ))
+    })
+}
+
+/// A schedule from the Python side's normalised spelling: `(kind, start, steps)` with kind
+/// `constant`, `linear` (from `start` × the value) or `steps`.
+fn schedule(name: &str, spec: (String, f64, Vec<(usize, f64)>)) -> PyResult<Schedule> {
+    let (kind, start, steps) = spec;
+    match kind.as_str() {
+        "constant" => Ok(Schedule::Constant),
+        "linear" => Ok(Schedule::Linear { start }),
+        "steps" => Ok(Schedule::Steps(steps)),
+        other => Err(param_err(
+            name,
+            format!("'{other}' is not a schedule"),
+            "use constant, linear, (\"linear\", start) or (\"steps\", [(epoch, factor), ...])",
+        )),
+    }
+}
+
+/// A training-loop stream: the library's `augment::Stream` and the epoch last asked for
+/// (its shuffle and fitted method), so batches in order cost no refit or reshuffle.
+#[pyclass(frozen)]
+struct Stream {
+    inner: LibStream,
+    epoch: Mutex<Option<Epoch>>,
+}
+
+/// A batch as the tuple the Python side yields: rows, class indices, synthetic mask.
+type BatchTuple<'py> = (
+    Bound<'py, PyArray2<f32>>,
+    Bound<'py, PyArray1<u32>>,
+    Bound<'py, PyArray1<bool>>,
+);
+
+#[pymethods]
+impl Stream {
+    /// Batches over all epochs.
+    fn __len__(&self) -> usize {
+        self.inner.len()
+    }
+
+    /// Number of epochs.
+    fn epochs(&self) -> usize {
+        self.inner.epochs()
+    }
+
+    /// Batches in `epoch`.
+    fn batches_in(&self, epoch: usize) -> usize {
+        self.inner.batches_in(epoch)
+    }
+
+    /// What the fit clamped, adjusted or skipped, as the binary words it.
+    fn notes(&self) -> Vec<String> {
+        let method = self.inner.method();
+        describe_notes(self.inner.notes(), &self.inner.data().classes, method)
+    }
+
+    /// Batch `index` of `epoch`, fixed by the seed, the epoch and the index alone.
+    fn batch<'py>(&self, py: Python<'py>, epoch: usize, index: usize) -> PyResult<BatchTuple<'py>> {
+        let b = py
+            .allow_threads(|| {
+                let mut cur = self.epoch.lock().unwrap_or_else(|p| p.into_inner());
+                if cur.as_ref().is_none_or(|e| e.index() != epoch) {
+                    *cur = Some(self.inner.epoch(epoch)?);
+                }
+                let e = cur.as_ref().expect("set above");
+                self.inner.batch(e, index)
+            })
+            .map_err(to_py)?;
+        Ok((
+            b.x.into_pyarray(py),
+            b.labels.into_pyarray(py),
+            b.synthetic.into_pyarray(py),
+        ))
+    }
+}
+
+/// A stream over `x`/`labels` (see `augment::Stream`); the method is fitted here, once.
+#[pyfunction]
+#[pyo3(signature = (x, labels, classes, method, target, grow_classes, batch_size, epochs, synthetic_share, share_schedule, magnitude_schedule, unit_norm, seed, params=None))]
+#[allow(clippy::too_many_arguments)]
+fn stream(
+    py: Python<'_>,
+    x: PyReadonlyArray2<'_, f32>,
+    labels: PyReadonlyArray1<'_, u32>,
+    classes: Vec<String>,
+    method: &str,
+    target: &str,
+    grow_classes: Option<Vec<String>>,
+    batch_size: usize,
+    epochs: usize,
+    synthetic_share: Option<f64>,
+    share_schedule: (String, f64, Vec<(usize, f64)>),
+    magnitude_schedule: (String, f64, Vec<(usize, f64)>),
+    unit_norm: &str,
+    seed: u64,
+    params: Option<&Bound<'_, PyDict>>,
+) -> PyResult<Stream> {
+    let ds = dataset(x, labels, classes)?;
+    let params = StreamParams::new(method.parse().map_err(to_py)?)
+        .augment(augment_params(params)?)
+        .target(target.parse().map_err(to_py)?)
+        .classes(grow_classes)
+        .batch_size(batch_size)
+        .epochs(epochs)
+        .synthetic_share(synthetic_share)
+        .share_schedule(schedule("share-schedule", share_schedule)?)
+        .magnitude_schedule(schedule("magnitude-schedule", magnitude_schedule)?)
+        .unit_norm(unit_norm.parse().map_err(to_py)?)
+        .seed(seed)
+        .check()
+        .map_err(to_py)?;
+    let inner = py
+        .allow_threads(|| LibStream::new(ds, params))
+        .map_err(to_py)?;
+    Ok(Stream {
+        inner,
+        epoch: Mutex::new(None),
+    })
+}
+
 #[pymodule]
 fn _embloom(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add("InputError", m.py().get_type::<InputError>())?;
@@ -609,5 +768,8 @@ fn _embloom(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_class::<Results>()?;
     m.add_function(wrap_pyfunction!(read, m)?)?;
     m.add_function(wrap_pyfunction!(write, m)?)?;
+    m.add_function(wrap_pyfunction!(inspect, m)?)?;
+    m.add_function(wrap_pyfunction!(stream, m)?)?;
+    m.add_class::<Stream>()?;
     Ok(())
 }

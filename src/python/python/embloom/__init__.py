@@ -29,8 +29,10 @@ __all__ = [
     "InputError",
     "ParameterError",
     "Results",
+    "Stream",
     "assess",
     "grow",
+    "inspect",
     "read",
     "write",
 ]
@@ -93,6 +95,12 @@ def _labels(y: Any, n: int) -> tuple:
         )
     names, index = np.unique(arr, return_inverse=True)
     return index.astype(np.uint32).reshape(-1), [str(c) for c in names.tolist()]
+
+
+def _dtype_name(dtype: np.dtype) -> str:
+    """A numpy dtype as the file readers spell an element type ("f32", "f64", "i64", ...)."""
+    kind = {"f": "f", "i": "i", "u": "u"}.get(dtype.kind)
+    return f"{kind}{dtype.itemsize * 8}" if kind else str(dtype)
 
 
 def _optional(values: Any, n: int) -> Optional[list]:
@@ -363,3 +371,163 @@ def assess(
     for note in notes:
         warnings.warn(note, stacklevel=2)
     return Results(inner, notes)
+
+
+def inspect(
+    x: Any,
+    y: Any = None,
+    *,
+    ids: Optional[Sequence] = None,
+    groups: Optional[Sequence] = None,
+    folds: Optional[Sequence[int]] = None,
+    name: str = "(arrays)",
+) -> dict:
+    """What is in ``x`` (and its labels ``y``): the dict ``embloom inspect --json`` prints.
+
+    Keys: ``file`` (``name``), ``rows``, ``dims``, ``dtype`` (of ``x`` as given: ``"f32"``,
+    ``"f64"``, ...), ``classes`` (name and count, largest first), ``imbalance_ratio``, the
+    row norms' ``norm_min``/``norm_median``/``norm_max`` and ``unit_norm``,
+    ``nonfinite_rows``/``first_nonfinite_row``, ``duplicate_rows``, ``has_ids``/``has_groups``/
+    ``has_folds``, ``grown_file`` and ``labelled``. Without ``y`` the rows are described and
+    the classes are not (``labelled`` is False). Rows holding NaN/Inf are counted, not refused.
+    """
+    arr = np.asarray(x)
+    dtype = _dtype_name(arr.dtype)
+    if arr.ndim != 2:
+        raise InputError(f"x has {arr.ndim} dimensions, not 2\n  fix: pass an (n, d) matrix")
+    rows = np.ascontiguousarray(arr, dtype=np.float32)
+    if y is None:
+        labels, names = None, []
+    else:
+        labels, names = _labels(y, rows.shape[0])
+    text = _embloom.inspect(
+        rows,
+        labels,
+        names,
+        dtype,
+        _optional(ids, rows.shape[0]),
+        _optional(groups, rows.shape[0]),
+        None if folds is None else [int(f) for f in folds],
+        str(name),
+    )
+    return json.loads(text)
+
+
+_ScheduleSpec = Union[None, str, tuple]
+
+
+def _schedule(spec: _ScheduleSpec, what: str) -> tuple:
+    """``(kind, start, steps)`` from a schedule spelling (see ``Stream``)."""
+    if spec is None or spec == "constant":
+        return ("constant", 1.0, [])
+    if spec == "linear":
+        return ("linear", 0.0, [])
+    if isinstance(spec, (tuple, list)) and len(spec) == 2 and spec[0] == "linear":
+        return ("linear", float(spec[1]), [])
+    if isinstance(spec, (tuple, list)) and len(spec) == 2 and spec[0] == "steps":
+        return ("steps", 1.0, [(int(e), float(f)) for e, f in spec[1]])
+    raise ParameterError(
+        f"{what}: {spec!r} is not a schedule\n"
+        '  fix: use "constant", "linear", ("linear", start) or ("steps", [(epoch, factor), ...])'
+    )
+
+
+class Stream:
+    """Mini-batches for a training loop: real rows mixed with freshly drawn synthetic rows.
+
+    Each epoch visits every real row once, in a new shuffled order, and every batch adds new
+    synthetic rows of the classes ``target`` grows (only those named in ``classes``, when
+    given), drawn by ``method`` fitted once on all real rows. The grown set is never held in
+    memory. Iterating yields ``(xb, yb, is_synthetic)``: float32 rows, their labels (values of
+    ``y``; ``stream.classes`` lists them in index order) and a boolean mask.
+
+    ``synthetic_share`` is the share of each batch that is synthetic; when ``None`` it is
+    derived from the target: the share synthetic rows would have in the set ``grow`` writes,
+    planned ÷ (real + planned). A full batch holds ``round(share × batch_size)`` synthetic
+    rows and the rest real; the last batch of an epoch keeps that proportion.
+
+    ``schedule`` moves the share (a single spelling) or, with a dict
+    ``{"share": ..., "magnitude": ...}``, the share and the method's magnitude over epochs,
+    as a factor of the value given: ``"constant"``; ``"linear"`` (from 0 at the first epoch to
+    the full value at the last) or ``("linear", start)``; ``("steps", [(epoch, factor), ...])``
+    (from each epoch on, the value × factor; the full value before the first step).
+
+    A batch is fixed by (seed, epoch, batch index) whatever the number of threads. ``len()``
+    is the number of batches over all epochs.
+    """
+
+    def __init__(
+        self,
+        x: Any,
+        y: Any,
+        *,
+        method: str = "interpolate",
+        target: str = "median",
+        classes: Optional[Sequence[str]] = None,
+        batch_size: int = 256,
+        epochs: int = 1,
+        synthetic_share: Optional[float] = None,
+        schedule: Union[_ScheduleSpec, dict] = "constant",
+        unit_norm: str = "auto",
+        seed: int = 0,
+        **method_params: Any,
+    ) -> None:
+        rows = _rows(x)
+        labels, names = _labels(y, rows.shape[0])
+        self.classes: np.ndarray = np.unique(np.asarray(y))
+        if isinstance(schedule, dict):
+            unknown = set(schedule) - {"share", "magnitude"}
+            if unknown:
+                raise ParameterError(
+                    f"schedule: unknown key(s) {sorted(unknown)}\n"
+                    '  fix: use the keys "share" and "magnitude"'
+                )
+            share_s = _schedule(schedule.get("share"), "share-schedule")
+            magnitude_s = _schedule(schedule.get("magnitude"), "magnitude-schedule")
+        else:
+            share_s = _schedule(schedule, "share-schedule")
+            magnitude_s = _schedule(None, "magnitude-schedule")
+        if int(batch_size) < 0 or int(epochs) < 0:
+            raise ParameterError(
+                "batch-size and epochs must be positive\n  fix: pass e.g. batch_size=256, epochs=10"
+            )
+        self._inner = _embloom.stream(
+            rows,
+            labels,
+            names,
+            method,
+            str(target),
+            None if classes is None else [str(c) for c in classes],
+            int(batch_size),
+            int(epochs),
+            None if synthetic_share is None else float(synthetic_share),
+            share_s,
+            magnitude_s,
+            unit_norm,
+            int(seed),
+            method_params,
+        )
+        self.epochs: int = self._inner.epochs()
+        self.notes: list = self._inner.notes()
+        for note in self.notes:
+            warnings.warn(note, stacklevel=2)
+
+    def __len__(self) -> int:
+        return len(self._inner)
+
+    def batches_in(self, epoch: int) -> int:
+        """Number of batches in ``epoch`` (0-based)."""
+        return self._inner.batches_in(int(epoch))
+
+    def epoch(self, epoch: int) -> Any:
+        """The batches of one epoch (0-based), as ``(xb, yb, is_synthetic)``."""
+        for i in range(self._inner.batches_in(int(epoch))):
+            xb, lb, mask = self._inner.batch(int(epoch), i)
+            yield xb, self.classes[lb], mask
+
+    def __iter__(self) -> Any:
+        for e in range(self.epochs):
+            yield from self.epoch(e)
+
+    def __repr__(self) -> str:
+        return f"<embloom.Stream: {self.epochs} epochs, {len(self)} batches>"

@@ -1,5 +1,5 @@
 from os import PathLike
-from typing import Any, Optional, Sequence, Union
+from typing import Any, Iterator, Optional, Sequence, Union
 
 import numpy as np
 
@@ -9,8 +9,10 @@ __all__ = [
     "InputError",
     "ParameterError",
     "Results",
+    "Stream",
     "assess",
     "grow",
+    "inspect",
     "read",
     "write",
 ]
@@ -101,3 +103,39 @@ def assess(
     external_budget: Union[str, int] = ...,
     **method_params: Any,
 ) -> Results: ...
+def inspect(
+    x: Any,
+    y: Any = ...,
+    *,
+    ids: Optional[Sequence[Any]] = ...,
+    groups: Optional[Sequence[Any]] = ...,
+    folds: Optional[Sequence[int]] = ...,
+    name: str = ...,
+) -> dict[str, Any]: ...
+
+_ScheduleSpec = Union[None, str, tuple[str, float], tuple[str, Sequence[tuple[int, float]]]]
+
+class Stream:
+    classes: np.ndarray
+    epochs: int
+    notes: list[str]
+    def __init__(
+        self,
+        x: Any,
+        y: Any,
+        *,
+        method: str = ...,
+        target: str = ...,
+        classes: Optional[Sequence[str]] = ...,
+        batch_size: int = ...,
+        epochs: int = ...,
+        synthetic_share: Optional[float] = ...,
+        schedule: Union[_ScheduleSpec, dict[str, _ScheduleSpec]] = ...,
+        unit_norm: str = ...,
+        seed: int = ...,
+        **method_params: Any,
+    ) -> None: ...
+    def __len__(self) -> int: ...
+    def __iter__(self) -> Iterator[tuple[np.ndarray, np.ndarray, np.ndarray]]: ...
+    def batches_in(self, epoch: int) -> int: ...
+    def epoch(self, epoch: int) -> Iterator[tuple[np.ndarray, np.ndarray, np.ndarray]]: ...
