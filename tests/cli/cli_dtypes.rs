@@ -181,9 +181,10 @@ fn csv_output_carries_source_row_and_reads_back_without_it_as_a_feature() {
 }
 
 #[test]
-fn f64_to_csv_stays_today_s_f32_text() {
-    // CSV output writes the f32 values embloom computes in (the shortest text that reads
-    // back to the same f32), as before this change; common practice, no source.
+fn f64_to_csv_reads_back_to_the_same_f32_matrix() {
+    // CSV output of f64 input writes the shortest f64 text of each value (checked in
+    // tests/library/io_table_text.rs); a CSV is read into f32, so reading it back gives the
+    // input's f32 matrix exactly; common practice, no source.
     let dir = tempdir();
     let out = p(dir.path(), "out.csv");
     grow(&fixture("x_f64.npy"), &out);
