@@ -8,7 +8,7 @@ use serde::ser::SerializeMap;
 use serde::{Serialize, Serializer};
 
 use super::method_id::MethodId;
-use crate::augment::{AugmentParams, MethodKind, Target, UnitNorm};
+use crate::augment::{AugmentParams, MethodKind, PairPath, Target, UnitNorm};
 use crate::error::{Error, Result};
 use crate::eval::interval::IntervalKind;
 use crate::neighbors::{IndexKind, Metric as NeighbourMetric};
@@ -269,6 +269,8 @@ pub struct AugmentRecord {
     pub magnitude: MagnitudeRecord,
     pub metric: NeighbourMetric,
     pub neighbours: usize,
+    /// The path interpolate and extrapolate place rows on.
+    pub path: PairPath,
     pub strict: bool,
     /// τ of logit-adjust.
     pub tau: f64,
@@ -326,6 +328,7 @@ impl ResultsConfig {
                 magnitude,
                 metric: a.metric,
                 neighbours: a.neighbours,
+                path: a.path,
                 strict: a.strict,
                 tau: a.tau,
                 variance_kept: a.variance_kept,

@@ -13,7 +13,7 @@ mod unit_norm;
 
 pub use assemble::{assemble, grow_dataset};
 pub use grow::{Grown, describe_notes, grow};
-pub use neighbour_methods::NeighbourParams;
+pub use neighbour_methods::{NeighbourParams, PairPath};
 pub use params::{AugmentParams, MethodParams, Param, ParamGuard};
 pub use plan::{Plan, Target, class_indices, plan_for};
 pub use unit_norm::UnitNorm;
@@ -195,6 +195,12 @@ pub trait Augmenter: Send + Sync {
     fn kind(&self) -> MethodKind;
     /// Fit on the real rows of `train`, for the classes listed in `classes` only.
     fn fit(&self, train: &Dataset, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>>;
+    /// Refuse `train` before fitting when the method's rule does not hold for it given whether
+    /// synthetic rows will be renormalised (`unit_norm`): the sphere path needs unit-norm rows
+    /// or renormalisation. Most methods accept any rows.
+    fn check_input(&self, _train: &Dataset, _unit_norm: bool) -> Result<()> {
+        Ok(())
+    }
 }
 
 /// A method fitted on real training rows.

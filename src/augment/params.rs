@@ -32,6 +32,8 @@ pub enum Param {
     Strict,
     /// τ of logit-adjust, the scale of the shift by the log class prior.
     Tau,
+    /// The path between a row and its partner: the chord, or the great circle on the sphere.
+    Path,
 }
 
 impl Param {
@@ -45,6 +47,7 @@ impl Param {
             Param::NeighbourIndex => "neighbour-index",
             Param::Strict => "strict",
             Param::Tau => "tau",
+            Param::Path => "path",
         }
     }
 }
@@ -74,6 +77,8 @@ pub struct AugmentParams {
     pub index: IndexKind,
     /// τ of logit-adjust (default 1, Menon et al. 2021).
     pub tau: f64,
+    /// The path interpolate and extrapolate place rows on (default the chord).
+    pub path: neighbour_methods::PairPath,
 }
 
 impl Default for AugmentParams {
@@ -87,6 +92,7 @@ impl Default for AugmentParams {
             strict: false,
             index: nb.index,
             tau: logit_adjust::DEFAULT_TAU,
+            path: neighbour_methods::PairPath::Chord,
         }
     }
 }

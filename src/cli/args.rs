@@ -6,7 +6,7 @@ use std::path::PathBuf;
 use clap::Args;
 
 use embloom::assess::{ExternalBudget, MethodId};
-use embloom::augment::{AugmentParams, MethodKind, Param, Target, UnitNorm};
+use embloom::augment::{AugmentParams, MethodKind, PairPath, Param, Target, UnitNorm};
 use embloom::io::ReadOptions;
 use embloom::neighbors::{IndexKind, Metric};
 
@@ -97,6 +97,9 @@ pub struct MethodArgs {
     #[arg(long, default_value_t = AugmentParams::default().tau, value_name = "T",
           help = param_help(Param::Tau, "Scale τ of the shift by −τ·log(class prior) of the linear probe's scores"))]
     pub tau: f64,
+    #[arg(long, default_value = "chord", value_parser = parse_path,
+          help = param_help(Param::Path, "Path from a row to its neighbour: chord (the straight segment), or sphere (the great circle, Shoemake 1985; needs unit-norm rows or --unit-norm on)"))]
+    pub path: PairPath,
     /// Make classes a method cannot grow (e.g. a single row) an error instead of a warning.
     #[arg(long)]
     pub strict: bool,
@@ -115,6 +118,7 @@ impl MethodArgs {
             strict: self.strict,
             index: self.neighbour_index,
             tau: self.tau,
+            path: self.path,
         }
     }
 }
@@ -246,6 +250,7 @@ const FLAGS: &[(&str, &str, &str)] = &[
     ("neighbour-index", "--neighbour-index", ""),
     ("strict", "--strict", ""),
     ("tau", "--tau", ""),
+    ("path", "--path", ""),
     ("unit-norm", "--unit-norm", ""),
     ("probes", "--probes", ""),
     ("folds", "--folds", ""),
@@ -358,6 +363,9 @@ pub fn method_help() -> String {
 }
 
 pub fn parse_method(s: &str) -> Result<MethodKind, String> {
+    s.parse().map_err(|e: embloom::Error| error_text(&e))
+}
+pub fn parse_path(s: &str) -> Result<PairPath, String> {
     s.parse().map_err(|e: embloom::Error| error_text(&e))
 }
 pub fn parse_unit_norm(s: &str) -> Result<UnitNorm, String> {

@@ -14,6 +14,7 @@ mod assess_probe_side;
 mod assess_sweep;
 mod augment_methods;
 mod augment_rows;
+mod augment_sphere;
 mod eval_diagnostics;
 mod eval_interval;
 mod eval_metrics;
