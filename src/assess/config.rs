@@ -271,7 +271,11 @@ pub struct AugmentRecord {
     pub neighbours: usize,
     /// The path interpolate and extrapolate place rows on.
     pub path: PairPath,
+    /// k of calibrated.
+    pub borrowed_classes: usize,
     pub strict: bool,
+    /// λ of calibrated's Tukey transform, `null` when off.
+    pub tukey: Option<f64>,
     /// τ of logit-adjust.
     pub tau: f64,
     #[serde(serialize_with = "f32_spelled")]
@@ -329,7 +333,9 @@ impl ResultsConfig {
                 metric: a.metric,
                 neighbours: a.neighbours,
                 path: a.path,
+                borrowed_classes: a.borrowed_classes,
                 strict: a.strict,
+                tukey: a.tukey,
                 tau: a.tau,
                 variance_kept: a.variance_kept,
             },

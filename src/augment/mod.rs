@@ -12,6 +12,7 @@ mod plan;
 mod unit_norm;
 
 pub use assemble::{assemble, grow_dataset};
+pub use calibrated::{lender_bytes, parse_tukey};
 pub use grow::{Grown, describe_notes, grow};
 pub use neighbour_methods::{NeighbourParams, PairPath};
 pub use params::{AugmentParams, MethodParams, Param, ParamGuard};
@@ -88,6 +89,7 @@ methods! {
     Borderline => borderline, "borderline", "Borderline-SMOTE1: SMOTE from rows in danger only (Han et al. 2005)", BorderlineParams, BorderlineValidParams;
     Adaptive => adaptive, "adaptive", "ADASYN: more rows from rows near other classes (He et al. 2008)", AdaptiveParams, AdaptiveValidParams;
     Reweight => reweight, "reweight", "no rows: probes weigh classes by n / (C·n_c) (King & Zeng 2001)", ReweightParams, ReweightValidParams;
+    Calibrated => calibrated, "calibrated", "Gaussian draws with statistics borrowed from the nearest populous classes (Yang et al. 2021)", CalibratedParams, CalibratedValidParams;
     LogitAdjust => logit_adjust, "logit-adjust", "no rows: linear scores shifted by −τ·log prior (Menon et al. 2021)", LogitAdjustParams, LogitAdjustValidParams;
 }
 

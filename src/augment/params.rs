@@ -10,7 +10,7 @@ use std::fmt;
 pub use linfa::ParamGuard;
 use serde::Serialize;
 
-use super::{Augmenter, logit_adjust, neighbour_methods, principal_noise};
+use super::{Augmenter, calibrated, logit_adjust, neighbour_methods, principal_noise};
 use crate::error::{Error, Result};
 use crate::neighbors::{IndexKind, Metric};
 
@@ -34,6 +34,10 @@ pub enum Param {
     Tau,
     /// The path between a row and its partner: the chord, or the great circle on the sphere.
     Path,
+    /// k of calibrated: how many well-populated classes lend their mean and covariance.
+    BorrowedClasses,
+    /// λ of Tukey's ladder of powers in calibrated, or off.
+    Tukey,
 }
 
 impl Param {
@@ -48,6 +52,8 @@ impl Param {
             Param::Strict => "strict",
             Param::Tau => "tau",
             Param::Path => "path",
+            Param::BorrowedClasses => "borrowed-classes",
+            Param::Tukey => "tukey",
         }
     }
 }
@@ -79,6 +85,10 @@ pub struct AugmentParams {
     pub tau: f64,
     /// The path interpolate and extrapolate place rows on (default the chord).
     pub path: neighbour_methods::PairPath,
+    /// k of calibrated (default 2, Yang et al. 2021).
+    pub borrowed_classes: usize,
+    /// λ of calibrated's Tukey transform; `None` (the default) leaves features as they are.
+    pub tukey: Option<f64>,
 }
 
 impl Default for AugmentParams {
@@ -93,6 +103,8 @@ impl Default for AugmentParams {
             index: nb.index,
             tau: logit_adjust::DEFAULT_TAU,
             path: neighbour_methods::PairPath::Chord,
+            borrowed_classes: calibrated::DEFAULT_BORROWED_CLASSES,
+            tukey: None,
         }
     }
 }

@@ -12,6 +12,7 @@ mod assess_intervals;
 mod assess_leakage;
 mod assess_probe_side;
 mod assess_sweep;
+mod augment_calibrated;
 mod augment_methods;
 mod augment_rows;
 mod augment_sphere;
