@@ -93,8 +93,9 @@ fn assess_and_sweep_run_calibrated() {
         rows.iter()
             .all(|r| r["mean"].as_f64().is_some_and(f64::is_finite))
     );
-    let text = stdout(&o);
-    assert!(text.contains(r#""borrowed_classes":2"#), "{text}");
+    let augment = &v["config"]["augment"];
+    assert_eq!(augment["borrowed_classes"], 2, "{augment}");
+    assert!(augment["tukey"].is_null());
     for (knob, values) in [("borrowed-classes", "1,2"), ("magnitude", "0.05,0.21")] {
         let mut args = vec![
             "sweep",

@@ -29,8 +29,8 @@ fn sphere_blobs(sizes: &[usize], d: usize, scale: f64) -> Dataset {
                 })
                 .collect();
             let norm = v.iter().map(|a| a * a).sum::<f64>().sqrt();
-            for j in 0..d {
-                x[[i, j]] = (scale * v[j] / norm) as f32;
+            for (j, vj) in v.iter().enumerate() {
+                x[[i, j]] = (scale * vj / norm) as f32;
             }
             labels.push(c as u32);
             i += 1;
@@ -51,12 +51,19 @@ fn norm(a: &[f64]) -> f64 {
     a.iter().map(|v| v * v).sum::<f64>().sqrt()
 }
 
+/// The angle between `a` and `b` as 2·atan2(|â − b̂|, |â + b̂|), accurate at small angles
+/// too (acos of the cosine loses half the digits there).
 fn angle(a: &[f64], b: &[f64]) -> f64 {
-    let c = a.iter().zip(b).map(|(x, y)| x * y).sum::<f64>() / (norm(a) * norm(b));
-    c.clamp(-1.0, 1.0).acos()
+    let (na, nb) = (norm(a), norm(b));
+    let (mut diff, mut sum) = (0.0, 0.0);
+    for (x, y) in a.iter().zip(b) {
+        diff += (x / na - y / nb).powi(2);
+        sum += (x / na + y / nb).powi(2);
+    }
+    2.0 * diff.sqrt().atan2(sum.sqrt())
 }
 
-/// Shoemake's slerp, written out with acos (independent of the library's atan2 form).
+/// Shoemake's slerp, written out from the formula.
 fn slerp(x: &[f64], n: &[f64], t: f64) -> Vec<f64> {
     let (xu, nu): (Vec<f64>, Vec<f64>) = (
         x.iter().map(|v| v / norm(x)).collect(),
