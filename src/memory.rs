@@ -86,6 +86,16 @@ impl Estimate {
         self
     }
 
+    /// Add calibrated's statistics of the lending classes (`lender_rows`: each lender's
+    /// training rows; [`crate::augment::lender_bytes`]): a factor of each covariance in
+    /// place of the d × d matrix, and `workers` PCA fits at once.
+    pub fn with_lenders(mut self, lender_rows: &[usize], dims: usize, workers: usize) -> Estimate {
+        let bytes = crate::augment::lender_bytes(lender_rows, dims, workers);
+        self.parts.push(("borrowed covariances".into(), bytes));
+        self.bytes += bytes;
+        self
+    }
+
     /// "120 MiB (matrix 80 MiB, synthetic rows 40 MiB)".
     pub fn describe(&self) -> String {
         let parts: Vec<String> = self

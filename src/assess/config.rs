@@ -8,7 +8,7 @@ use serde::ser::SerializeMap;
 use serde::{Serialize, Serializer};
 
 use super::method_id::MethodId;
-use crate::augment::{AugmentParams, MethodKind, Target, UnitNorm};
+use crate::augment::{AugmentParams, MethodKind, PairPath, Target, UnitNorm};
 use crate::error::{Error, Result};
 use crate::eval::interval::IntervalKind;
 use crate::neighbors::{IndexKind, Metric as NeighbourMetric};
@@ -269,7 +269,13 @@ pub struct AugmentRecord {
     pub magnitude: MagnitudeRecord,
     pub metric: NeighbourMetric,
     pub neighbours: usize,
+    /// The path interpolate and extrapolate place rows on.
+    pub path: PairPath,
+    /// k of calibrated.
+    pub borrowed_classes: usize,
     pub strict: bool,
+    /// λ of calibrated's Tukey transform, `null` when off.
+    pub tukey: Option<f64>,
     /// τ of logit-adjust.
     pub tau: f64,
     #[serde(serialize_with = "f32_spelled")]
@@ -326,7 +332,10 @@ impl ResultsConfig {
                 magnitude,
                 metric: a.metric,
                 neighbours: a.neighbours,
+                path: a.path,
+                borrowed_classes: a.borrowed_classes,
                 strict: a.strict,
+                tukey: a.tukey,
                 tau: a.tau,
                 variance_kept: a.variance_kept,
             },

@@ -29,16 +29,22 @@ pub enum Knob {
     VarianceKept,
     /// τ of logit-adjust, a number of at least 0.
     Tau,
+    /// k of calibrated, a whole number of at least 1.
+    BorrowedClasses,
+    /// λ of calibrated's Tukey transform, a positive number or `off`.
+    Tukey,
 }
 
 impl Knob {
     /// Every knob, in the order help text lists them.
-    pub const ALL: [Knob; 5] = [
+    pub const ALL: [Knob; 7] = [
         Knob::Magnitude,
         Knob::Neighbours,
         Knob::Target,
         Knob::VarianceKept,
         Knob::Tau,
+        Knob::BorrowedClasses,
+        Knob::Tukey,
     ];
 
     /// The knob's name, as results.json writes it and parameter errors name it.
@@ -49,6 +55,8 @@ impl Knob {
             Knob::Target => "target",
             Knob::VarianceKept => "variance-kept",
             Knob::Tau => "tau",
+            Knob::BorrowedClasses => "borrowed-classes",
+            Knob::Tukey => "tukey",
         }
     }
 
@@ -60,6 +68,8 @@ impl Knob {
             Knob::Target => None,
             Knob::VarianceKept => Some(Param::VarianceKept),
             Knob::Tau => Some(Param::Tau),
+            Knob::BorrowedClasses => Some(Param::BorrowedClasses),
+            Knob::Tukey => Some(Param::Tukey),
         }
     }
 
@@ -96,6 +106,10 @@ impl Knob {
                 c.augment.variance_kept = value.parse().map_err(|_| bad("a number"))?
             }
             Knob::Tau => c.augment.tau = value.parse().map_err(|_| bad("a number"))?,
+            Knob::BorrowedClasses => {
+                c.augment.borrowed_classes = value.parse().map_err(|_| bad("a whole number"))?
+            }
+            Knob::Tukey => c.augment.tukey = augment::parse_tukey(value)?,
         }
         Ok(c)
     }

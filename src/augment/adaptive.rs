@@ -8,7 +8,7 @@
 //! to the class's budget G and need no random draw.
 
 use super::cross_class::other_class_counts;
-use super::neighbour_methods::{self, Bases, NeighbourParams, Segment};
+use super::neighbour_methods::{self, Bases, NeighbourParams, PairPath, Segment};
 use super::params::{AugmentParams, MethodParams, Param, ParamGuard};
 use super::{Augmenter, FitNote, FittedAugmenter, MethodKind};
 use crate::data::Dataset;
@@ -79,6 +79,6 @@ impl Augmenter for AdaptiveValidParams {
             let r = others.iter().map(|&o| o as f64 / used as f64).collect();
             Ok((Bases::Shares(r), Vec::new()))
         };
-        neighbour_methods::fit_with_bases(Segment(MethodKind::Adaptive), &self.neighbours, train, classes, bases)
+        neighbour_methods::fit_with_bases(Segment(MethodKind::Adaptive, PairPath::Chord), &self.neighbours, train, classes, bases)
     }
 }

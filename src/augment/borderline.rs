@@ -5,7 +5,7 @@
 //! rows, as in interpolate. Growing only the boundary aims the new rows where a probe errs.
 
 use super::cross_class::other_class_counts;
-use super::neighbour_methods::{self, Bases, NeighbourParams, Segment};
+use super::neighbour_methods::{self, Bases, NeighbourParams, PairPath, Segment};
 use super::params::{AugmentParams, MethodParams, Param, ParamGuard};
 use super::{Augmenter, FitNote, FittedAugmenter, MethodKind};
 use crate::data::Dataset;
@@ -120,6 +120,6 @@ impl Augmenter for BorderlineValidParams {
             }
             Ok((Bases::Among(danger), notes))
         };
-        neighbour_methods::fit_with_bases(Segment(MethodKind::Borderline), &self.neighbours, train, classes, bases)
+        neighbour_methods::fit_with_bases(Segment(MethodKind::Borderline, PairPath::Chord), &self.neighbours, train, classes, bases)
     }
 }

@@ -1,8 +1,10 @@
 //! `extrapolate` (DeVries & Taylor 2017): a synthetic row is pushed from a real row x *away*
 //! from one of its K nearest same-class neighbours n: x + λ·(x − n), λ fixed (default 0.5).
 //! Unlike interpolation it can reach past the class hull, towards where the class may extend.
+//! On unit-norm embeddings the push can follow the sphere instead ([`PairPath::Sphere`]): the
+//! row at angle λ·θ from x on the great circle through x and n, on the side away from n.
 
-use super::neighbour_methods::{self, NeighbourParams, PairRule};
+use super::neighbour_methods::{self, NeighbourParams, PairPath, PairRule};
 use super::params::{AugmentParams, MethodParams, Param, ParamGuard, check_magnitude};
 use super::{Augmenter, FittedAugmenter, MethodKind};
 use crate::data::Dataset;
@@ -21,6 +23,7 @@ pub struct ExtrapolateParams(ExtrapolateValidParams);
 pub struct ExtrapolateValidParams {
     neighbours: NeighbourParams,
     lambda: f32,
+    path: PairPath,
 }
 
 impl Default for ExtrapolateValidParams {
@@ -28,6 +31,7 @@ impl Default for ExtrapolateValidParams {
         ExtrapolateValidParams {
             neighbours: NeighbourParams::default(),
             lambda: DEFAULT_LAMBDA,
+            path: PairPath::Chord,
         }
     }
 }
@@ -43,6 +47,12 @@ impl ExtrapolateParams {
     /// distance (greater than 0).
     pub fn lambda(mut self, lambda: f32) -> Self {
         self.0.lambda = lambda;
+        self
+    }
+
+    /// Set the path the row is pushed along: the chord's line or the great circle.
+    pub fn path(mut self, path: PairPath) -> Self {
+        self.0.path = path;
         self
     }
 }
@@ -77,6 +87,7 @@ impl MethodParams for ExtrapolateParams {
         Param::NeighbourMetric,
         Param::NeighbourIndex,
         Param::Strict,
+        Param::Path,
     ];
     const DEFAULT_MAGNITUDE: Option<f32> = Some(DEFAULT_LAMBDA);
 
@@ -84,13 +95,15 @@ impl MethodParams for ExtrapolateParams {
         ExtrapolateParams::default()
             .neighbours(NeighbourParams::from_shared(shared))
             .lambda(shared.magnitude.unwrap_or(DEFAULT_LAMBDA))
+            .path(shared.path)
     }
 }
 
-/// x + λ·(x − n) with the one fixed λ.
+/// x + λ·(x − n) with the one fixed λ: the point at t = −λ on the path from x to n.
 #[derive(Clone, Copy)]
 struct Away {
     lambda: f32,
+    path: PairPath,
 }
 
 impl PairRule for Away {
@@ -102,8 +115,12 @@ impl PairRule for Away {
         self.lambda
     }
 
-    fn combine(l: f32, a: f32, b: f32) -> f32 {
-        a + l * (a - b)
+    fn position(l: f32) -> f32 {
+        -l
+    }
+
+    fn path(&self) -> PairPath {
+        self.path
     }
 }
 
@@ -115,7 +132,15 @@ impl Augmenter for ExtrapolateValidParams {
     fn fit(&self, train: &Dataset, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
         let rule = Away {
             lambda: self.lambda,
+            path: self.path,
         };
         neighbour_methods::fit(rule, &self.neighbours, train, classes)
+    }
+
+    fn check_input(&self, train: &Dataset, unit_norm: bool) -> Result<()> {
+        match self.path {
+            PairPath::Chord => Ok(()),
+            PairPath::Sphere => neighbour_methods::check_sphere_input(self.kind(), train, unit_norm),
+        }
     }
 }

@@ -51,6 +51,7 @@ pub fn grow(
         ));
     }
     let classes = plan.grown_classes();
+    method.check_input(train, unit_norm)?;
     let fitted = method.fit(train, &classes)?;
     let drawn: Vec<(u32, Synthetic)> = classes
         .par_iter()

@@ -13,8 +13,9 @@ mod stream;
 mod unit_norm;
 
 pub use assemble::{assemble, grow_dataset};
+pub use calibrated::{lender_bytes, parse_tukey};
 pub use grow::{Grown, describe_notes, grow};
-pub use neighbour_methods::NeighbourParams;
+pub use neighbour_methods::{NeighbourParams, PairPath};
 pub use params::{AugmentParams, MethodParams, Param, ParamGuard};
 pub use plan::{Plan, Target, class_indices, plan_for};
 pub use stream::{
@@ -92,6 +93,7 @@ methods! {
     Borderline => borderline, "borderline", "Borderline-SMOTE1: SMOTE from rows in danger only (Han et al. 2005)", BorderlineParams, BorderlineValidParams;
     Adaptive => adaptive, "adaptive", "ADASYN: more rows from rows near other classes (He et al. 2008)", AdaptiveParams, AdaptiveValidParams;
     Reweight => reweight, "reweight", "no rows: probes weigh classes by n / (C·n_c) (King & Zeng 2001)", ReweightParams, ReweightValidParams;
+    Calibrated => calibrated, "calibrated", "Gaussian draws with statistics borrowed from the nearest populous classes (Yang et al. 2021)", CalibratedParams, CalibratedValidParams;
     LogitAdjust => logit_adjust, "logit-adjust", "no rows: linear scores shifted by −τ·log prior (Menon et al. 2021)", LogitAdjustParams, LogitAdjustValidParams;
 }
 
@@ -199,6 +201,12 @@ pub trait Augmenter: Send + Sync {
     fn kind(&self) -> MethodKind;
     /// Fit on the real rows of `train`, for the classes listed in `classes` only.
     fn fit(&self, train: &Dataset, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>>;
+    /// Refuse `train` before fitting when the method's rule does not hold for it given whether
+    /// synthetic rows will be renormalised (`unit_norm`): the sphere path needs unit-norm rows
+    /// or renormalisation. Most methods accept any rows.
+    fn check_input(&self, _train: &Dataset, _unit_norm: bool) -> Result<()> {
+        Ok(())
+    }
 }
 
 /// A method fitted on real training rows.

@@ -2,11 +2,17 @@
 //! index, strict) and its check, the same-class neighbour lists (for every real row of a class,
 //! its K nearest other rows of that class, by exact search or the approximate k-d tree), the
 //! draw of a (base row, partner) pair, and the fit and sampling loop around it. A neighbour
-//! method only supplies its [`PairRule`]: how a drawn pair becomes one synthetic value, and,
-//! if it does not draw base rows uniformly, its [`Bases`] (borderline, adaptive).
+//! method only supplies its [`PairRule`]: where on the line through a drawn pair the synthetic
+//! row lies, and, if it does not draw base rows uniformly, its [`Bases`] (borderline, adaptive).
+//! The line is the chord between the two rows, or, with [`PairPath::Sphere`], the great circle
+//! through them (for unit-norm embeddings).
 
-use ndarray::{Array2, ArrayView1, Axis};
+use std::fmt;
+use std::str::FromStr;
+
+use ndarray::{Array2, ArrayView1, ArrayViewMut1, Axis};
 use rand::Rng as _;
+use serde::Serialize;
 
 use super::class_fit::{ClassFit, PerClass};
 use super::params::{AugmentParams, Param};
@@ -71,20 +77,147 @@ impl NeighbourParams {
     }
 }
 
+/// The line a synthetic row is placed on between a base row x and its partner n.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum PairPath {
+    /// The straight segment x + t·(n − x) (SMOTE's rule).
+    #[default]
+    Chord,
+    /// The great circle through x and n on the unit sphere: spherical linear interpolation
+    /// (Shoemake 1985), slerp(x, n; t) = sin((1 − t)θ)/sin θ · x + sin(tθ)/sin θ · n with θ
+    /// the angle between them. The row keeps norm 1 and lies at angle |t|·θ from x, where the
+    /// chord would cut inside the sphere (its midpoint between rows 90° apart has norm 0.71).
+    Sphere,
+}
+
+impl PairPath {
+    /// The path's name, as results and parameter values spell it.
+    pub fn name(self) -> &'static str {
+        match self {
+            PairPath::Chord => "chord",
+            PairPath::Sphere => "sphere",
+        }
+    }
+
+    /// Write the point at `t` on this path from `x` (t = 0) towards `n` (t = 1) into `out`;
+    /// t < 0 goes away from n. Computed in f64.
+    pub(super) fn place(
+        self,
+        t: f32,
+        x: ArrayView1<f32>,
+        n: ArrayView1<f32>,
+        out: ArrayViewMut1<f32>,
+    ) {
+        match self {
+            PairPath::Chord => {
+                for ((o, &a), &b) in out.into_iter().zip(x).zip(n) {
+                    *o = a + t * (b - a);
+                }
+            }
+            PairPath::Sphere => slerp(f64::from(t), x, n, out),
+        }
+    }
+}
+
+/// Spherical linear interpolation (Shoemake 1985) between the directions of `x` and `n`. The
+/// angle is taken as θ = 2·atan2(|x̂ − n̂|, |x̂ + n̂|), accurate for rows nearly equal and
+/// nearly opposite alike. When sin θ vanishes (equal or opposite directions) the great circle
+/// is not defined by the pair, so the chord point is used, rescaled to norm 1 (a zero point,
+/// possible only for exactly opposite rows at t = ½, is left as x̂).
+fn slerp(t: f64, x: ArrayView1<f32>, n: ArrayView1<f32>, mut out: ArrayViewMut1<f32>) {
+    let norm = |v: ArrayView1<f32>| v.iter().map(|&a| f64::from(a).powi(2)).sum::<f64>().sqrt();
+    let (nx, nn) = (norm(x), norm(n));
+    let (nx, nn) = (
+        if nx > 0.0 { nx } else { 1.0 },
+        if nn > 0.0 { nn } else { 1.0 },
+    );
+    let (mut diff, mut sum) = (0.0f64, 0.0f64);
+    for (&a, &b) in x.iter().zip(n) {
+        let (a, b) = (f64::from(a) / nx, f64::from(b) / nn);
+        diff += (a - b).powi(2);
+        sum += (a + b).powi(2);
+    }
+    let theta = 2.0 * diff.sqrt().atan2(sum.sqrt());
+    let s = theta.sin();
+    let (wa, wb) = if s > 1e-9 {
+        (((1.0 - t) * theta).sin() / s, (t * theta).sin() / s)
+    } else {
+        (1.0 - t, t)
+    };
+    let point = |a: f32, b: f32| wa * f64::from(a) / nx + wb * f64::from(b) / nn;
+    let len = x
+        .iter()
+        .zip(n)
+        .map(|(&a, &b)| point(a, b).powi(2))
+        .sum::<f64>()
+        .sqrt();
+    for ((o, &a), &b) in out.iter_mut().zip(x).zip(n) {
+        *o = if len > 0.0 {
+            (point(a, b) / len) as f32
+        } else {
+            (f64::from(a) / nx) as f32
+        };
+    }
+}
+
+impl fmt::Display for PairPath {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(self.name())
+    }
+}
+
+impl FromStr for PairPath {
+    type Err = Error;
+    fn from_str(s: &str) -> Result<Self> {
+        match s {
+            "chord" => Ok(PairPath::Chord),
+            "sphere" => Ok(PairPath::Sphere),
+            _ => Err(Error::param(
+                Param::Path.name(),
+                format!("'{s}' is not a path"),
+                "use chord (the straight segment) or sphere (the great circle, for unit-norm rows)",
+            )),
+        }
+    }
+}
+
+/// Refuse the sphere path on rows that are not unit-norm, unless synthetic rows are
+/// renormalised (`unit_norm`): the great circle is a path between directions, and a row of
+/// another length would come back with norm 1, silently unlike the real rows beside it.
+pub(super) fn check_sphere_input(kind: MethodKind, train: &Dataset, unit_norm: bool) -> Result<()> {
+    if unit_norm {
+        return Ok(());
+    }
+    match crate::data::first_not_unit_norm(train.view()) {
+        None => Ok(()),
+        Some((row, norm)) => Err(Error::param(
+            Param::Path.name(),
+            format!(
+                "{kind} along the sphere needs unit-norm rows, but training row {row} has norm {norm:.4}"
+            ),
+            "normalise the embeddings to unit norm, turn on renormalisation of synthetic rows (`unit-norm`), or use the chord path",
+        )),
+    }
+}
+
 /// How a neighbour method turns a drawn pair (x, n) into a synthetic row.
 pub(super) trait PairRule: Copy + Send + Sync + 'static {
     /// The method the rule belongs to (one rule may serve several, which differ in their bases).
     fn kind(&self) -> MethodKind;
     /// The row's weight, drawn (if at all) after its pair, so the draw order is fixed.
     fn weight(&self, rng: &mut Rng) -> f32;
-    /// One coordinate of the synthetic row from x's coordinate `a` and n's `b`.
-    fn combine(w: f32, a: f32, b: f32) -> f32;
+    /// Where the row lies for weight `w`, as t on the path from x (t = 0) to n (t = 1).
+    fn position(w: f32) -> f32;
+    /// The path the row is placed on.
+    fn path(&self) -> PairPath;
 }
 
 /// SMOTE's rule (Chawla et al. 2002), shared by every method that interpolates: u ~ U(0,1)
-/// per row, then x + u·(n − x). The methods using it differ only in their [`Bases`].
+/// per row, then x + u·(n − x) (or, on the sphere, the point at angle u·θ from x towards n).
+/// The methods using it differ only in their [`Bases`].
 #[derive(Clone, Copy)]
-pub(super) struct Segment(pub MethodKind);
+pub(super) struct Segment(pub MethodKind, pub PairPath);
 
 impl PairRule for Segment {
     fn kind(&self) -> MethodKind {
@@ -95,8 +228,12 @@ impl PairRule for Segment {
         rng.r#gen()
     }
 
-    fn combine(u: f32, a: f32, b: f32) -> f32 {
-        a + u * (b - a)
+    fn position(u: f32) -> f32 {
+        u
+    }
+
+    fn path(&self) -> PairPath {
+        self.1
     }
 }
 
@@ -185,6 +322,7 @@ impl<R: PairRule> FittedAugmenter for FittedPairs<R> {
             return Ok(self.per_class.empty());
         };
         let mut x = Array2::<f32>::zeros((n, nb.dims()));
+        let path = self.rule.path();
         let mut provenance = Vec::with_capacity(n);
         let schedule: Option<Vec<usize>> = match &nb.bases {
             Bases::Shares(w) => Some(
@@ -204,9 +342,7 @@ impl<R: PairRule> FittedAugmenter for FittedPairs<R> {
             };
             let pair = nb.pair(base, rng);
             let w = self.rule.weight(rng);
-            for ((o, &a), &b) in out.iter_mut().zip(pair.x).zip(pair.n) {
-                *o = R::combine(w, a, b);
-            }
+            path.place(R::position(w), pair.x, pair.n, out.view_mut());
             provenance.push(Provenance {
                 parent: pair.parent,
                 partner: Some(pair.partner),

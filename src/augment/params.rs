@@ -10,7 +10,7 @@ use std::fmt;
 pub use linfa::ParamGuard;
 use serde::Serialize;
 
-use super::{Augmenter, logit_adjust, neighbour_methods, principal_noise};
+use super::{Augmenter, calibrated, logit_adjust, neighbour_methods, principal_noise};
 use crate::error::{Error, Result};
 use crate::neighbors::{IndexKind, Metric};
 
@@ -32,6 +32,12 @@ pub enum Param {
     Strict,
     /// τ of logit-adjust, the scale of the shift by the log class prior.
     Tau,
+    /// The path between a row and its partner: the chord, or the great circle on the sphere.
+    Path,
+    /// k of calibrated: how many well-populated classes lend their mean and covariance.
+    BorrowedClasses,
+    /// λ of Tukey's ladder of powers in calibrated, or off.
+    Tukey,
 }
 
 impl Param {
@@ -45,6 +51,9 @@ impl Param {
             Param::NeighbourIndex => "neighbour-index",
             Param::Strict => "strict",
             Param::Tau => "tau",
+            Param::Path => "path",
+            Param::BorrowedClasses => "borrowed-classes",
+            Param::Tukey => "tukey",
         }
     }
 }
@@ -74,6 +83,12 @@ pub struct AugmentParams {
     pub index: IndexKind,
     /// τ of logit-adjust (default 1, Menon et al. 2021).
     pub tau: f64,
+    /// The path interpolate and extrapolate place rows on (default the chord).
+    pub path: neighbour_methods::PairPath,
+    /// k of calibrated (default 2, Yang et al. 2021).
+    pub borrowed_classes: usize,
+    /// λ of calibrated's Tukey transform; `None` (the default) leaves features as they are.
+    pub tukey: Option<f64>,
 }
 
 impl Default for AugmentParams {
@@ -87,6 +102,9 @@ impl Default for AugmentParams {
             strict: false,
             index: nb.index,
             tau: logit_adjust::DEFAULT_TAU,
+            path: neighbour_methods::PairPath::Chord,
+            borrowed_classes: calibrated::DEFAULT_BORROWED_CLASSES,
+            tukey: None,
         }
     }
 }

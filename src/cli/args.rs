@@ -6,7 +6,7 @@ use std::path::PathBuf;
 use clap::Args;
 
 use embloom::assess::{ExternalBudget, MethodId};
-use embloom::augment::{AugmentParams, MethodKind, Param, Target, UnitNorm};
+use embloom::augment::{AugmentParams, MethodKind, PairPath, Param, Target, UnitNorm};
 use embloom::io::ReadOptions;
 use embloom::neighbors::{IndexKind, Metric};
 
@@ -99,6 +99,15 @@ pub struct MethodArgs {
     #[arg(long, default_value_t = AugmentParams::default().tau, value_name = "T",
           help = param_help(Param::Tau, "Scale τ of the shift by −τ·log(class prior) of the linear probe's scores"))]
     pub tau: f64,
+    #[arg(long, default_value = "chord", value_parser = parse_path,
+          help = param_help(Param::Path, "Path from a row to its neighbour: chord (the straight segment), or sphere (the great circle, Shoemake 1985; needs unit-norm rows or --unit-norm on)"))]
+    pub path: PairPath,
+    #[arg(long, default_value_t = AugmentParams::default().borrowed_classes, value_name = "K",
+          help = param_help(Param::BorrowedClasses, "Classes (not grown, 2 or more rows) whose mean and covariance calibrated borrows for each base row"))]
+    pub borrowed_classes: usize,
+    #[arg(long, default_value = "off", value_name = "off|L", value_parser = parse_tukey,
+          help = param_help(Param::Tukey, "Tukey's ladder of powers x^L before calibrating (the paper's L is 0.5), for non-negative features only; off leaves features as they are"))]
+    pub tukey: TukeySetting,
     /// Make classes a method cannot grow (e.g. a single row) an error instead of a warning.
     #[arg(long)]
     pub strict: bool,
@@ -117,6 +126,9 @@ impl MethodArgs {
             strict: self.strict,
             index: self.neighbour_index,
             tau: self.tau,
+            path: self.path,
+            borrowed_classes: self.borrowed_classes,
+            tukey: self.tukey.0,
         }
     }
 }
@@ -248,6 +260,9 @@ const FLAGS: &[(&str, &str, &str)] = &[
     ("neighbour-index", "--neighbour-index", ""),
     ("strict", "--strict", ""),
     ("tau", "--tau", ""),
+    ("path", "--path", ""),
+    ("borrowed-classes", "--borrowed-classes", ""),
+    ("tukey", "--tukey", ""),
     ("unit-norm", "--unit-norm", ""),
     ("probes", "--probes", ""),
     ("folds", "--folds", ""),
@@ -361,6 +376,19 @@ pub fn method_help() -> String {
 
 pub fn parse_method(s: &str) -> Result<MethodKind, String> {
     s.parse().map_err(|e: embloom::Error| error_text(&e))
+}
+pub fn parse_path(s: &str) -> Result<PairPath, String> {
+    s.parse().map_err(|e: embloom::Error| error_text(&e))
+}
+/// `--tukey`: off or a power. A type of its own, because clap reads an `Option` field as
+/// "flag absent or present", not as a value that may be off.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct TukeySetting(pub Option<f64>);
+
+pub fn parse_tukey(s: &str) -> Result<TukeySetting, String> {
+    embloom::augment::parse_tukey(s)
+        .map(TukeySetting)
+        .map_err(|e| error_text(&e))
 }
 pub fn parse_unit_norm(s: &str) -> Result<UnitNorm, String> {
     s.parse().map_err(|e: embloom::Error| error_text(&e))

@@ -324,6 +324,17 @@ fn check_memory(
         };
         est = est.with_pca(largest - largest / config.folds.max(2), ds.dims(), workers);
     }
+    if config.methods.contains(&MethodKind::Calibrated) {
+        let folds = config.folds.max(2);
+        let lenders: Vec<usize> = plan
+            .add
+            .iter()
+            .zip(ds.class_counts())
+            .filter(|(add, _)| **add == 0)
+            .map(|(_, count)| count - count / folds)
+            .collect();
+        est = est.with_lenders(&lenders, ds.dims(), rayon::current_num_threads());
+    }
     let est = est.with_fold_records(
         config.repeats.max(1)
             * config.folds.max(2)

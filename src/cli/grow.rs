@@ -169,7 +169,7 @@ impl GrowSummary {
 
 /// Refuses before growing when the job would not fit in memory.
 fn check_memory(ds: &embloom::Dataset, plan: &Plan, opts: &GrowOptions) -> Result<()> {
-    let est = embloom::memory::for_grow(
+    let mut est = embloom::memory::for_grow(
         &opts.input,
         ds.n_rows(),
         ds.dims(),
@@ -177,6 +177,16 @@ fn check_memory(ds: &embloom::Dataset, plan: &Plan, opts: &GrowOptions) -> Resul
         &opts.output,
         ds.float_type,
     );
+    if opts.method == MethodKind::Calibrated {
+        let lenders: Vec<usize> = plan
+            .add
+            .iter()
+            .zip(ds.class_counts())
+            .filter(|(add, _)| **add == 0)
+            .map(|(_, count)| count)
+            .collect();
+        est = est.with_lenders(&lenders, ds.dims(), rayon::current_num_threads());
+    }
     embloom::memory::check(
         &est,
         opts.max_memory,

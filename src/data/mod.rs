@@ -11,7 +11,7 @@ mod stats;
 pub use inspection::{ClassCount, Inspection};
 pub use labels::{RawLabels, encode_labels};
 pub use row_index::RowIndex;
-pub use stats::{DatasetStats, NonFinite, UNIT_NORM_TOL, is_unit_norm};
+pub use stats::{DatasetStats, NonFinite, UNIT_NORM_TOL, first_not_unit_norm, is_unit_norm};
 
 use ndarray::{Array2, ArrayView2, Axis};
 

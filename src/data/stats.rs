@@ -93,15 +93,20 @@ impl DatasetStats {
 
 /// Whether every row of `x` has unit euclidean norm within [`UNIT_NORM_TOL`].
 pub fn is_unit_norm(x: ndarray::ArrayView2<f32>) -> bool {
-    x.nrows() > 0
-        && x.rows().into_iter().all(|r| {
-            let n = r
-                .iter()
-                .map(|&v| f64::from(v) * f64::from(v))
-                .sum::<f64>()
-                .sqrt();
-            (n - 1.0).abs() <= UNIT_NORM_TOL
-        })
+    x.nrows() > 0 && first_not_unit_norm(x).is_none()
+}
+
+/// The first row of `x` whose euclidean norm is not 1 within [`UNIT_NORM_TOL`], with that
+/// norm (taken in f64), for an error that names the row.
+pub fn first_not_unit_norm(x: ndarray::ArrayView2<f32>) -> Option<(usize, f64)> {
+    x.rows().into_iter().enumerate().find_map(|(i, r)| {
+        let n = r
+            .iter()
+            .map(|&v| f64::from(v) * f64::from(v))
+            .sum::<f64>()
+            .sqrt();
+        ((n - 1.0).abs() > UNIT_NORM_TOL).then_some((i, n))
+    })
 }
 
 fn duplicate_rows(ds: &Dataset) -> usize {

@@ -220,6 +220,7 @@ fn parts(path: &Path, layout: &Layout, batch: &RecordBatch) -> Result<(Parts, St
         int_groups: groups.as_ref().is_some_and(|r| r.2),
         notes: layout.notes.clone(),
         carried: (!carried.columns.is_empty()).then_some(carried),
+        table: None,
     };
     let parts = Parts {
         x: matrix.x,

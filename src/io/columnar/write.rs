@@ -73,7 +73,7 @@ pub fn batch(
     let (lead, tail): (Vec<_>, Vec<_>) = export
         .columns
         .iter()
-        .partition(|(k, _)| !PROVENANCE.contains(k));
+        .partition(|(k, _)| !PROVENANCE.contains(&k.as_str()));
     let mut fields = Vec::new();
     let mut arrays: Vec<ArrayRef> = Vec::new();
     let mut add = |name: &str, a: ArrayRef| {
