@@ -37,6 +37,12 @@ pub fn not_applicable(method: &MethodId, probe: ProbeKind) -> Option<&'static st
         (Some(MethodKind::LogitAdjust), ProbeKind::Knn) => Some(
             "logit-adjust does not apply to the knn probe: a neighbour vote has no class scores to shift by the log prior, so its cells are left empty",
         ),
+        (Some(MethodKind::LogitAdjust), ProbeKind::Centroid) => Some(
+            "logit-adjust does not apply to the centroid probe: a nearest class mean has no class scores to shift by the log prior, so its cells are left empty",
+        ),
+        (Some(MethodKind::Reweight), ProbeKind::Centroid) => Some(
+            "reweight does not apply to the centroid probe: balanced weights are constant within a class, so they leave every class mean (and every prediction) as it was; its cells are left empty",
+        ),
         _ => None,
     }
 }

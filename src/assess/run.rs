@@ -23,8 +23,8 @@ use crate::eval::interval::TestOutcome;
 use crate::eval::metrics::{ece, grown_class_recall, log_loss, score};
 use crate::eval::protocol::{Fold, SplitKind, make_folds};
 use crate::neighbors::{self, Knn};
-use crate::probe::KnnProbe;
 use crate::probe::ProbeKind;
+use crate::probe::{CentroidProbe, KnnProbe};
 use crate::probe::{ClassWeight, LinearModel, LinearParams, LinearProbe, LogitAdjustment};
 use crate::seed;
 
@@ -319,6 +319,8 @@ pub(super) fn assess_reusing(
         .transpose()?;
     let unit_norm = cfg.unit_norm.resolve(ds.view());
     let knn_probe = KnnProbe::new(cfg.knn)?;
+    // The centroid probe compares rows under the k-NN metric, so both see one geometry.
+    let centroid_probe = CentroidProbe::new(cfg.knn.metric);
     let linear_probe = LinearProbe::new(cfg.linear)?;
     // reweight's linear probe: the same settings with balanced class weights.
     let balanced_probe = LinearProbe::new(LinearParams {
@@ -446,6 +448,17 @@ pub(super) fn assess_reusing(
                             model: None,
                         }
                     }
+                    (None, ProbeKind::Centroid) => Evaluated {
+                        pred: centroid_probe.predict(
+                            &[ctx.train.x.view(), grown.x.view()],
+                            &labels,
+                            ds.n_classes(),
+                            ctx.test.view(),
+                        )?,
+                        calibration: None,
+                        converged: None,
+                        model: None,
+                    },
                     (None, ProbeKind::Linear) => {
                         if let ProbeSide::LogitAdjust { tau } = side {
                             logit_adjusted(

@@ -15,17 +15,20 @@ pub enum ProbeKind {
     Knn,
     /// Multinomial logistic regression ([`crate::probe::LinearProbe`]).
     Linear,
+    /// Nearest class mean ([`crate::probe::CentroidProbe`]).
+    Centroid,
 }
 
 impl ProbeKind {
     /// Every probe, in the order reports list them.
-    pub const ALL: [ProbeKind; 2] = [ProbeKind::Knn, ProbeKind::Linear];
+    pub const ALL: [ProbeKind; 3] = [ProbeKind::Knn, ProbeKind::Linear, ProbeKind::Centroid];
 
     /// The name used on the command line and in outputs.
     pub fn name(self) -> &'static str {
         match self {
             ProbeKind::Knn => "knn",
             ProbeKind::Linear => "linear",
+            ProbeKind::Centroid => "centroid",
         }
     }
 }
@@ -81,6 +84,6 @@ mod tests {
         // Common practice, no source: the error must tell the user what to type instead.
         let msg = "svm".parse::<ProbeKind>().unwrap_err().to_string();
         assert!(msg.contains("'svm'"), "{msg}");
-        assert!(msg.contains("knn, linear"), "{msg}");
+        assert!(msg.contains("knn, linear, centroid"), "{msg}");
     }
 }

@@ -1,9 +1,11 @@
-//! Downstream probes: a k-NN classifier and a multinomial logistic regression.
+//! Downstream probes: a k-NN classifier, a multinomial logistic regression and a nearest-class-mean
+//! (prototype) classifier.
 //!
-//! Both are deliberately plain: their job is to measure how an augmentation moves a simple,
+//! All are deliberately plain: their job is to measure how an augmentation moves a simple,
 //! well-understood classifier, so every rule (vote, tie, loss, stopping) is fixed and documented
 //! rather than tuned.
 
+mod centroid;
 mod kind;
 mod knn;
 pub mod lbfgs;
@@ -14,6 +16,7 @@ mod logit_adjust;
 mod scaling;
 mod softmax_loss;
 
+pub use centroid::CentroidProbe;
 pub use kind::ProbeKind;
 pub use knn::{KnnParams, KnnProbe, Vote, inverse_class_counts};
 pub use linear::{ClassWeight, LinearParams, LinearProbe, class_weights};

@@ -169,3 +169,45 @@ fn a_separate_labels_file_is_named_with_its_sha256() {
         "report header names the labels file's hash"
     );
 }
+
+#[test]
+fn centroid_probe_runs_beside_knn_and_lists_its_rows() {
+    // Common practice, no source: `--probes knn,centroid` gives summary rows for both probes
+    // and every method, and the terminal table lists the centroid rows.
+    let dir = tempdir();
+    let input = p(dir.path(), "in.csv");
+    write_csv(&input, &[30, 12], 4, 8);
+    let f = input.to_str().unwrap();
+    let args = [
+        "assess",
+        f,
+        "--probes",
+        "knn,centroid",
+        "--methods",
+        "interpolate",
+        "--folds",
+        "3",
+        "--no-diagnostics",
+        "--quiet",
+    ];
+    let o = embloom(&args, &[]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let out = stdout(&o);
+    assert!(out.lines().any(|l| l.starts_with("centroid")), "{out}");
+    let mut json_args = args.to_vec();
+    json_args.push("--json");
+    let o = embloom(&json_args, &[]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+    assert_eq!(v["probes"], serde_json::json!(["knn", "centroid"]));
+    for method in ["none", "interpolate"] {
+        let row = v["summary"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|r| r["method"] == method && r["probe"] == "centroid")
+            .unwrap_or_else(|| panic!("no centroid row for {method}"));
+        assert_eq!(row["applies"], true, "{row}");
+        assert!(row["mean"].as_f64().unwrap().is_finite(), "{row}");
+    }
+}

@@ -31,6 +31,7 @@ mod io_table_text;
 mod knn_ties;
 mod neighbors_exact;
 mod pca_iris;
+mod probe_centroid;
 mod probe_digits;
 mod probe_reweight;
 mod report_render;
