@@ -98,7 +98,7 @@ impl AssessConfig {
             return Err(Error::param(
                 "probes",
                 "no probe given",
-                "use knn, linear or knn,linear",
+                "use one or more of knn, linear and centroid (knn,linear is the usual pair)",
             ));
         }
         self.probes.dedup();

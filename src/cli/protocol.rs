@@ -14,7 +14,7 @@ use embloom::probe::{KnnParams, Vote};
 /// The cross-validation protocol (shared by assess and sweep).
 #[derive(Args, Debug)]
 pub struct ProtocolArgs {
-    /// Probes: knn, linear.
+    /// Probes: knn, linear, centroid.
     #[arg(long, value_delimiter = ',', default_value = "knn,linear", value_parser = parse_probe)]
     pub probes: Vec<ProbeKind>,
     /// Number of folds (ignored when the file carries a fold assignment).
