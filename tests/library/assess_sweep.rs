@@ -1,5 +1,5 @@
 //! A sweep runs `none` and makes the folds once for all values; every point must still be
-//! exactly the assessment of that value against `none` (same bits), for both probes and for
+//! exactly the assessment of that value against `none` (same bits), for every probe and for
 //! knobs that change the grown classes (target) or only the rows (magnitude).
 
 use crate::common::value;
@@ -34,7 +34,7 @@ fn data() -> Dataset {
 fn config(method: MethodKind) -> AssessConfig {
     AssessConfig {
         methods: vec![MethodKind::None, method],
-        probes: vec![ProbeKind::Knn, ProbeKind::Linear],
+        probes: ProbeKind::ALL.to_vec(),
         folds: 3,
         repeats: 2,
         target: Target::Median,
