@@ -2,7 +2,9 @@
 //! none and change the probe instead: `reweight` (balanced row weights for the linear probe,
 //! a vote divided by class size for k-NN) and `logit-adjust` (the linear probe's scores
 //! shifted by −τ·log prior). Both run through the same folds as every method, so their
-//! differences against `none` are paired like any other.
+//! differences against `none` are paired like any other. Neither has a form for the centroid
+//! probe: a class mean carries no scores to shift, and balanced weights, constant within a
+//! class, leave every mean where it was.
 
 use super::method_id::MethodId;
 use crate::augment::{AugmentParams, MethodKind};
