@@ -6,6 +6,7 @@
 
 mod kind;
 mod knn;
+mod knn_standardize;
 pub mod lbfgs;
 mod linear;
 mod linear_model;
@@ -16,6 +17,7 @@ mod softmax_loss;
 
 pub use kind::ProbeKind;
 pub use knn::{KnnParams, KnnProbe, Vote, inverse_class_counts};
+pub use knn_standardize::KnnStandardizer;
 pub use linear::{ClassWeight, LinearParams, LinearProbe, class_weights};
 pub use linear_model::LinearModel;
 pub use linfa_estimators::FittedKnn;

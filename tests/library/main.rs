@@ -32,5 +32,6 @@ mod knn_ties;
 mod neighbors_exact;
 mod pca_iris;
 mod probe_digits;
+mod probe_knn_standardize;
 mod probe_reweight;
 mod report_render;
