@@ -446,6 +446,10 @@ mod tests {
         );
         assert!(text.contains(r#""temperature":0.07,"#), "{text}");
         assert!(
+            text.contains(r#""standardize":false,"temperature""#),
+            "{text}"
+        );
+        assert!(
             text.contains(r#""target":"x2","unit_norm":"auto"}"#),
             "{text}"
         );
