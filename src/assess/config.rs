@@ -295,6 +295,8 @@ pub enum MagnitudeRecord {
 pub struct KnnRecord {
     pub k: usize,
     pub metric: NeighbourMetric,
+    /// Whether features were standardised on each fold's real training rows.
+    pub standardize: bool,
     #[serde(serialize_with = "f32_spelled")]
     pub temperature: f64,
     pub vote: Vote,
@@ -347,6 +349,7 @@ impl ResultsConfig {
             knn: KnnRecord {
                 k: cfg.knn.k,
                 metric: cfg.knn.metric,
+                standardize: cfg.knn.standardize,
                 temperature: f64::from(cfg.knn.temperature),
                 vote: cfg.knn.vote,
             },
@@ -442,6 +445,10 @@ mod tests {
             "{text}"
         );
         assert!(text.contains(r#""temperature":0.07,"#), "{text}");
+        assert!(
+            text.contains(r#""standardize":false,"temperature""#),
+            "{text}"
+        );
         assert!(
             text.contains(r#""target":"x2","unit_norm":"auto"}"#),
             "{text}"

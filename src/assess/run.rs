@@ -346,11 +346,22 @@ pub(super) fn assess_reusing(
         } else {
             reuse.baselines.get(fi)
         };
+        // The k-NN probe's space: raw, or standardised on this fold's real training rows (the
+        // same for every method, so the real-row neighbours are searched once per fold).
+        let knn_space = cfg
+            .probes
+            .contains(&ProbeKind::Knn)
+            .then(|| knn_probe.standardizer(ctx.train.view()))
+            .flatten();
+        let knn_test = knn_space.as_ref().map(|s| s.apply(ctx.test.view()));
+        let knn_test_view = knn_test.as_ref().map_or(ctx.test.view(), |t| t.view());
         let real_knn = match reused {
             Some(b) => b.real_knn.clone(),
             None => cfg.probes.contains(&ProbeKind::Knn).then(|| {
                 work.test_real_knn_passes += 1;
-                neighbors::knn(ctx.test.view(), ctx.train.view(), cfg.knn.k, cfg.knn.metric)
+                let scaled = knn_space.as_ref().map(|s| s.apply(ctx.train.view()));
+                let train = scaled.as_ref().map_or(ctx.train.view(), |t| t.view());
+                neighbors::knn(knn_test_view, train, cfg.knn.k, cfg.knn.metric)
             }),
         };
         let guard = LeakGuard::new(&ctx.train, &ctx.test);
@@ -418,9 +429,10 @@ pub(super) fn assess_reusing(
                     (Some(e), _) => e.clone(),
                     (None, ProbeKind::Knn) => {
                         work.test_synthetic_knn_passes += usize::from(grown.x.nrows() > 0);
+                        let scaled = knn_space.as_ref().map(|s| s.apply(grown.x.view()));
                         let synthetic = neighbors::knn(
-                            ctx.test.view(),
-                            grown.x.view(),
+                            knn_test_view,
+                            scaled.as_ref().map_or(grown.x.view(), |g| g.view()),
                             cfg.knn.k,
                             cfg.knn.metric,
                         );

@@ -270,6 +270,7 @@ const FLAGS: &[(&str, &str, &str)] = &[
     ("max-memory", "--max-memory", ""),
     ("k", "--knn-k", ""),
     ("temperature", "--knn-temperature", ""),
+    ("knn-standardize", "--knn-standardize", ""),
     ("l2", "--linear-l2", ""),
     ("max_iter", "--linear-max-iter", ""),
     ("methods", "--methods", ""),

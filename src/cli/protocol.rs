@@ -35,6 +35,10 @@ pub struct ProtocolArgs {
     /// Temperature of the weighted vote (Wu et al. 2018 use 0.07).
     #[arg(long, default_value_t = 0.07)]
     pub knn_temperature: f32,
+    /// Standardise features for the k-NN probe (mean and standard deviation of each fold's
+    /// real training rows; off keeps raw distances).
+    #[arg(long, default_value = "off", value_parser = parse_on_off, action = clap::ArgAction::Set)]
+    pub knn_standardize: bool,
     /// L2 penalty λ of the linear probe (objective: mean cross-entropy + λ/2·‖W‖²).
     #[arg(long, default_value_t = 1e-4)]
     pub linear_l2: f64,
@@ -78,6 +82,7 @@ impl ProtocolArgs {
                 metric: self.knn_metric,
                 vote: self.knn_vote,
                 temperature: self.knn_temperature,
+                standardize: self.knn_standardize,
             },
             linear: LinearParams {
                 l2: self.linear_l2,

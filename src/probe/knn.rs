@@ -7,6 +7,8 @@ use serde::{Deserialize, Serialize};
 use crate::error::{Error, Result};
 use crate::neighbors::{self, Knn, Metric};
 
+use super::KnnStandardizer;
+
 /// How the k neighbours' votes are weighted.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(rename_all = "kebab-case")]
@@ -31,6 +33,13 @@ pub struct KnnParams {
     pub vote: Vote,
     /// Temperature `T` of the weighted vote (ignored by the uniform vote).
     pub temperature: f32,
+    /// Centre and scale every feature with the training rows' mean and standard deviation
+    /// before the neighbour search ([`KnnStandardizer`]); off by default. In an assessment
+    /// the statistics come from the fold's real training rows only, so every method of a fold
+    /// is probed in the same space as `none` and the synthetic rows cannot move the metric
+    /// they are judged by; the synthetic rows are transformed with the same statistics.
+    #[serde(default)]
+    pub standardize: bool,
 }
 
 impl Default for KnnParams {
@@ -40,12 +49,14 @@ impl Default for KnnParams {
             metric: Metric::Cosine,
             vote: Vote::Uniform,
             temperature: 0.07,
+            standardize: false,
         }
     }
 }
 
 impl KnnParams {
-    /// Checks the ranges; the probe can only be built from parameters that pass.
+    /// Checks the ranges; the probe can only be built from parameters that pass. (`standardize`
+    /// is an on/off switch: both values are valid.)
     pub fn validate(&self) -> Result<()> {
         if self.k == 0 {
             return Err(Error::param(
@@ -93,11 +104,19 @@ impl KnnProbe {
         &self.params
     }
 
+    /// The standardiser fitted on `train_x` when `standardize` is on, `None` when off.
+    pub fn standardizer(&self, train_x: ArrayView2<f32>) -> Option<KnnStandardizer> {
+        self.params
+            .standardize
+            .then(|| KnnStandardizer::fit(train_x))
+    }
+
     /// Class index for every row of `test_x`, voted by its nearest rows of `train_x`.
     ///
     /// `train_y[i]` is the class index of `train_x` row `i`, below `n_classes`. With no
     /// training rows there is no evidence, every class has zero votes, and the tie rule gives
-    /// class 0.
+    /// class 0. With `standardize` on, both sides are transformed by the statistics of
+    /// `train_x` alone (never of `test_x`).
     pub fn predict(
         &self,
         train_x: ArrayView2<f32>,
@@ -108,7 +127,15 @@ impl KnnProbe {
         if train_x.nrows() == 0 || test_x.nrows() == 0 {
             return vec![0; test_x.nrows()];
         }
-        let knn = neighbors::knn(test_x, train_x, self.params.k, self.params.metric);
+        let knn = match self.standardizer(train_x) {
+            Some(s) => neighbors::knn(
+                s.apply(test_x).view(),
+                s.apply(train_x).view(),
+                self.params.k,
+                self.params.metric,
+            ),
+            None => neighbors::knn(test_x, train_x, self.params.k, self.params.metric),
+        };
         self.predict_from_neighbours(&knn, train_y, n_classes)
     }
 
@@ -259,6 +286,7 @@ mod tests {
             metric,
             vote,
             temperature: 0.07,
+            standardize: false,
         })
         .unwrap()
     }

@@ -8,6 +8,7 @@
 mod centroid;
 mod kind;
 mod knn;
+mod knn_standardize;
 pub mod lbfgs;
 mod linear;
 mod linear_model;
@@ -19,6 +20,7 @@ mod softmax_loss;
 pub use centroid::CentroidProbe;
 pub use kind::ProbeKind;
 pub use knn::{KnnParams, KnnProbe, Vote, inverse_class_counts};
+pub use knn_standardize::KnnStandardizer;
 pub use linear::{ClassWeight, LinearParams, LinearProbe, class_weights};
 pub use linear_model::LinearModel;
 pub use linfa_estimators::FittedKnn;

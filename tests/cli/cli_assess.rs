@@ -112,6 +112,12 @@ fn results_config_reads_back_as_the_command_line_spells_it() {
     assert_eq!(r["config"]["augment"]["magnitude"]["extrapolate"], 0.5);
     let r = run(&["--methods", "interpolate"]);
     assert_eq!(r["config"]["target"], "median");
+    assert_eq!(r["config"]["knn"]["standardize"], false);
+    let r = run(&["--methods", "interpolate", "--knn-standardize", "on"]);
+    assert_eq!(r["config"]["knn"]["standardize"], true);
+    let o = embloom(&["assess", f, "--knn-standardize", "maybe"], &[]);
+    assert!(!o.status.success());
+    assert!(stderr(&o).contains("--knn-standardize"), "{}", stderr(&o));
 }
 
 /// An `.npy` matrix with its labels in another file: results.json and the report name the

@@ -21,6 +21,7 @@ fn predictions(file: &str, k: usize) -> Vec<String> {
         metric: Metric::Euclidean,
         vote: Vote::Uniform,
         temperature: 0.07,
+        standardize: false,
     })
     .unwrap();
     probe

@@ -33,5 +33,6 @@ mod neighbors_exact;
 mod pca_iris;
 mod probe_centroid;
 mod probe_digits;
+mod probe_knn_standardize;
 mod probe_reweight;
 mod report_render;

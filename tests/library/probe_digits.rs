@@ -104,6 +104,7 @@ fn knn_predictions_match_scikit_learn_in_every_fold() {
                 metric,
                 vote,
                 temperature: t,
+                standardize: false,
             })
             .unwrap();
             let got = probe.predict(xtr.view(), &ytr, 10, xte.view());
