@@ -558,6 +558,9 @@ fn assess_config(
     if let Some(m) = get::<String>(d, "knn_metric")? {
         knn.metric = metric(&m, "knn-metric")?;
     }
+    if let Some(on) = get::<bool>(d, "knn_standardize")? {
+        knn.standardize = on;
+    }
     let mut linear = LinearParams::default();
     if let Some(l2) = get(d, "linear_l2")? {
         linear.l2 = l2;

@@ -309,6 +309,7 @@ def assess(
     unit_norm: str = "auto",
     knn_k: Optional[int] = None,
     knn_metric: Optional[str] = None,
+    knn_standardize: Optional[bool] = None,
     linear_l2: Optional[float] = None,
     linear_max_iter: Optional[int] = None,
     interval: Optional[str] = None,
@@ -331,6 +332,10 @@ def assess(
     used only when its parent is a training row. ``external_budget`` is ``"match"`` (as many
     rows per grown class as the feature-space methods add), ``"all"`` or a count per class.
     A ``methods`` entry joined by ``+`` (``"flips+interpolate"``) trains on the union.
+
+    ``probes`` may also name ``"centroid"`` (nearest class mean under the k-NN metric).
+    ``knn_standardize=True`` centres and scales features for the k-NN probe with each fold's
+    real training rows, as ``--knn-standardize on``.
     """
     rows = _rows(x)
     labels, names = _labels(y, rows.shape[0])
@@ -346,6 +351,7 @@ def assess(
         "unit_norm": unit_norm,
         "knn_k": knn_k,
         "knn_metric": knn_metric,
+        "knn_standardize": knn_standardize,
         "linear_l2": linear_l2,
         "linear_max_iter": linear_max_iter,
         "interval": interval,

@@ -95,6 +95,7 @@ def assess(
     unit_norm: str = ...,
     knn_k: Optional[int] = ...,
     knn_metric: Optional[str] = ...,
+    knn_standardize: Optional[bool] = ...,
     linear_l2: Optional[float] = ...,
     linear_max_iter: Optional[int] = ...,
     interval: Optional[str] = ...,
