@@ -74,12 +74,10 @@ fn write_table(path: &Path, t: &Table, crlf: bool) {
 }
 
 fn grow(input: &Path, out: &Path) {
-    let o = embloom(
+    let o = grow_file(
+        input,
+        out,
         &[
-            "grow",
-            input.to_str().unwrap(),
-            "-o",
-            out.to_str().unwrap(),
             "--method",
             "interpolate",
             "--target",
@@ -91,7 +89,6 @@ fn grow(input: &Path, out: &Path) {
             "--seed",
             "4",
         ],
-        &[],
     );
     assert!(o.status.success(), "{}", stderr(&o));
 }
@@ -275,12 +272,10 @@ fn an_ignored_column_named_like_an_output_key_is_refused() {
     std::fs::write(&input, &s).unwrap();
     for ext in ["csv", "npz"] {
         let out = p(dir.path(), &format!("out.{ext}"));
-        let o = embloom(
+        let o = grow_file(
+            &input,
+            &out,
             &[
-                "grow",
-                input.to_str().unwrap(),
-                "-o",
-                out.to_str().unwrap(),
                 "--method",
                 "duplicate",
                 "--target",
@@ -288,7 +283,6 @@ fn an_ignored_column_named_like_an_output_key_is_refused() {
                 "--ignore-columns",
                 "weight",
             ],
-            &[],
         );
         assert!(!o.status.success(), "{ext}");
         let err = stderr(&o);

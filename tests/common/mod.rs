@@ -126,3 +126,21 @@ pub fn assess_file(input: impl AsRef<Path>, args: &[&str]) -> Output {
     all.extend_from_slice(args);
     embloom(&all, &[])
 }
+
+/// A JSON array of rows (a reference script's fixture) as an f32 matrix.
+pub fn json_matrix(v: &serde_json::Value) -> ndarray::Array2<f32> {
+    let rows: Vec<Vec<f32>> = v
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|r| {
+            r.as_array()
+                .unwrap()
+                .iter()
+                .map(|x| x.as_f64().unwrap() as f32)
+                .collect()
+        })
+        .collect();
+    let (n, d) = (rows.len(), rows.first().map_or(0, Vec::len));
+    ndarray::Array2::from_shape_vec((n, d), rows.concat()).unwrap()
+}

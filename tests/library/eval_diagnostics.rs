@@ -6,26 +6,11 @@ use embloom::neighbors::Metric;
 use ndarray::Array2;
 use serde_json::Value;
 
+use crate::common::json_matrix as matrix;
+
 fn fixture() -> Value {
     let path = concat!(env!("CARGO_MANIFEST_DIR"), "/tests/fixtures/eval/prdc.json");
     serde_json::from_str(&std::fs::read_to_string(path).expect("fixture")).expect("json")
-}
-
-fn matrix(v: &Value) -> Array2<f32> {
-    let rows: Vec<Vec<f32>> = v
-        .as_array()
-        .unwrap()
-        .iter()
-        .map(|r| {
-            r.as_array()
-                .unwrap()
-                .iter()
-                .map(|x| x.as_f64().unwrap() as f32)
-                .collect()
-        })
-        .collect();
-    let d = rows.first().map_or(0, Vec::len);
-    Array2::from_shape_fn((rows.len(), d), |(i, j)| rows[i][j])
 }
 
 fn labels(v: &Value) -> Vec<u32> {

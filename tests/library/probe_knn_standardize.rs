@@ -6,27 +6,12 @@ use embloom::probe::{KnnParams, KnnProbe, KnnStandardizer, Vote};
 use ndarray::{Array2, Axis, concatenate, s};
 use serde_json::Value;
 
+use crate::common::json_matrix as matrix;
+
 const FIXTURE: &str = concat!(
     env!("CARGO_MANIFEST_DIR"),
     "/tests/fixtures/probe/knn_standardize_wine.json"
 );
-
-fn matrix(v: &Value) -> Array2<f32> {
-    let rows: Vec<Vec<f32>> = v
-        .as_array()
-        .unwrap()
-        .iter()
-        .map(|r| {
-            r.as_array()
-                .unwrap()
-                .iter()
-                .map(|x| x.as_f64().unwrap() as f32)
-                .collect()
-        })
-        .collect();
-    let d = rows[0].len();
-    Array2::from_shape_vec((rows.len(), d), rows.concat()).unwrap()
-}
 
 fn labels(v: &Value) -> Vec<u32> {
     v.as_array()
