@@ -273,6 +273,8 @@ pub struct AugmentRecord {
     pub path: PairPath,
     /// k of calibrated.
     pub borrowed_classes: usize,
+    /// m of borderline.
+    pub danger_neighbours: usize,
     pub strict: bool,
     /// λ of calibrated's Tukey transform, `null` when off.
     pub tukey: Option<f64>,
@@ -336,6 +338,7 @@ impl ResultsConfig {
                 neighbours: a.neighbours,
                 path: a.path,
                 borrowed_classes: a.borrowed_classes,
+                danger_neighbours: a.danger_neighbours,
                 strict: a.strict,
                 tukey: a.tukey,
                 tau: a.tau,

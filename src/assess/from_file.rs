@@ -16,7 +16,7 @@ use std::path::Path;
 use ndarray::{Array2, Axis};
 
 use super::MethodId;
-use crate::augment::{Grown, Provenance};
+use crate::augment::{Grown, MethodKind, Provenance};
 use crate::data::Dataset;
 use crate::error::{Error, Result};
 
@@ -175,6 +175,7 @@ impl FileRows {
             x: self.x.select(Axis(0), keep),
             labels: keep.iter().map(|&i| self.labels[i]).collect(),
             provenance,
+            soft: Vec::new(),
             renormalised: false,
             notes: Vec::new(),
         };
@@ -262,6 +263,16 @@ impl GrownFile {
                 )
             })
         };
+        // A mixed row's target is soft; taken as its hard label it would be scored as a
+        // different method from the one that made it.
+        if let Some(row) = origin.iter().position(|o| o == MethodKind::Mix.name()) {
+            return Err(Error::input_at(
+                path,
+                format!("origin, row {row}"),
+                "the file holds mix rows, whose soft labels (weight on the row's label, the rest on partner_label) assess does not read back from a file",
+                "assess mix as a method of its own on the file's real rows, or remove the mix rows from the file",
+            ));
+        }
         let mut names: Vec<&str> = Vec::new();
         let mut rows_of: Vec<Vec<usize>> = Vec::new();
         for (row, o) in origin.iter().enumerate().filter(|(_, o)| *o != "real") {

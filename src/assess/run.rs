@@ -15,7 +15,7 @@ use super::probe_side::{ProbeSide, not_applicable};
 use super::results::{AssessResults, DiagnosticRow, FoldRecord, InputInfo, WorkCounters};
 use super::{scatter, shared_knn, summary};
 use crate::augment::{self, Augmenter, Grown, MethodKind, Plan, class_indices, describe_notes};
-use crate::data::{Dataset, RowIndex};
+use crate::data::{self, Dataset, RowIndex};
 use crate::error::{Error, Result};
 use crate::eval::Metric;
 use crate::eval::diagnostics::{TrainingRows, class_diagnostics, ratio_distance_name};
@@ -416,6 +416,8 @@ pub(super) fn assess_reusing(
                 .chain(&grown.labels)
                 .copied()
                 .collect();
+            // Mixed rows' soft targets, aligned with `labels` (empty when every row is hard).
+            let soft = data::after_hard(ctx.train.n_rows(), &grown.soft, grown.x.nrows());
             let side = ProbeSide::of(&id, &cfg.augment);
             for (pi, &probe) in cfg.probes.iter().enumerate() {
                 if let Some(why) = not_applicable(&id, probe) {
@@ -445,14 +447,13 @@ pub(super) fn assess_reusing(
                             ctx.train.n_rows() as u32,
                             cfg.knn.k,
                         );
-                        let pred = match side {
-                            ProbeSide::Reweight => {
-                                knn_probe.predict_balanced(&merged, &labels, ds.n_classes())
-                            }
-                            _ => {
-                                knn_probe.predict_from_neighbours(&merged, &labels, ds.n_classes())
-                            }
-                        };
+                        let pred = knn_probe.predict_soft(
+                            &merged,
+                            &labels,
+                            &soft,
+                            ds.n_classes(),
+                            side == ProbeSide::Reweight,
+                        );
                         Evaluated {
                             pred,
                             calibration: None,
@@ -488,9 +489,10 @@ pub(super) fn assess_reusing(
                             };
                             work.linear_fits += 1;
                             work.linear_warm_starts += usize::from(baseline_linear.is_some());
-                            let model = linear_probe.fit_parts(
+                            let model = linear_probe.fit_parts_soft(
                                 &[ctx.train.x.view(), grown.x.view()],
                                 &labels,
+                                &soft,
                                 ds.n_classes(),
                                 baseline_linear.as_ref(),
                             )?;
@@ -751,11 +753,13 @@ impl<'a> FoldContext<'a> {
                     x: Array2::zeros((0, self.train.dims())),
                     labels: Vec::new(),
                     provenance: Vec::new(),
+                    soft: Vec::new(),
                     renormalised: false,
                     notes: Vec::new(),
                 };
                 for part in parts {
                     let g = self.rows_of(part, at, warnings)?;
+                    data::append_soft(&mut all.soft, all.x.nrows(), &g.soft, g.x.nrows());
                     all.x = ndarray::concatenate(ndarray::Axis(0), &[all.x.view(), g.x.view()])
                         .expect("rows of one width");
                     all.labels.extend(g.labels);

@@ -33,11 +33,13 @@ pub enum Knob {
     BorrowedClasses,
     /// λ of calibrated's Tukey transform, a positive number or `off`.
     Tukey,
+    /// m of borderline, a whole number of at least 1.
+    DangerNeighbours,
 }
 
 impl Knob {
     /// Every knob, in the order help text lists them.
-    pub const ALL: [Knob; 7] = [
+    pub const ALL: [Knob; 8] = [
         Knob::Magnitude,
         Knob::Neighbours,
         Knob::Target,
@@ -45,6 +47,7 @@ impl Knob {
         Knob::Tau,
         Knob::BorrowedClasses,
         Knob::Tukey,
+        Knob::DangerNeighbours,
     ];
 
     /// The knob's name, as results.json writes it and parameter errors name it.
@@ -57,6 +60,7 @@ impl Knob {
             Knob::Tau => "tau",
             Knob::BorrowedClasses => "borrowed-classes",
             Knob::Tukey => "tukey",
+            Knob::DangerNeighbours => "danger-neighbours",
         }
     }
 
@@ -70,6 +74,7 @@ impl Knob {
             Knob::Tau => Some(Param::Tau),
             Knob::BorrowedClasses => Some(Param::BorrowedClasses),
             Knob::Tukey => Some(Param::Tukey),
+            Knob::DangerNeighbours => Some(Param::DangerNeighbours),
         }
     }
 
@@ -110,6 +115,9 @@ impl Knob {
                 c.augment.borrowed_classes = value.parse().map_err(|_| bad("a whole number"))?
             }
             Knob::Tukey => c.augment.tukey = augment::parse_tukey(value)?,
+            Knob::DangerNeighbours => {
+                c.augment.danger_neighbours = value.parse().map_err(|_| bad("a whole number"))?
+            }
         }
         Ok(c)
     }

@@ -124,11 +124,23 @@ pub fn assemble(ds: &Dataset, grown: &Grown, method: MethodKind) -> Result<Augme
     );
     let mut weight = vec![0.0f32; n_real];
     weight.extend(grown.provenance.iter().map(|p| p.weight));
+    // Only a set with soft-labelled rows gets the column, so other grown files are unchanged.
+    let partner_label = (!grown.soft.is_empty()).then(|| {
+        let mut out = vec![String::new(); n_real];
+        out.extend(
+            (0..n_syn).map(|i| match grown.soft.get(i).copied().flatten() {
+                Some(s) => ds.classes[s.partner as usize].clone(),
+                None => String::new(),
+            }),
+        );
+        out
+    });
     Ok(AugmentedSet {
         data,
         origin,
         parent,
         partner,
         weight,
+        partner_label,
     })
 }

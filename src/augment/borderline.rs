@@ -57,7 +57,7 @@ impl ParamGuard for BorderlineParams {
         self.0.neighbours.check()?;
         if self.0.danger_neighbours == 0 {
             return Err(Error::param(
-                "danger-neighbours",
+                Param::DangerNeighbours.name(),
                 "m must be at least 1",
                 format!(
                     "use 1 or more all-class neighbours to judge danger (the paper's m is {DEFAULT_DANGER_NEIGHBOURS})"
@@ -74,10 +74,18 @@ impl ParamGuard for BorderlineParams {
 }
 
 impl MethodParams for BorderlineParams {
-    const READS: &'static [Param] = &NeighbourParams::READS;
+    const READS: &'static [Param] = &[
+        Param::Neighbours,
+        Param::NeighbourMetric,
+        Param::NeighbourIndex,
+        Param::Strict,
+        Param::DangerNeighbours,
+    ];
 
     fn from_shared(shared: &AugmentParams) -> Self {
-        BorderlineParams::default().neighbours(NeighbourParams::from_shared(shared))
+        BorderlineParams::default()
+            .neighbours(NeighbourParams::from_shared(shared))
+            .danger_neighbours(shared.danger_neighbours)
     }
 }
 

@@ -5,7 +5,7 @@ use ndarray::{Array2, Axis, concatenate};
 use rayon::prelude::*;
 
 use super::{Augmenter, FitNote, Plan, Provenance, Synthetic};
-use crate::data::Dataset;
+use crate::data::{Dataset, SoftLabel, SoftLabels};
 use crate::error::{Error, Result};
 use crate::seed;
 
@@ -21,6 +21,9 @@ pub struct Grown {
     pub provenance: Vec<Provenance>,
     /// Whether rows were renormalised to unit norm.
     pub renormalised: bool,
+    /// Soft targets of the rows (aligned with `x`), or empty when every row has a hard label:
+    /// only `mix` fills it, from each row's partner class and weight.
+    pub soft: SoftLabels,
     /// Classes a fit clamped or skipped, in class order; empty when every class was grown as
     /// planned.
     pub notes: Vec<FitNote>,
@@ -81,7 +84,7 @@ pub fn grow(
         .iter()
         .flat_map(|(c, s)| std::iter::repeat_n(*c, s.x.nrows()))
         .collect();
-    let provenance = drawn.into_iter().flat_map(|(_, s)| s.provenance).collect();
+    let provenance: Vec<Provenance> = drawn.into_iter().flat_map(|(_, s)| s.provenance).collect();
     if unit_norm {
         renormalise(&mut x);
     }
@@ -98,10 +101,26 @@ pub fn grow(
             "check the input for extreme values, or lower the magnitude",
         ));
     }
+    // A mixed row's partner is a training row of another class: its class is the rest of the
+    // row's target.
+    let soft = if method.kind().soft_labels() {
+        provenance
+            .iter()
+            .map(|p| {
+                p.partner.map(|j| SoftLabel {
+                    partner: train.labels[j],
+                    weight: p.weight,
+                })
+            })
+            .collect()
+    } else {
+        SoftLabels::new()
+    };
     Ok(Grown {
         x,
         labels,
         provenance,
+        soft,
         renormalised: unit_norm,
         notes: fitted.notes().to_vec(),
     })

@@ -94,6 +94,7 @@ methods! {
     Adaptive => adaptive, "adaptive", "ADASYN: more rows from rows near other classes (He et al. 2008)", AdaptiveParams, AdaptiveValidParams;
     Reweight => reweight, "reweight", "no rows: probes weigh classes by n / (C·n_c) (King & Zeng 2001)", ReweightParams, ReweightValidParams;
     Calibrated => calibrated, "calibrated", "Gaussian draws with statistics borrowed from the nearest populous classes (Yang et al. 2021)", CalibratedParams, CalibratedValidParams;
+    Mix => mix, "mix", "mixup with a row of another class, soft labels λ·e(c) + (1 − λ)·e(other) (Zhang et al. 2018)", MixParams, MixValidParams;
     LogitAdjust => logit_adjust, "logit-adjust", "no rows: linear scores shifted by −τ·log prior (Menon et al. 2021)", LogitAdjustParams, LogitAdjustValidParams;
 }
 
@@ -111,6 +112,12 @@ impl MethodKind {
             self,
             MethodKind::None | MethodKind::Reweight | MethodKind::LogitAdjust
         )
+    }
+
+    /// Whether the method's rows carry soft labels (a partner class and the share of their own
+    /// label, [`crate::data::SoftLabel`]) that the probes train on.
+    pub fn soft_labels(self) -> bool {
+        self == MethodKind::Mix
     }
 
     /// Whether the method needs same-class neighbours (so a one-row class cannot grow).
@@ -155,7 +162,8 @@ pub struct Provenance {
     pub parent: usize,
     /// The neighbour n used, if any.
     pub partner: Option<usize>,
-    /// u (interpolate), λ (extrapolate) or the noise magnitude.
+    /// u (interpolate), λ (extrapolate), the noise magnitude, or λ of mix (the share of the
+    /// row's own label).
     pub weight: f32,
 }
 

@@ -10,7 +10,7 @@ use std::fmt;
 pub use linfa::ParamGuard;
 use serde::Serialize;
 
-use super::{Augmenter, calibrated, logit_adjust, neighbour_methods, principal_noise};
+use super::{Augmenter, borderline, calibrated, logit_adjust, neighbour_methods, principal_noise};
 use crate::error::{Error, Result};
 use crate::neighbors::{IndexKind, Metric};
 
@@ -38,6 +38,8 @@ pub enum Param {
     BorrowedClasses,
     /// λ of Tukey's ladder of powers in calibrated, or off.
     Tukey,
+    /// m of borderline: how many nearest training rows (all classes) judge danger.
+    DangerNeighbours,
 }
 
 impl Param {
@@ -54,6 +56,7 @@ impl Param {
             Param::Path => "path",
             Param::BorrowedClasses => "borrowed-classes",
             Param::Tukey => "tukey",
+            Param::DangerNeighbours => "danger-neighbours",
         }
     }
 }
@@ -89,6 +92,8 @@ pub struct AugmentParams {
     pub borrowed_classes: usize,
     /// λ of calibrated's Tukey transform; `None` (the default) leaves features as they are.
     pub tukey: Option<f64>,
+    /// m of borderline (default 10, Han et al. 2005).
+    pub danger_neighbours: usize,
 }
 
 impl Default for AugmentParams {
@@ -105,6 +110,7 @@ impl Default for AugmentParams {
             path: neighbour_methods::PairPath::Chord,
             borrowed_classes: calibrated::DEFAULT_BORROWED_CLASSES,
             tukey: None,
+            danger_neighbours: borderline::DEFAULT_DANGER_NEIGHBOURS,
         }
     }
 }

@@ -261,6 +261,16 @@ impl ParamGuard for StreamParams {
                 "stream a method that makes rows, such as interpolate",
             ));
         }
+        if p.method.soft_labels() {
+            return Err(Error::param(
+                "method",
+                format!(
+                    "{}'s rows have soft labels (a share of the row's class and of a partner class), which a stream's batches carry no place for",
+                    p.method
+                ),
+                "stream a method with hard labels, such as interpolate, or grow a file with mix and read its partner_label and weight",
+            ));
+        }
         if p.batch_size == 0 {
             return Err(Error::param(
                 "batch-size",

@@ -108,6 +108,9 @@ pub struct MethodArgs {
     #[arg(long, default_value = "off", value_name = "off|L", value_parser = parse_tukey,
           help = param_help(Param::Tukey, "Tukey's ladder of powers x^L before calibrating (the paper's L is 0.5), for non-negative features only; off leaves features as they are"))]
     pub tukey: TukeySetting,
+    #[arg(long, default_value_t = AugmentParams::default().danger_neighbours, value_name = "M",
+          help = param_help(Param::DangerNeighbours, "Nearest training rows (all classes) that judge whether a row is near the class boundary: it is when at least half but not all of them are of other classes (the paper's m)"))]
+    pub danger_neighbours: usize,
     /// Make classes a method cannot grow (e.g. a single row) an error instead of a warning.
     #[arg(long)]
     pub strict: bool,
@@ -129,6 +132,7 @@ impl MethodArgs {
             path: self.path,
             borrowed_classes: self.borrowed_classes,
             tukey: self.tukey.0,
+            danger_neighbours: self.danger_neighbours,
         }
     }
 }
@@ -263,6 +267,7 @@ const FLAGS: &[(&str, &str, &str)] = &[
     ("path", "--path", ""),
     ("borrowed-classes", "--borrowed-classes", ""),
     ("tukey", "--tukey", ""),
+    ("danger-neighbours", "--danger-neighbours", ""),
     ("unit-norm", "--unit-norm", ""),
     ("probes", "--probes", ""),
     ("folds", "--folds", ""),

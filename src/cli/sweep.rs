@@ -23,7 +23,8 @@ pub struct SweepArgs {
     /// The method whose knob is turned.
     #[arg(long, value_parser = parse_method)]
     pub method: MethodKind,
-    /// magnitude, neighbours, target or variance-kept.
+    /// magnitude, neighbours, target, variance-kept, tau, borrowed-classes, tukey or
+    /// danger-neighbours.
     #[arg(long, value_parser = parse_knob)]
     pub knob: Knob,
     /// The values to try, comma-separated (e.g. 0.25,0.5,1 or median,largest).

@@ -6,11 +6,13 @@
 mod inspection;
 mod labels;
 mod row_index;
+mod soft_label;
 mod stats;
 
 pub use inspection::{ClassCount, Inspection};
 pub use labels::{RawLabels, encode_labels};
 pub use row_index::RowIndex;
+pub use soft_label::{SoftLabel, SoftLabels, after_hard, append_soft};
 pub use stats::{DatasetStats, NonFinite, UNIT_NORM_TOL, first_not_unit_norm, is_unit_norm};
 
 use ndarray::{Array2, ArrayView2, Axis};

@@ -78,6 +78,16 @@ impl Column {
 /// Provenance column keys, in order; they follow the features in a table.
 pub const PROVENANCE: [&str; 4] = ["origin", "parent", "partner", "weight"];
 
+/// The provenance column written after [`PROVENANCE`] only when a row has a soft label
+/// (mix): the partner's class name, so the target `weight·e(label) + (1 − weight)·e(partner)`
+/// can be rebuilt from the file alone.
+pub const PARTNER_LABEL: &str = "partner_label";
+
+/// Whether `key` is a provenance column (written after the features in a table).
+pub fn is_provenance(key: &str) -> bool {
+    PROVENANCE.contains(&key) || key == PARTNER_LABEL
+}
+
 /// The exported content of an augmented set.
 pub struct Export<'a> {
     /// The matrix in the input's float type (text output writes each value as the shortest
@@ -211,6 +221,10 @@ pub fn prepare<'a>(path: &Path, set: &'a AugmentedSet, text: bool) -> Result<Exp
         ("parent", set.parent.len()),
         ("partner", set.partner.len()),
         ("weight", set.weight.len()),
+        (
+            PARTNER_LABEL,
+            set.partner_label.as_ref().map_or(n, Vec::len),
+        ),
         ("id", d.ids.as_ref().map_or(n, Vec::len)),
         ("group", d.groups.as_ref().map_or(n, Vec::len)),
         ("fold", d.folds.as_ref().map_or(n, Vec::len)),
@@ -274,21 +288,27 @@ pub fn prepare<'a>(path: &Path, set: &'a AugmentedSet, text: bool) -> Result<Exp
         Some(t) if !text => ignored_columns(t, &source_rows, n_real, n)?,
         _ => Vec::new(),
     };
-    let appended: Vec<(&str, Column)> = vec![
+    let mut appended: Vec<(&str, Column)> = vec![
         (SOURCE_ROW, Column::Int(source_rows)),
         ("origin", Column::Text(set.origin.clone())),
         ("parent", Column::Int(set.parent.clone())),
         ("partner", Column::Int(set.partner.clone())),
         ("weight", Column::F32(set.weight.clone())),
     ];
+    if let Some(p) = &set.partner_label {
+        appended.push((PARTNER_LABEL, Column::Text(p.clone())));
+    }
     if let Some(t) = table {
         // A table output keeps the input's columns beside the appended ones; a binary output
         // keeps the ignored columns beside every key it writes.
         let taken: Vec<&str> = if text {
-            APPENDED.to_vec()
+            let mut k = APPENDED.to_vec();
+            k.push(PARTNER_LABEL);
+            k
         } else {
             let mut k: Vec<&str> = columns.iter().map(|(k, _)| k.as_str()).collect();
             k.extend(APPENDED);
+            k.push(PARTNER_LABEL);
             k.push("embeddings");
             k
         };

@@ -144,8 +144,12 @@ pub struct AugmentedSet {
     pub parent: Vec<i64>,
     /// Per row: the index of the real neighbour used, or −1 (real rows and noise methods).
     pub partner: Vec<i64>,
-    /// Per row: u (interpolate), λ (extrapolate), the noise magnitude, or 0 for real rows.
+    /// Per row: u (interpolate), λ (extrapolate), the noise magnitude, λ of mix (the share
+    /// of the row's own label), or 0 for real rows.
     pub weight: Vec<f32>,
+    /// Per row, when some row has a soft label (mix): the partner's class name for such a row,
+    /// empty text for the others; `None` (and no `partner_label` column) otherwise.
+    pub partner_label: Option<Vec<String>>,
 }
 
 /// The file formats embloom knows, by extension.
@@ -436,6 +440,7 @@ impl AugmentedSet {
             parent: (0..n as i64).collect(),
             partner: vec![-1; n],
             weight: vec![0.0; n],
+            partner_label: None,
         }
     }
 }

@@ -4,6 +4,7 @@
 use ndarray::ArrayView2;
 use serde::{Deserialize, Serialize};
 
+use crate::data::SoftLabel;
 use crate::error::{Error, Result};
 use crate::neighbors::{self, Knn, Metric};
 
@@ -150,7 +151,23 @@ impl KnnProbe {
         train_y: &[u32],
         n_classes: usize,
     ) -> Vec<u32> {
-        self.predict_weighted(knn, train_y, n_classes, None)
+        self.predict_weighted(knn, train_y, &[], n_classes, None)
+    }
+
+    /// [`KnnProbe::predict_from_neighbours`] (or [`KnnProbe::predict_balanced`] with
+    /// `balanced`) where a neighbour with a soft part in `soft` (aligned with `train_y`, or
+    /// empty for none) splits its vote: `weight` of it to its own class and `1 − weight` to
+    /// its partner class, each times the neighbour's usual vote weight (and class weight).
+    pub fn predict_soft(
+        &self,
+        knn: &Knn,
+        train_y: &[u32],
+        soft: &[Option<SoftLabel>],
+        n_classes: usize,
+        balanced: bool,
+    ) -> Vec<u32> {
+        let weights = balanced.then(|| inverse_class_counts(train_y, n_classes));
+        self.predict_weighted(knn, train_y, soft, n_classes, weights.as_deref())
     }
 
     /// [`KnnProbe::predict_from_neighbours`] with each neighbour's vote multiplied by
@@ -159,14 +176,16 @@ impl KnnProbe {
     /// for being rare (the k-NN side of `reweight`). See [`inverse_class_counts`].
     pub fn predict_balanced(&self, knn: &Knn, train_y: &[u32], n_classes: usize) -> Vec<u32> {
         let weights = inverse_class_counts(train_y, n_classes);
-        self.predict_weighted(knn, train_y, n_classes, Some(&weights))
+        self.predict_weighted(knn, train_y, &[], n_classes, Some(&weights))
     }
 
-    /// The vote, with each class's votes scaled by `class_weight[c]` when given.
+    /// The vote, with each class's votes scaled by `class_weight[c]` when given and soft
+    /// neighbours' votes split as [`KnnProbe::predict_soft`] says.
     fn predict_weighted(
         &self,
         knn: &Knn,
         train_y: &[u32],
+        soft: &[Option<SoftLabel>],
         n_classes: usize,
         class_weight: Option<&[f64]>,
     ) -> Vec<u32> {
@@ -179,17 +198,24 @@ impl KnnProbe {
                     &idx[..take],
                     &dist[..take],
                     train_y,
+                    soft,
                     class_weight,
                     &mut votes,
                 );
                 // Only the neighbours' classes hold votes: read and reset those alone, so a
                 // query costs O(k), not O(classes) (200,000 one-row classes made this
                 // quadratic).
+                let partners = idx[..take]
+                    .iter()
+                    .filter_map(|&i| soft.get(i as usize).copied().flatten())
+                    .map(|s| s.partner);
                 let touched = || {
                     idx[..take]
                         .iter()
                         .filter_map(|&i| train_y.get(i as usize))
-                        .map(|&c| c as usize)
+                        .copied()
+                        .chain(partners.clone())
+                        .map(|c| c as usize)
                         .filter(|&c| c < n_classes)
                 };
                 let best =
@@ -217,6 +243,7 @@ impl KnnProbe {
         idx: &[u32],
         dist: &[f32],
         train_y: &[u32],
+        soft: &[Option<SoftLabel>],
         class_weight: Option<&[f64]>,
         votes: &mut [f64],
     ) {
@@ -239,15 +266,33 @@ impl KnnProbe {
             let Some(&class) = train_y.get(i as usize) else {
                 continue;
             };
-            let Some(slot) = votes.get_mut(class as usize) else {
-                continue;
-            };
-            let w = match self.params.vote {
+            let vote = match self.params.vote {
                 Vote::Uniform => 1.0,
                 Vote::Weighted => ((similarity(d) - top) / t).exp(),
-            } * class_weight.map_or(1.0, |cw| cw[class as usize]);
-            if w.is_finite() {
-                *slot += w;
+            };
+            let cw =
+                |c: u32| class_weight.map_or(1.0, |cw| cw.get(c as usize).copied().unwrap_or(0.0));
+            match soft.get(i as usize).copied().flatten() {
+                None => {
+                    let Some(slot) = votes.get_mut(class as usize) else {
+                        continue;
+                    };
+                    let w = vote * cw(class);
+                    if w.is_finite() {
+                        *slot += w;
+                    }
+                }
+                Some(s) => {
+                    let own = f64::from(s.weight);
+                    for (c, share) in [(class, own), (s.partner, 1.0 - own)] {
+                        let w = vote * share * cw(c);
+                        if let Some(slot) = votes.get_mut(c as usize)
+                            && w.is_finite()
+                        {
+                            *slot += w;
+                        }
+                    }
+                }
             }
         }
     }
@@ -305,6 +350,44 @@ mod tests {
         );
         let p = probe(4, Metric::Cosine, Vote::Uniform);
         assert_eq!(p.predict_from_neighbours(&knn, &train_y, 3), vec![1, 1, 2]);
+    }
+
+    #[test]
+    fn soft_neighbours_split_their_vote() {
+        // Worked example, from the rule (a mixed row's target λ·e(c) + (1 − λ)·e(partner),
+        // Zhang et al. 2018, voted with the neighbour's usual weight): rows 0, 1 are hard
+        // class 0 and 1; rows 2, 3 are class 2 mixed towards class 1 with λ = 0.6 and 0.8.
+        let train_y = [0, 1, 2, 2];
+        let soft = [
+            None,
+            None,
+            Some(SoftLabel {
+                partner: 1,
+                weight: 0.6,
+            }),
+            Some(SoftLabel {
+                partner: 1,
+                weight: 0.8,
+            }),
+        ];
+        let knn = table(
+            3,
+            &[
+                // hard: 2 ×2, 1 ×1 → 2; soft: class 2 = 0.6 + 0.8 = 1.4, class 1 = 1 + 0.4 + 0.2
+                // = 1.6 → 1.
+                (&[1, 2, 3], &[0.1, 0.2, 0.3]),
+                // hard: 0 ×2, 2 ×1 → 0; soft: 0 = 2, 2 = 0.8, 1 = 0.2 → 0.
+                (&[0, 3, 0], &[0.1, 0.2, 0.3]),
+            ],
+        );
+        let p = probe(3, Metric::Cosine, Vote::Uniform);
+        assert_eq!(p.predict_from_neighbours(&knn, &train_y, 3), vec![2, 0]);
+        assert_eq!(p.predict_soft(&knn, &train_y, &soft, 3, false), vec![1, 0]);
+        // No soft part: the same votes as the hard rule.
+        assert_eq!(p.predict_soft(&knn, &train_y, &[], 3, false), vec![2, 0]);
+        // Balanced (1 / n_c: 1, 1, ½): query 0 gives class 2 (0.6 + 0.8)/2 = 0.7 and class 1
+        // 1 + 0.4 + 0.2 = 1.6 → 1.
+        assert_eq!(p.predict_soft(&knn, &train_y, &soft, 3, true), vec![1, 0]);
     }
 
     #[test]

@@ -7,6 +7,7 @@ use super::lbfgs;
 use super::linear_model::LinearModel;
 use super::scaling;
 use super::softmax_loss::{Precision, SoftmaxLoss};
+use crate::data::SoftLabel;
 use crate::error::{Error, Result};
 
 /// The f32 phase of a fit stops at this multiple of the gradient tolerance (or at its first
@@ -176,6 +177,21 @@ impl LinearProbe {
         n_classes: usize,
         init: Option<&LinearModel>,
     ) -> Result<LinearModel> {
+        self.fit_parts_soft(parts, y, &[], n_classes, init)
+    }
+
+    /// [`LinearProbe::fit_parts`] where the rows with a soft part in `soft` (aligned with `y`,
+    /// or empty for none) train on the cross-entropy against their soft target
+    /// `weight·e(yᵢ) + (1 − weight)·e(partner)`. Class weights still follow `y`, each row's
+    /// dominant label.
+    pub fn fit_parts_soft(
+        &self,
+        parts: &[ArrayView2<f32>],
+        y: &[u32],
+        soft: &[Option<SoftLabel>],
+        n_classes: usize,
+        init: Option<&LinearModel>,
+    ) -> Result<LinearModel> {
         let Some(first) = parts.first() else {
             return Err(Error::data(
                 "the linear probe got no training rows",
@@ -193,6 +209,7 @@ impl LinearProbe {
             ));
         }
         check_inputs(parts, y, n_classes)?;
+        check_soft(soft, y.len(), n_classes)?;
         let c = n_classes;
         let (mean, scale) = scaling::fit_parts(parts, self.params.standardize);
         let weights = class_weights(y, n_classes, self.params.class_weight);
@@ -204,7 +221,8 @@ impl LinearProbe {
             &weights,
             n_classes,
             self.params.l2,
-        );
+        )
+        .with_soft(soft);
         let theta0 = match init {
             Some(m) => warm_start(m, &mean, &scale, c, d)?,
             None => vec![0.0; loss.n_params()],
@@ -289,6 +307,36 @@ fn check_inputs(parts: &[ArrayView2<f32>], y: &[u32], n_classes: usize) -> Resul
             format!("training row {i} has a NaN or infinite value"),
             "drop or repair non-finite rows before fitting the linear probe",
         ));
+    }
+    Ok(())
+}
+
+/// Rejects soft parts the loss cannot use: not one per row, a partner class out of range, or
+/// a share outside [0, 1].
+fn check_soft(soft: &[Option<SoftLabel>], rows: usize, n_classes: usize) -> Result<()> {
+    if soft.is_empty() {
+        return Ok(());
+    }
+    if soft.len() != rows {
+        return Err(Error::data(
+            format!(
+                "the linear probe got {} soft labels for {rows} rows",
+                soft.len()
+            ),
+            "pass one soft part (or none) per training row",
+        ));
+    }
+    for (i, s) in soft.iter().enumerate() {
+        let Some(s) = s else { continue };
+        if s.partner as usize >= n_classes || !(0.0..=1.0).contains(&s.weight) {
+            return Err(Error::data(
+                format!(
+                    "training row {i} has a soft label of class index {} with weight {}",
+                    s.partner, s.weight
+                ),
+                "give partner classes below the number of classes and weights in [0, 1]",
+            ));
+        }
     }
     Ok(())
 }

@@ -22,6 +22,8 @@ use ndarray::linalg::general_mat_mul;
 use ndarray::{Array1, Array2, ArrayView1, ArrayView2, ArrayViewMut1, Axis, s};
 use rayon::prelude::*;
 
+use crate::data::SoftLabel;
+
 /// Rows standardised and multiplied at a time.
 const BLOCK_ROWS: usize = 256;
 /// At most this many groups (parallel work items), each with its own gradient buffer.
@@ -41,7 +43,9 @@ struct Block {
 
 /// `L(W, b) = Σᵢ cᵢ ℓᵢ + λ/2 ‖W‖²` where `ℓᵢ = logsumexp(zᵢ) − zᵢ,yᵢ`, `zᵢ = W xᵢ + b`,
 /// `xᵢ` the standardised row `(rᵢ − mean) / scale`, and `cᵢ = wᵢ / n` (the class weight of
-/// row i over the row count).
+/// row i over the row count). A row with a soft part (see [`SoftmaxLoss::with_soft`]) has
+/// the cross-entropy against its soft target instead:
+/// `ℓᵢ = logsumexp(zᵢ) − ωᵢ zᵢ,yᵢ − (1 − ωᵢ) zᵢ,pᵢ`, whose gradient in `zᵢ` is `pᵢ − tᵢ`.
 ///
 /// Parameters are packed `[W row-major (C × d), b (C)]`.
 pub(crate) struct SoftmaxLoss<'a> {
@@ -49,6 +53,8 @@ pub(crate) struct SoftmaxLoss<'a> {
     mean: ArrayView1<'a, f64>,
     scale: ArrayView1<'a, f64>,
     y: &'a [u32],
+    /// Soft parts aligned with `y`, or empty when every row is hard.
+    soft: &'a [Option<SoftLabel>],
     coef: Vec<f64>,
     n_classes: usize,
     l2: f64,
@@ -113,11 +119,28 @@ impl<'a> SoftmaxLoss<'a> {
             mean,
             scale,
             y,
+            soft: &[],
             coef,
             n_classes,
             l2,
             groups,
         }
+    }
+
+    /// Rows with a soft part train on `weight·e(yᵢ) + (1 − weight)·e(partner)` instead of
+    /// `e(yᵢ)`; `soft` is aligned with `y` (the caller checks its length and partner classes),
+    /// or empty for none. Hard rows are evaluated exactly as without it.
+    pub(crate) fn with_soft(mut self, soft: &'a [Option<SoftLabel>]) -> Self {
+        self.soft = soft;
+        self
+    }
+
+    /// The soft part of global row `i`: its partner class and the shares of its own label
+    /// and of the partner.
+    fn soft_of(&self, i: usize) -> Option<(usize, f64, f64)> {
+        let s = self.soft.get(i).copied().flatten()?;
+        let w = f64::from(s.weight);
+        Some((s.partner as usize, w, 1.0 - w))
     }
 
     pub(crate) fn n_params(&self) -> usize {
@@ -204,18 +227,31 @@ impl<'a> SoftmaxLoss<'a> {
             let mut z = z_buf.slice_mut(s![..m, ..]);
             general_mat_mul(1.0, &xs, &w.t(), 0.0, &mut z);
             let rows = block.first..block.first + m;
-            for ((mut row, &yi), &ci) in z
+            for (((mut row, &yi), &ci), i) in z
                 .axis_iter_mut(Axis(0))
                 .zip(&self.y[rows.clone()])
-                .zip(&self.coef[rows])
+                .zip(&self.coef[rows.clone()])
+                .zip(rows)
             {
                 row.iter_mut().zip(b).for_each(|(v, bc)| *v += bc);
                 // After this the row holds log-probabilities: ℓᵢ = logsumexp(zᵢ) − zᵢ,yᵢ.
                 log_softmax_in_place(row.view_mut());
-                out.data_loss -= ci * row[yi as usize];
-                // Gradient of cᵢ ℓᵢ with respect to zᵢ: cᵢ (pᵢ − onehot(yᵢ)).
+                let soft = self.soft_of(i);
+                match soft {
+                    None => out.data_loss -= ci * row[yi as usize],
+                    Some((p, wy, wp)) => {
+                        out.data_loss -= ci * (wy * row[yi as usize] + wp * row[p]);
+                    }
+                }
+                // Gradient of cᵢ ℓᵢ with respect to zᵢ: cᵢ (pᵢ − tᵢ), tᵢ the (soft) target.
                 row.mapv_inplace(|lp| ci * lp.exp());
-                row[yi as usize] -= ci;
+                match soft {
+                    None => row[yi as usize] -= ci,
+                    Some((p, wy, wp)) => {
+                        row[yi as usize] -= ci * wy;
+                        row[p] -= ci * wp;
+                    }
+                }
                 out.g_b += &row;
             }
             general_mat_mul(1.0, &z.t(), &xs, 1.0, &mut out.g_w);
@@ -254,10 +290,11 @@ impl SoftmaxLoss<'_> {
             let mut z = z_buf.slice_mut(s![..m, ..]);
             general_mat_mul(1.0, &xc, &w.t(), 0.0, &mut z);
             let rows = block.first..block.first + m;
-            for ((mut row, &yi), &ci) in z
+            for (((mut row, &yi), &ci), i) in z
                 .axis_iter_mut(Axis(0))
                 .zip(&self.y[rows.clone()])
-                .zip(&self.coef[rows])
+                .zip(&self.coef[rows.clone()])
+                .zip(rows)
             {
                 logits
                     .iter_mut()
@@ -267,12 +304,23 @@ impl SoftmaxLoss<'_> {
                 // eᵢ = exp(zᵢ − max), and ℓ = ln Σe − (z_y − max).
                 let max = logits.fold(f64::NEG_INFINITY, |m, &v| m.max(v));
                 let shifted_y = logits[yi as usize] - max;
+                let soft = self.soft_of(i);
+                let shifted_p = soft.map(|(p, _, _)| logits[p] - max);
                 logits.mapv_inplace(|v| (v - max).exp());
                 let sum = logits.sum();
-                out.data_loss += ci * (sum.ln() - shifted_y);
                 let to_grad = ci / sum;
                 logits.mapv_inplace(|e| to_grad * e);
-                logits[yi as usize] -= ci;
+                match (soft, shifted_p) {
+                    (Some((p, wy, wp)), Some(sp)) => {
+                        out.data_loss += ci * (sum.ln() - wy * shifted_y - wp * sp);
+                        logits[yi as usize] -= ci * wy;
+                        logits[p] -= ci * wp;
+                    }
+                    _ => {
+                        out.data_loss += ci * (sum.ln() - shifted_y);
+                        logits[yi as usize] -= ci;
+                    }
+                }
                 out.g_b += &logits;
                 row.iter_mut()
                     .zip(&logits)
@@ -360,6 +408,106 @@ mod tests {
                 "param {i}: fd {fd} vs {}",
                 grad[i]
             );
+        }
+    }
+
+    #[test]
+    fn soft_target_gradient_matches_finite_differences() {
+        // Common practice, no source: central differences, step 1e-6, as above, with soft
+        // targets (mixup's λ·e(y) + (1 − λ)·e(partner), Zhang et al. 2018) on rows of both
+        // parts, one of them mixing towards a class with no hard row of its own weight.
+        let (x, y) = problem();
+        let mean = array![0.1, -0.2, 0.3];
+        let scale = array![1.5, 0.7, 2.0];
+        let parts = [x.slice(s![..2, ..]), x.slice(s![2.., ..])];
+        let soft = [
+            None,
+            Some(SoftLabel {
+                partner: 0,
+                weight: 0.7,
+            }),
+            None,
+            Some(SoftLabel {
+                partner: 1,
+                weight: 0.55,
+            }),
+            Some(SoftLabel {
+                partner: 2,
+                weight: 0.9,
+            }),
+        ];
+        let loss = SoftmaxLoss::new(
+            &parts,
+            mean.view(),
+            scale.view(),
+            &y,
+            &[0.7, 1.9, 1.1],
+            3,
+            0.3,
+        )
+        .with_soft(&soft);
+        let theta: Vec<f64> = (0..loss.n_params())
+            .map(|i| ((i * 5 % 13) as f64 - 6.0) / 9.0)
+            .collect();
+        let mut grad = vec![0.0; theta.len()];
+        let f = loss.value_and_gradient(&theta, &mut grad);
+        let mut scratch = vec![0.0; theta.len()];
+        for i in 0..theta.len() {
+            let h = 1e-6;
+            let mut tp = theta.clone();
+            tp[i] += h;
+            let mut tm = theta.clone();
+            tm[i] -= h;
+            let fd = (loss.value_and_gradient(&tp, &mut scratch)
+                - loss.value_and_gradient(&tm, &mut scratch))
+                / (2.0 * h);
+            assert!(
+                (fd - grad[i]).abs() < 1e-7,
+                "param {i}: fd {fd} vs {}",
+                grad[i]
+            );
+        }
+        // The f32 evaluation computes the same soft objective, to f32 rounding.
+        let mut g_fast = vec![0.0; theta.len()];
+        let f_fast = loss.evaluate(&theta, &mut g_fast, Precision::Fast);
+        assert!((f - f_fast).abs() < 1e-5, "{f} vs {f_fast}");
+        for (a, b) in grad.iter().zip(&g_fast) {
+            assert!((a - b).abs() < 1e-5, "{a} vs {b}");
+        }
+        // A soft part with all the weight on the row's own label is the hard row, bit for bit.
+        let whole: Vec<Option<SoftLabel>> = (0..5)
+            .map(|_| {
+                Some(SoftLabel {
+                    partner: 1,
+                    weight: 1.0,
+                })
+            })
+            .collect();
+        let hard = SoftmaxLoss::new(
+            &parts,
+            mean.view(),
+            scale.view(),
+            &y,
+            &[0.7, 1.9, 1.1],
+            3,
+            0.3,
+        );
+        let as_soft = SoftmaxLoss::new(
+            &parts,
+            mean.view(),
+            scale.view(),
+            &y,
+            &[0.7, 1.9, 1.1],
+            3,
+            0.3,
+        )
+        .with_soft(&whole);
+        for precision in [Precision::Exact, Precision::Fast] {
+            let (mut g1, mut g2) = (vec![0.0; theta.len()], vec![0.0; theta.len()]);
+            let f1 = hard.evaluate(&theta, &mut g1, precision);
+            let f2 = as_soft.evaluate(&theta, &mut g2, precision);
+            assert_eq!(f1.to_bits(), f2.to_bits());
+            assert_eq!(g1, g2);
         }
     }
 

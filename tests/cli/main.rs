@@ -13,6 +13,7 @@ mod cli_external;
 mod cli_from_file;
 mod cli_grow;
 mod cli_inspect;
+mod cli_mix;
 mod cli_sweep;
 mod cli_thin_classes;
 mod csv_round_trip;

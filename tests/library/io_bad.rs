@@ -304,6 +304,7 @@ fn small_set() -> AugmentedSet {
         parent: vec![0, 1],
         partner: vec![-1, -1],
         weight: vec![0.0, 0.0],
+        partner_label: None,
     }
 }
 

@@ -275,6 +275,7 @@ fn grown() -> AugmentedSet {
         parent: vec![0, 1, 2, 0, 2],
         partner: vec![-1, -1, -1, 2, 0],
         weight: vec![0.0, 0.0, 0.0, 0.25, 0.5],
+        partner_label: None,
     }
 }
 

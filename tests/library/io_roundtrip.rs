@@ -168,6 +168,7 @@ fn with_provenance(data: Dataset) -> AugmentedSet {
         parent: vec![0, 1, 2, 0, 1],
         partner: vec![-1, -1, -1, 2, 4],
         weight: vec![0.0, 0.0, 0.0, 0.25, 0.1],
+        partner_label: None,
     }
 }
 

@@ -15,6 +15,8 @@ from conftest import run_cli
         ("extrapolate", {"k": 3, "magnitude": 0.3}, ["--neighbours", "3", "--magnitude", "0.3"]),
         ("principal-noise", {}, []),
         ("gaussian-noise", {}, []),
+        ("mix", {"magnitude": 0.5}, ["--magnitude", "0.5"]),
+        ("borderline", {"danger_neighbours": 4}, ["--danger-neighbours", "4"]),
     ],
 )
 def test_grow_bytes_equal_cli(tmp_path, small_set, method, params, cli_flags):
@@ -35,6 +37,11 @@ def test_grow_bytes_equal_cli(tmp_path, small_set, method, params, cli_flags):
     assert np.array_equal(grown.parent, cli["parent"])
     assert np.array_equal(grown.partner, cli["partner"])
     assert grown.weight.tobytes() == cli["weight"].astype(np.float32).tobytes()
+    # Only a set with mix rows carries the partner's class.
+    if method == "mix":
+        assert list(grown.partner_label) == [str(v) for v in cli["partner_label"]]
+    else:
+        assert grown.partner_label is None and "partner_label" not in cli.files
     # Every class grows to the largest (40 rows), as the target asks.
     names, counts = np.unique(grown.y, return_counts=True)
     assert dict(zip(names, counts)) == {"a": 40, "b": 40, "c": 40}

@@ -87,3 +87,10 @@ def test_a_numpy_softmax_regression_learns_from_the_stream():
     assert start == pytest.approx(np.log(11))
     assert end < 0.5 * start
     assert synthetic > 0
+
+
+def test_mix_is_refused_with_the_reason(small_set):
+    # A batch carries hard labels only; mix rows have soft ones (Zhang et al. 2018).
+    x, y = small_set
+    with pytest.raises(embloom.ParameterError, match="soft labels"):
+        embloom.Stream(x, y, method="mix")

@@ -5,6 +5,7 @@
 set -euo pipefail
 cd "$(dirname "$0")"
 for script in io_make_fixtures.py pca_iris.py principal_noise_cov.py calibrated_stats.py probe_digits.py probe_reweight.py probe_centroid.py \
+              borderline_adaptive.py \
               eval_metrics.py eval_stats.py eval_prdc.py eval_interval.py knn_ties.py probe_knn_standardize.py \
               io_make_dtypes.py; do
     echo "reference: $script"

@@ -13,7 +13,7 @@ use arrow_array::{
 use arrow_schema::{ArrowError, DataType, Field, Schema};
 
 use super::super::carried::Carried;
-use super::super::export::{Column, Export, Matrix, PROVENANCE};
+use super::super::export::{Column, Export, Matrix, is_provenance};
 
 /// The column name of an export key in a table (as the CSV writer names them).
 fn heading(key: &str) -> &str {
@@ -70,10 +70,8 @@ pub fn batch(
     carried: Option<&Carried>,
     real: &[bool],
 ) -> Result<RecordBatch, ArrowError> {
-    let (lead, tail): (Vec<_>, Vec<_>) = export
-        .columns
-        .iter()
-        .partition(|(k, _)| !PROVENANCE.contains(&k.as_str()));
+    let (lead, tail): (Vec<_>, Vec<_>) =
+        export.columns.iter().partition(|(k, _)| !is_provenance(k));
     let mut fields = Vec::new();
     let mut arrays: Vec<ArrayRef> = Vec::new();
     let mut add = |name: &str, a: ArrayRef| {

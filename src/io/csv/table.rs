@@ -5,7 +5,7 @@
 use std::collections::HashMap;
 use std::path::Path;
 
-use super::super::export::{PROVENANCE, SOURCE_ROW};
+use super::super::export::{PARTNER_LABEL, PROVENANCE, SOURCE_ROW};
 use super::super::{DEFAULT_FOLD_KEY, OLD_FOLD_KEY, ReadOptions};
 use crate::error::{Error, Result};
 
@@ -191,7 +191,7 @@ pub fn resolve(path: &Path, at: &str, names: Vec<String>, opts: &ReadOptions) ->
     // An embloom export carries all four provenance columns; they are not features.
     let is_export = PROVENANCE.iter().all(|p| seen.contains_key(p));
     if is_export {
-        for p in PROVENANCE.iter().chain([&SOURCE_ROW]) {
+        for p in PROVENANCE.iter().chain([&SOURCE_ROW, &PARTNER_LABEL]) {
             if let Some(&i) = seen.get(p)
                 && roles[i] == Role::Feature
             {

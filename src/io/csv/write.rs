@@ -16,7 +16,7 @@ use std::path::Path;
 use super::source::TableSource;
 use super::table::Role;
 use crate::error::{Error, Result};
-use crate::io::export::{APPENDED, Column, Export, PROVENANCE};
+use crate::io::export::{APPENDED, Column, Export, PARTNER_LABEL, is_provenance};
 
 /// The table column name of an export key.
 fn heading(key: &str) -> &str {
@@ -115,10 +115,8 @@ pub fn write(tmp: &Path, sep: u8, export: &Export<'_>) -> Result<()> {
 
 /// A table from a non-table input: role columns, `f0`.., provenance.
 fn plain(out: &mut dyn Write, sep: u8, export: &Export<'_>) -> std::io::Result<()> {
-    let (lead, tail): (Vec<_>, Vec<_>) = export
-        .columns
-        .iter()
-        .partition(|(k, _)| !PROVENANCE.contains(&k.as_str()));
+    let (lead, tail): (Vec<_>, Vec<_>) =
+        export.columns.iter().partition(|(k, _)| !is_provenance(k));
     let [rows, dims] = export.stored.shape();
     let mut line = Line::new(sep);
     for (k, _) in &lead {
@@ -169,7 +167,13 @@ fn from_table(
         )
     };
     let get = |key: &str| export.column(key).ok_or_else(|| missing(key));
-    let appended = APPENDED
+    // The partner label follows the fixed columns when the set has soft-labelled rows.
+    let appended_keys: Vec<&str> = APPENDED
+        .iter()
+        .copied()
+        .chain(export.column(PARTNER_LABEL).map(|_| PARTNER_LABEL))
+        .collect();
+    let appended = appended_keys
         .iter()
         .map(|k| get(k))
         .collect::<Result<Vec<_>>>()?;
@@ -190,7 +194,7 @@ fn from_table(
     for &k in &kept {
         line.field(table.names[k].as_bytes());
     }
-    for k in APPENDED {
+    for k in &appended_keys {
         line.field(k.as_bytes());
     }
     line.finish(out).map_err(io)?;

@@ -96,6 +96,7 @@ fn augment_params(params: Option<&Bound<'_, PyDict>>) -> PyResult<AugmentParams>
             "magnitude" => p.magnitude = value.extract()?,
             "variance_kept" => p.variance_kept = value.extract()?,
             "strict" => p.strict = value.extract()?,
+            "danger_neighbours" => p.danger_neighbours = value.extract()?,
             "metric" => p.metric = metric(&value.extract::<String>()?, "metric")?,
             "index" => {
                 p.index = match value.extract::<String>()?.as_str() {
@@ -114,7 +115,7 @@ fn augment_params(params: Option<&Bound<'_, PyDict>>) -> PyResult<AugmentParams>
                 return Err(param_err(
                     other,
                     format!("'{other}' is not a method parameter"),
-                    "use k, magnitude, variance_kept, metric, index or strict",
+                    "use k, magnitude, variance_kept, metric, index, strict or danger_neighbours",
                 ));
             }
         }
@@ -147,6 +148,7 @@ type SetTuple<'py> = (
     Bound<'py, PyArray1<i64>>,
     Bound<'py, PyArray1<i64>>,
     Bound<'py, PyArray1<f32>>,
+    Option<Vec<String>>,
 );
 
 fn set_tuple(py: Python<'_>, set: AugmentedSet) -> SetTuple<'_> {
@@ -156,6 +158,7 @@ fn set_tuple(py: Python<'_>, set: AugmentedSet) -> SetTuple<'_> {
         parent,
         partner,
         weight,
+        partner_label,
     } = set;
     (
         data.x.into_pyarray(py),
@@ -168,6 +171,7 @@ fn set_tuple(py: Python<'_>, set: AugmentedSet) -> SetTuple<'_> {
         parent.into_pyarray(py),
         partner.into_pyarray(py),
         weight.into_pyarray(py),
+        partner_label,
     )
 }
 
@@ -234,6 +238,7 @@ fn read<'py>(
         parent: loaded.parent.unwrap_or_else(|| (0..n as i64).collect()),
         partner: loaded.partner.unwrap_or_else(|| vec![-1; n]),
         weight: vec![0.0; n],
+        partner_label: None,
         data: loaded.dataset,
     };
     Ok((set_tuple(py, set), loaded.notes))

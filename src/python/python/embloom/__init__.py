@@ -60,7 +60,9 @@ class Grown:
 
     ``origin`` is ``"real"`` or the method's name, ``parent`` the real row a synthetic row was
     made from, ``partner`` the neighbour used (-1 for none), ``weight`` the method's u, λ or
-    noise magnitude (0 for real rows).
+    noise magnitude (0 for real rows). For ``mix`` rows ``partner_label`` is the partner's
+    class (empty for other rows; ``None`` when no row is mixed): the row's soft target is
+    ``weight`` on ``y`` and ``1 - weight`` on ``partner_label``.
     """
 
     x: np.ndarray
@@ -69,6 +71,7 @@ class Grown:
     parent: np.ndarray
     partner: np.ndarray
     weight: np.ndarray
+    partner_label: Optional[np.ndarray] = None
 
 
 def _rows(x: Any) -> np.ndarray:
@@ -184,7 +187,8 @@ def grow(
 
     ``target`` is ``largest``, ``median``, a count (``"500"``) or a multiple (``"2x"``);
     ``classes`` limits growth to the named classes. ``method_params`` are the method's
-    parameters: ``k``, ``magnitude``, ``variance_kept``, ``metric``, ``index``, ``strict``.
+    parameters: ``k``, ``magnitude``, ``variance_kept``, ``metric``, ``index``, ``strict``,
+    ``danger_neighbours``.
     The result equals what ``embloom grow`` writes for the same rows, labels and seed.
     """
     rows = _rows(x)
@@ -200,7 +204,7 @@ def grow(
         unit_norm,
         method_params,
     )
-    gx, glabels, gclasses, _ids, _groups, _folds, origin, parent, partner, weight = out
+    gx, glabels, gclasses, _ids, _groups, _folds, origin, parent, partner, weight, plabel = out
     return Grown(
         x=gx,
         y=np.asarray(gclasses, dtype=object)[glabels],
@@ -208,6 +212,7 @@ def grow(
         parent=parent,
         partner=partner,
         weight=weight,
+        partner_label=None if plabel is None else np.asarray(plabel, dtype=object),
     )
 
 

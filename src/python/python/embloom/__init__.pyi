@@ -37,6 +37,7 @@ class Grown:
     parent: np.ndarray
     partner: np.ndarray
     weight: np.ndarray
+    partner_label: Optional[np.ndarray]
 
 class Results:
     data: dict[str, Any]
