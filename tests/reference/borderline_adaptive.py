@@ -88,14 +88,15 @@ def main():
                     fragile.append(int(i))
             r = np.asarray(r, dtype=np.float64)
             total = r.sum()
-            g = (r / total * ADASYN_G) if total > 0 else np.full(len(r), np.nan)
+            # No row near another class: the shares are undefined (0/0), written as null.
+            g = [float(v) for v in r / total * ADASYN_G] if total > 0 else None
             adaptive.append({
                 "k": k,
                 "class": c,
                 "g_total": ADASYN_G,
                 "rows": [int(i) for i in rows],
                 "r": [float(v) for v in r],
-                "g": [float(v) for v in g],
+                "g": g,
                 "fragile": fragile,
             })
     out = {
