@@ -260,9 +260,9 @@ fn exports_carry_the_partner_label_and_a_grown_file_with_mix_is_refused() {
         .expect("a mix set has partner labels");
     let n_real = ds.n_rows();
     assert!(labels[..n_real].iter().all(String::is_empty));
-    for r in n_real..set.data.n_rows() {
+    for (r, label) in labels.iter().enumerate().skip(n_real) {
         let j = set.partner[r] as usize;
-        assert_eq!(labels[r], ds.classes[ds.labels[j] as usize]);
+        assert_eq!(*label, ds.classes[ds.labels[j] as usize]);
         assert_ne!(set.data.labels[r], ds.labels[j]);
         assert!((0.5..=1.0).contains(&set.weight[r]));
     }
