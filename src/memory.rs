@@ -96,6 +96,15 @@ impl Estimate {
         self
     }
 
+    /// Add mix's copy of the `rows` training rows its partners are drawn from
+    /// ([`crate::augment::partner_bytes`]).
+    pub fn with_partner_rows(mut self, rows: usize, dims: usize) -> Estimate {
+        let bytes = crate::augment::partner_bytes(rows, dims);
+        self.parts.push(("mix partner rows".into(), bytes));
+        self.bytes += bytes;
+        self
+    }
+
     /// "120 MiB (matrix 80 MiB, synthetic rows 40 MiB)".
     pub fn describe(&self) -> String {
         let parts: Vec<String> = self

@@ -25,6 +25,13 @@ use crate::seed::Rng;
 /// α of Beta(α, α) when no magnitude is given (see the module notes).
 pub const DEFAULT_ALPHA: f32 = 0.4;
 
+/// Bytes a fit holds beyond its input for partners drawn from `rows` training rows of `dims`:
+/// its own copy of the rows (f32) and their labels (u32), for the memory estimate checked
+/// before any work.
+pub fn partner_bytes(rows: usize, dims: usize) -> u64 {
+    (rows as u64).saturating_mul((dims as u64).saturating_add(1).saturating_mul(4))
+}
+
 /// Unchecked mixup parameters; [`ParamGuard::check`] gives the valid ones.
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct MixParams(MixValidParams);

@@ -15,6 +15,7 @@ mod unit_norm;
 pub use assemble::{assemble, grow_dataset};
 pub use calibrated::{lender_bytes, parse_tukey};
 pub use grow::{Grown, describe_notes, grow};
+pub use mix::partner_bytes;
 pub use neighbour_methods::{NeighbourParams, PairPath};
 pub use params::{AugmentParams, MethodParams, Param, ParamGuard};
 pub use plan::{Plan, Target, class_indices, plan_for};

@@ -335,6 +335,10 @@ fn check_memory(
             .collect();
         est = est.with_lenders(&lenders, ds.dims(), rayon::current_num_threads());
     }
+    if config.methods.contains(&MethodKind::Mix) {
+        let n = ds.n_rows();
+        est = est.with_partner_rows(n - n / config.folds.max(2), ds.dims());
+    }
     let est = est.with_fold_records(
         config.repeats.max(1)
             * config.folds.max(2)

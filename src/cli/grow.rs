@@ -187,6 +187,9 @@ fn check_memory(ds: &embloom::Dataset, plan: &Plan, opts: &GrowOptions) -> Resul
             .collect();
         est = est.with_lenders(&lenders, ds.dims(), rayon::current_num_threads());
     }
+    if opts.method == MethodKind::Mix {
+        est = est.with_partner_rows(ds.n_rows(), ds.dims());
+    }
     embloom::memory::check(
         &est,
         opts.max_memory,
