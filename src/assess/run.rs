@@ -461,6 +461,8 @@ pub(super) fn assess_reusing(
                             model: None,
                         }
                     }
+                    // A mixed row counts in its dominant class's mean only: a prototype is the
+                    // mean of a class's members (see the README's `mix`).
                     (None, ProbeKind::Centroid) => Evaluated {
                         pred: centroid_probe.predict(
                             &[ctx.train.x.view(), grown.x.view()],
