@@ -9,7 +9,7 @@ import pytest
 
 import embloom
 
-from conftest import run_cli
+from conftest import cli_grow, run_cli
 
 
 @pytest.fixture
@@ -35,12 +35,7 @@ def sphere_set(small_set):
 )
 def test_grow_knobs_equal_cli(tmp_path, sphere_set, method, params, cli_flags):
     x, y = sphere_set
-    src = tmp_path / "in.npz"
-    np.savez(src, embeddings=x, labels=y)
-    out = tmp_path / "out.npz"
-    run_cli("grow", str(src), "--method", method, "--target", "largest", "--seed", "11",
-            "-o", str(out), *cli_flags)
-    cli = np.load(out, allow_pickle=False)
+    cli = cli_grow(tmp_path, x, y, method, *cli_flags)
     grown = embloom.grow(x, y, method=method, target="largest", seed=11, **params)
     assert grown.x.tobytes() == cli["embeddings"].astype(np.float32).tobytes()
     assert np.array_equal(grown.parent, cli["parent"])
