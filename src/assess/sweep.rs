@@ -314,16 +314,22 @@ pub fn sweep_sets(
             .map(|k| k.name())
             .collect();
         if used.is_empty() {
-            let why = match method {
-                MethodId::Kind(_) => "it makes no rows and reads no parameter".to_string(),
-                _ => format!(
-                    "its rows were made before the split and the external budget is {budget}, so no knob changes how many are drawn"
+            let (why, fix) = match method {
+                MethodId::Kind(_) => (
+                    "it makes no rows and reads no parameter".to_string(),
+                    "assess it with assess instead, or sweep a method with knobs, such as interpolate or logit-adjust",
+                ),
+                _ => (
+                    format!(
+                        "its rows were made before the split and the external budget is {budget}, so no knob changes how many are drawn"
+                    ),
+                    "sweep target under the match budget, or assess the set with assess instead",
                 ),
             };
             return Err(Error::param(
                 "method",
                 format!("{method} has no knobs: {why}"),
-                "assess it with assess instead, sweep target under the match budget, or sweep a method with knobs, such as interpolate or logit-adjust",
+                fix,
             ));
         }
         return Err(Error::param(

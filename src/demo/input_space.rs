@@ -155,7 +155,10 @@ mod tests {
         let s = survey(7);
         let real = &s.dataset;
         let set = mirrored(7);
-        for (from, to) in [("no-left-turn", "no-right-turn"), ("keep-left", "keep-right")] {
+        for (from, to) in [
+            ("no-left-turn", "no-right-turn"),
+            ("keep-left", "keep-right"),
+        ] {
             let (f, t) = (
                 real.class_index(from).unwrap(),
                 real.class_index(to).unwrap(),
@@ -167,7 +170,11 @@ mod tests {
                     .sum::<f64>()
                     / rows.len() as f64
             };
-            let of = |c: u32| (0..real.n_rows()).filter(|&r| real.labels[r] == c).collect();
+            let of = |c: u32| {
+                (0..real.n_rows())
+                    .filter(|&r| real.labels[r] == c)
+                    .collect()
+            };
             let flipped = along(
                 set.x.view(),
                 (0..set.x.nrows())
