@@ -33,5 +33,5 @@ pub use run::{
     assess_with_observed, fold_copies_bytes,
 };
 pub use summary::{LEVEL, summary_with};
-pub use sweep::{Knob, SweepPoint, SweepResults, SweepValue, sweep};
+pub use sweep::{Knob, SweepPoint, SweepResults, SweepValue, sweep, sweep_sets};
 pub use thin_classes::check_thin_classes;

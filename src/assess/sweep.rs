@@ -6,7 +6,10 @@ use std::str::FromStr;
 
 use serde::Serialize;
 
-use super::config::AssessConfig;
+use super::config::{AssessConfig, ExternalBudget, ExternalConfig, ExternalRecord};
+use super::external::RowSets;
+use super::from_file::FileRows;
+use super::method_id::MethodId;
 use super::results::InputInfo;
 use super::run::{Reuse, assess_reusing};
 use crate::augment::{self, MethodKind, Param, Target};
@@ -86,6 +89,19 @@ impl Knob {
         match self.param() {
             Some(p) => method.reads_param(p),
             None => method.makes_rows(),
+        }
+    }
+
+    /// Whether this knob changes the rows of `method` (a method run in each fold, an external
+    /// set, or a union of these). An external set's rows were made before the split, so no
+    /// method parameter moves them; only the target does, through the `match` budget, which
+    /// draws as many of them as the plan adds.
+    pub fn moves(self, method: &MethodId, budget: ExternalBudget) -> bool {
+        match method {
+            MethodId::Kind(k) => self.used_by(*k),
+            MethodId::External(_) => self == Knob::Target && budget == ExternalBudget::Match,
+            MethodId::FromFile(_) => false,
+            MethodId::Union(parts) => parts.iter().any(|p| self.moves(p, budget)),
         }
     }
 
@@ -218,14 +234,18 @@ pub struct SweepResults {
     pub embloom_version: String,
     /// The input file and its class counts.
     pub input: InputInfo,
-    /// The method whose knob was turned.
-    pub method: MethodKind,
+    /// The method whose knob was turned: a method run in each fold, an external set or a
+    /// union.
+    pub method: MethodId,
     /// The knob turned.
     pub knob: Knob,
     /// The seed; every value shares the same folds.
     pub seed: u64,
     /// One point per value × probe × metric, the baseline first.
     pub points: Vec<SweepPoint>,
+    /// The external sets swept (their files and the budget), when the method uses any.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub external: Option<ExternalRecord>,
     /// Things the user should hear about, in parameter names; the binary prints them.
     pub warnings: Vec<String>,
 }
@@ -238,26 +258,86 @@ pub fn sweep(
     knob: Knob,
     values: &[String],
     input: InputInfo,
+    progress: impl FnMut(usize, &str),
+) -> Result<SweepResults> {
+    sweep_sets(
+        ds,
+        base,
+        &MethodId::Kind(method),
+        knob,
+        values,
+        input,
+        RowSets::files(&[]),
+        progress,
+    )
+}
+
+/// [`sweep`] of a method, an external set of `sets` or a union (`flips+interpolate`): the
+/// sets' rows are gated and drawn per fold as `assess` does, under `sets.config.budget`.
+/// Only the sets `method` names are assessed.
+#[allow(clippy::too_many_arguments)]
+pub fn sweep_sets(
+    ds: &Dataset,
+    base: &AssessConfig,
+    method: &MethodId,
+    knob: Knob,
+    values: &[String],
+    input: InputInfo,
+    sets: RowSets<'_>,
     mut progress: impl FnMut(usize, &str),
 ) -> Result<SweepResults> {
-    if method == MethodKind::None {
+    let budget = sets.config.budget;
+    if method.is_baseline() {
         return Err(Error::param(
             "method",
             "none has no knobs",
             "sweep a method that makes rows, such as interpolate",
         ));
     }
-    if !knob.used_by(method) {
+    let parts: Vec<MethodId> = match method {
+        MethodId::Union(parts) => parts.clone(),
+        other => vec![other.clone()],
+    };
+    let kinds: Vec<MethodKind> = parts.iter().filter_map(MethodId::kind).collect();
+    let rows: Vec<FileRows> = sets
+        .rows
+        .iter()
+        .filter(|r| r.is_external() && parts.contains(&r.id()))
+        .cloned()
+        .collect();
+    if let Some(missing) = parts
+        .iter()
+        .find(|p| p.kind().is_none() && !rows.iter().any(|r| r.id() == **p))
+    {
+        return Err(Error::param(
+            "method",
+            format!("'{missing}' is neither a method nor an external set given to the sweep"),
+            "give the external set with its file, or sweep a method by its name",
+        ));
+    }
+    if !knob.moves(method, budget) {
         let used: Vec<_> = Knob::ALL
             .into_iter()
-            .filter(|k| k.used_by(method))
+            .filter(|k| k.moves(method, budget))
             .map(|k| k.name())
             .collect();
         if used.is_empty() {
+            let (why, fix) = match method {
+                MethodId::Kind(_) => (
+                    "it makes no rows and reads no parameter".to_string(),
+                    "assess it with assess instead, or sweep a method with knobs, such as interpolate or logit-adjust",
+                ),
+                _ => (
+                    format!(
+                        "its rows were made before the split and the external budget is {budget}, so no knob changes how many are drawn"
+                    ),
+                    "sweep target under the match budget, or assess the set with assess instead",
+                ),
+            };
             return Err(Error::param(
                 "method",
-                format!("{method} has no knobs: it makes no rows and reads no parameter"),
-                "assess it with assess instead, or sweep a method with knobs, such as interpolate or logit-adjust",
+                format!("{method} has no knobs: {why}"),
+                fix,
             ));
         }
         return Err(Error::param(
@@ -266,6 +346,27 @@ pub fn sweep(
             format!("sweep one of the knobs {method} uses: {}", used.join(", ")),
         ));
     }
+    let external = ExternalConfig {
+        budget,
+        unions: match method {
+            MethodId::Union(_) => vec![method.clone()],
+            _ => Vec::new(),
+        },
+    };
+    let infos: Vec<_> = sets
+        .sets
+        .iter()
+        .filter(|i| {
+            rows.iter()
+                .any(|r| r.id() == MethodId::External(i.name.clone()))
+        })
+        .cloned()
+        .collect();
+    let swept_sets = RowSets {
+        rows: &rows,
+        config: &external,
+        sets: &infos,
+    };
     if values.is_empty() {
         return Err(Error::param(
             "values",
@@ -281,7 +382,9 @@ pub fn sweep(
         .iter()
         .map(|v| {
             let mut c = knob.apply(base, v)?;
-            c.methods = vec![MethodKind::None, method];
+            c.methods = std::iter::once(MethodKind::None)
+                .chain(kinds.iter().copied())
+                .collect();
             c.diagnostics = false;
             c.validated()
         })
@@ -302,7 +405,7 @@ pub fn sweep(
             cfg,
             input.clone(),
             &augmenters,
-            super::external::RowSets::files(&[]),
+            swept_sets,
             &mut |_| {},
             &mut reuse,
         )?;
@@ -328,7 +431,7 @@ pub fn sweep(
         for row in r
             .summary
             .iter()
-            .filter(|s| s.method == method && Metric::HEADLINE.contains(&s.metric))
+            .filter(|s| s.method == *method && Metric::HEADLINE.contains(&s.metric))
         {
             points.push(SweepPoint {
                 value: SweepValue::Given(value.clone()),
@@ -365,10 +468,11 @@ pub fn sweep(
     Ok(SweepResults {
         embloom_version: env!("CARGO_PKG_VERSION").to_string(),
         input,
-        method,
+        method: method.clone(),
         knob,
         seed: base.seed,
         points,
+        external: swept_sets.record(),
         warnings,
     })
 }

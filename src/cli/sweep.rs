@@ -5,11 +5,16 @@ use std::path::PathBuf;
 use clap::Args;
 use indicatif::ProgressBar;
 
-use super::args::{InputArgs, MethodArgs, parse_method};
-use super::assess::load;
+use super::args::{
+    ExternalArgs, InputArgs, MethodArgs, MethodEntry, parse_method_entry, split_methods,
+};
+use super::assess::{load, with_external};
 use super::progress::show_progress;
 use super::protocol::ProtocolArgs;
-use embloom::assess::{AssessConfig, Knob, SweepResults, check_thin_classes, sweep};
+use embloom::assess::{
+    AssessConfig, ExternalConfig, Knob, MethodId, RowSets, SweepResults, check_thin_classes,
+    sweep_sets,
+};
 use embloom::augment::MethodKind;
 use embloom::error::{Error, Result};
 use embloom::io::{self, ReadOptions, write_atomically};
@@ -20,9 +25,12 @@ use embloom::io::{self, ReadOptions, write_atomically};
 pub struct SweepArgs {
     #[command(flatten)]
     pub input: InputArgs,
-    /// The method whose knob is turned.
-    #[arg(long, value_parser = parse_method)]
-    pub method: MethodKind,
+    /// The method whose knob is turned; also an external set's name (only target moves it,
+    /// under --external-budget match) or a union joined by + (e.g. flips+interpolate).
+    #[arg(long, value_parser = parse_method_entry)]
+    pub method: MethodEntry,
+    #[command(flatten)]
+    pub external: ExternalArgs,
     /// magnitude, neighbours, target, variance-kept, tau, borrowed-classes, tukey or
     /// danger-neighbours.
     #[arg(long, value_parser = parse_knob)]
@@ -52,14 +60,23 @@ fn parse_knob(s: &str) -> std::result::Result<Knob, String> {
 
 /// Run `embloom sweep` and print its table (or JSON).
 pub fn run(a: SweepArgs, quiet: bool) -> anyhow::Result<()> {
-    let config = a
-        .protocol
-        .config(vec![MethodKind::None, a.method], &a.how, false);
+    // Refuses a name that is neither a method nor one of the external sets.
+    split_methods(std::slice::from_ref(&a.method), &a.external.external)?;
+    let method = match &a.method {
+        MethodEntry::Kind(k) => MethodId::Kind(*k),
+        MethodEntry::Named(id) => id.clone(),
+    };
+    let config = a.protocol.config(vec![MethodKind::None], &a.how, false);
     let opts = SweepOptions {
         input: a.input.file.clone(),
         read: a.input.read_options(),
         config,
-        method: a.method,
+        method,
+        external: a.external.external.clone(),
+        external_config: ExternalConfig {
+            budget: a.external.external_budget,
+            unions: Vec::new(),
+        },
         knob: a.knob,
         values: a.values.clone(),
         csv: a.csv.clone(),
@@ -82,7 +99,11 @@ pub struct SweepOptions {
     pub input: PathBuf,
     pub read: ReadOptions,
     pub config: AssessConfig,
-    pub method: MethodKind,
+    pub method: MethodId,
+    /// External sets by name and file, read as `assess --external` reads them.
+    pub external: Vec<(String, PathBuf)>,
+    /// The budget the external sets are drawn under (the union, if any, is the method).
+    pub external_config: ExternalConfig,
     pub knob: Knob,
     pub values: Vec<String>,
     pub csv: Option<PathBuf>,
@@ -93,10 +114,13 @@ pub struct SweepOptions {
 /// stderr before the work (it stays in the results).
 pub fn execute(opts: &SweepOptions, show_progress: bool) -> Result<(SweepResults, Option<String>)> {
     if let Some(csv) = &opts.csv {
-        let inputs = io::output_target::inputs_of(&opts.input, &opts.read);
+        let mut inputs = io::output_target::inputs_of(&opts.input, &opts.read);
+        inputs.extend(opts.external.iter().map(|(_, p)| p.as_path()));
         io::output_target::check_file(csv, opts.force, &inputs, None)?;
     }
-    let loaded = load(&opts.input, &opts.read)?;
+    let mut loaded = load(&opts.input, &opts.read)?;
+    let not_swept_notes = not_swept(&loaded.file);
+    let (rows, sets) = with_external(&mut loaded, &opts.external, &opts.read)?;
     let ds = &loaded.file.real;
     let mut config = opts.config.clone();
     // Checked again by the library; here so the warning comes before the work.
@@ -111,13 +135,18 @@ pub fn execute(opts: &SweepOptions, show_progress: bool) -> Result<(SweepResults
     } else {
         ProgressBar::hidden()
     };
-    let mut results = sweep(
+    let mut results = sweep_sets(
         ds,
         &config,
-        opts.method,
+        &opts.method,
         opts.knob,
         &opts.values,
         loaded.info.clone(),
+        RowSets {
+            rows: &rows,
+            config: &opts.external_config,
+            sets: &sets,
+        },
         |done, value| {
             bar.set_position(done as u64);
             bar.set_message(format!("{} = {value}", opts.knob));
@@ -126,7 +155,7 @@ pub fn execute(opts: &SweepOptions, show_progress: bool) -> Result<(SweepResults
     bar.finish_and_clear();
     results.warnings.extend(clamped);
     results.warnings.extend(loaded.file.left_out.clone());
-    results.warnings.extend(not_swept(&loaded.file));
+    results.warnings.extend(not_swept_notes);
     results.warnings = results
         .warnings
         .iter()

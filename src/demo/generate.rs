@@ -26,6 +26,21 @@ pub struct SignType {
     pub family: usize,
     /// For a mirror pair: the partner's index and this side's sign (+1 / −1).
     pub mirror: Option<(usize, f64)>,
+    /// What a mirrored crop of this sign shows (the invented mirrored set follows it).
+    pub mirrored: Mirrored,
+}
+
+/// What a left-right mirrored crop of a sign type shows, decided per type for the invented
+/// mirrored set (data/README.md gives the reasons).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Mirrored {
+    /// The same sign: the mirror image of a symmetric sign, or of one whose pictogram is
+    /// drawn facing either way.
+    Itself,
+    /// The mirror pair's other sign: the label moves to it.
+    Partner,
+    /// No real sign (mirrored digits or lettering); a careful pipeline does not mirror it.
+    NotASign,
 }
 
 /// The sign types of the demo, in file order. Counts are invented.
@@ -35,76 +50,112 @@ pub const SIGN_TYPES: [SignType; 11] = [
         crops: 240,
         family: 3,
         mirror: None,
+        mirrored: Mirrored::NotASign,
     },
     SignType {
         name: "yield",
         crops: 200,
         family: 1,
         mirror: None,
+        mirrored: Mirrored::Itself,
     },
     SignType {
         name: "speed-limit-30",
         crops: 180,
         family: 0,
         mirror: None,
+        mirrored: Mirrored::NotASign,
     },
     SignType {
         name: "speed-limit-50",
         crops: 160,
         family: 0,
         mirror: None,
+        mirrored: Mirrored::NotASign,
     },
     SignType {
         name: "pedestrian-crossing",
         crops: 140,
         family: 1,
         mirror: None,
+        mirrored: Mirrored::Itself,
     },
     SignType {
         name: "no-entry",
         crops: 120,
         family: 0,
         mirror: None,
+        mirrored: Mirrored::Itself,
     },
     SignType {
         name: "no-left-turn",
         crops: 110,
         family: 0,
         mirror: Some((7, 1.0)),
+        mirrored: Mirrored::Partner,
     },
     SignType {
         name: "no-right-turn",
         crops: 16,
         family: 0,
         mirror: Some((6, -1.0)),
+        mirrored: Mirrored::Partner,
     },
     SignType {
         name: "keep-left",
         crops: 90,
         family: 2,
         mirror: Some((9, 1.0)),
+        mirrored: Mirrored::Partner,
     },
     SignType {
         name: "keep-right",
         crops: 14,
         family: 2,
         mirror: Some((8, -1.0)),
+        mirrored: Mirrored::Partner,
     },
     SignType {
         name: "falling-rocks",
         crops: 10,
         family: 1,
         mirror: None,
+        mirrored: Mirrored::Itself,
     },
 ];
 
-const LATENT: usize = 32;
-const DIMS: usize = 256;
+pub(super) const LATENT: usize = 32;
+pub(super) const DIMS: usize = 256;
 const SPREAD_RANK: usize = 6;
 
 /// The demo dataset for `seed` (the shipped file uses seed 7). Rows are interleaved across
 /// sign types in survey order; labels are sign-type names; groups are pole ids.
 pub fn street_signs(seed: u64) -> Dataset {
+    survey(seed).dataset
+}
+
+/// The invented survey behind the demo dataset: the rows, and what made them, so the
+/// input-space sets (`super::input_space`) can change a crop the way a transform of its image
+/// would and embed it again.
+pub(super) struct Survey {
+    pub dataset: Dataset,
+    /// The fixed map from the latent space to the embedding (`LATENT` orthonormal rows).
+    pub projection: Array2<f64>,
+    /// Per row, its sign type's index in [`SIGN_TYPES`].
+    pub types: Vec<usize>,
+    /// Per row, its latent vector.
+    pub latents: Vec<Array1<f64>>,
+    /// Per row, its embedding before normalisation (projection plus background noise).
+    pub raw: Vec<Array1<f64>>,
+    /// Per sign type, the direction a mirror flips and the point it flips about: the pair's
+    /// shared centre for a mirror pair, the type's own mean otherwise.
+    pub mirror_axes: Vec<(Array1<f64>, Array1<f64>)>,
+}
+
+/// Standard deviation of the background noise added to every embedding coordinate.
+pub(super) const BACKGROUND_NOISE: f64 = 0.035;
+
+pub(super) fn survey(seed: u64) -> Survey {
     let mut rng = seed::stream(seed, &[seed::tag("demo-street-signs")]);
     let projection = orthonormal_rows(LATENT, DIMS, &mut rng);
     let families: Vec<Array1<f64>> = (0..4)
@@ -135,6 +186,18 @@ pub fn street_signs(seed: u64) -> Dataset {
                 m = m + h * (0.45 * side);
             }
             m
+        })
+        .collect();
+    let mirror_axes: Vec<(Array1<f64>, Array1<f64>)> = SIGN_TYPES
+        .iter()
+        .enumerate()
+        .map(|(i, t)| {
+            let h = handedness[usize::from(t.family == 2)].clone();
+            let centre = match t.mirror {
+                Some(_) => &families[t.family] + &offsets[i],
+                None => means[i].clone(),
+            };
+            (h, centre)
         })
         .collect();
     let spreads: Vec<Array2<f64>> = SIGN_TYPES
@@ -169,13 +232,11 @@ pub fn street_signs(seed: u64) -> Dataset {
     }
 
     let mut x = Array2::<f32>::zeros((rows.len(), DIMS));
+    let mut raw = Vec::with_capacity(rows.len());
     for (r, (_, _, latent)) in rows.iter().enumerate() {
-        let mut v = projection.t().dot(latent) + gaussian_vec(DIMS, 0.035, &mut rng);
-        let norm = v.dot(&v).sqrt();
-        v /= norm;
-        for (dst, src) in x.row_mut(r).iter_mut().zip(v.iter()) {
-            *dst = *src as f32;
-        }
+        let v = projection.t().dot(latent) + gaussian_vec(DIMS, BACKGROUND_NOISE, &mut rng);
+        write_unit(x.row_mut(r), &v);
+        raw.push(v);
     }
     // Class indices follow SIGN_TYPES order so that reports list sign types consistently.
     let labels = rows.iter().map(|(t, _, _)| *t as u32).collect();
@@ -184,16 +245,36 @@ pub fn street_signs(seed: u64) -> Dataset {
         labels,
         SIGN_TYPES.iter().map(|t| t.name.to_string()).collect(),
     );
-    ds.ids = Some((0..rows.len()).map(|i| format!("crop-{i:05}")).collect());
+    ds.ids = Some((0..rows.len()).map(crop_id).collect());
     ds.groups = Some(
         rows.iter()
             .map(|(_, p, _)| format!("pole-{p:04}"))
             .collect(),
     );
-    ds
+    Survey {
+        dataset: ds,
+        projection,
+        types: rows.iter().map(|(t, _, _)| *t).collect(),
+        latents: rows.into_iter().map(|(_, _, l)| l).collect(),
+        raw,
+        mirror_axes,
+    }
 }
 
-fn gaussian_vec(n: usize, scale: f64, rng: &mut Rng) -> Array1<f64> {
+/// The id of the survey's row `r`.
+pub(super) fn crop_id(r: usize) -> String {
+    format!("crop-{r:05}")
+}
+
+/// `v` scaled to unit length, as f32, into `row`: every embedding of the scenario is unit-norm.
+pub(super) fn write_unit(mut row: ndarray::ArrayViewMut1<f32>, v: &Array1<f64>) {
+    let norm = v.dot(v).sqrt();
+    for (dst, src) in row.iter_mut().zip(v.iter()) {
+        *dst = (*src / norm) as f32;
+    }
+}
+
+pub(super) fn gaussian_vec(n: usize, scale: f64, rng: &mut Rng) -> Array1<f64> {
     Array1::from_shape_fn(n, |_| {
         scale * {
             let z: f64 = StandardNormal.sample(rng);
@@ -202,7 +283,7 @@ fn gaussian_vec(n: usize, scale: f64, rng: &mut Rng) -> Array1<f64> {
     })
 }
 
-fn gaussian_unit(n: usize, rng: &mut Rng) -> Array1<f64> {
+pub(super) fn gaussian_unit(n: usize, rng: &mut Rng) -> Array1<f64> {
     let v = gaussian_vec(n, 1.0, rng);
     let norm = v.dot(&v).sqrt();
     v / norm

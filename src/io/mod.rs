@@ -404,6 +404,52 @@ pub fn write_carrying(
 ) -> Result<()> {
     let format = output_format(path)?;
     let export = export::prepare(path, set, matches!(format, Format::Csv | Format::Tsv))?;
+    write_export(path, format, &export, force, carried)
+}
+
+/// Write rows with their labels and each row's parent as the real file names it (an id, or a
+/// row index as text): the layout `assess --external` reads, all or nothing. The rows are
+/// not a grown set (their parents are rows of another file), so no provenance is written.
+pub fn write_with_parents(
+    path: &Path,
+    x: &ndarray::Array2<f32>,
+    labels: &[String],
+    parents: &[String],
+    force: bool,
+) -> Result<()> {
+    let format = output_format(path)?;
+    if labels.len() != x.nrows() || parents.len() != x.nrows() {
+        return Err(Error::output(
+            path,
+            format!(
+                "{} rows, {} labels and {} parents",
+                x.nrows(),
+                labels.len(),
+                parents.len()
+            ),
+            "this is a bug in the caller; please report it",
+        ));
+    }
+    let export = export::Export {
+        stored: export::Matrix::F32(x),
+        columns: vec![
+            ("labels".to_string(), export::Column::Text(labels.to_vec())),
+            ("parent".to_string(), export::Column::Text(parents.to_vec())),
+        ],
+        table: None,
+        n_real: x.nrows(),
+    };
+    write_export(path, format, &export, force, None)
+}
+
+#[cfg_attr(not(feature = "columnar"), allow(unused_variables))]
+fn write_export(
+    path: &Path,
+    format: Format,
+    export: &export::Export<'_>,
+    force: bool,
+    carried: Option<&Carried>,
+) -> Result<()> {
     atomic::write_with(path, force, |tmp| match format {
         Format::Npz => {
             let file = std::fs::OpenOptions::new()
@@ -411,17 +457,17 @@ pub fn write_carrying(
                 .truncate(true)
                 .open(tmp)
                 .map_err(|e| Error::io(tmp, e))?;
-            npz::write(file, &export).map_err(|e| Error::io(tmp, e))
+            npz::write(file, export).map_err(|e| Error::io(tmp, e))
         }
-        Format::Csv => csv::write(tmp, b',', &export),
-        Format::Tsv => csv::write(tmp, b'\t', &export),
-        Format::Safetensors => stream(tmp, |w| safetensors::write(w, &export)),
+        Format::Csv => csv::write(tmp, b',', export),
+        Format::Tsv => csv::write(tmp, b'\t', export),
+        Format::Safetensors => stream(tmp, |w| safetensors::write(w, export)),
         #[cfg(feature = "hdf5")]
-        Format::Hdf5 => hdf5::write(tmp, &export),
+        Format::Hdf5 => hdf5::write(tmp, export),
         #[cfg(feature = "columnar")]
-        Format::Parquet => columnar::write_parquet(tmp, &export, carried),
+        Format::Parquet => columnar::write_parquet(tmp, export, carried),
         #[cfg(feature = "columnar")]
-        Format::Arrow => columnar::write_ipc(tmp, &export, carried),
+        Format::Arrow => columnar::write_ipc(tmp, export, carried),
         _ => Err(Error::output(
             path,
             "unsupported output format",

@@ -15,6 +15,7 @@ mod cli_grow;
 mod cli_inspect;
 mod cli_mix;
 mod cli_sweep;
+mod cli_sweep_external;
 mod cli_thin_classes;
 mod csv_round_trip;
 mod demo_data;

@@ -31,6 +31,17 @@ def run_cli(*args: str) -> subprocess.CompletedProcess:
     return subprocess.run([cli_binary(), *args], capture_output=True, text=True, check=True)
 
 
+def cli_grow(tmp_path: Path, x, y, method: str, *flags: str):
+    """`embloom grow` of the rows ``x``, ``y`` to the largest class at seed 11, as loaded
+    from its npz output."""
+    src = tmp_path / "in.npz"
+    np.savez(src, embeddings=x, labels=y)
+    out = tmp_path / "out.npz"
+    run_cli("grow", str(src), "--method", method, "--target", "largest", "--seed", "11",
+            "-o", str(out), *flags)
+    return np.load(out, allow_pickle=False)
+
+
 @pytest.fixture
 def small_set():
     """Three imbalanced Gaussian classes in 8 dimensions (seeded; no figure depends on it

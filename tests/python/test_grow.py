@@ -5,7 +5,7 @@ import pytest
 
 import embloom
 
-from conftest import run_cli
+from conftest import cli_grow
 
 
 @pytest.mark.parametrize(
@@ -21,12 +21,7 @@ from conftest import run_cli
 )
 def test_grow_bytes_equal_cli(tmp_path, small_set, method, params, cli_flags):
     x, y = small_set
-    src = tmp_path / "in.npz"
-    np.savez(src, embeddings=x, labels=y)
-    out = tmp_path / "out.npz"
-    run_cli("grow", str(src), "--method", method, "--target", "largest", "--seed", "11",
-            "-o", str(out), *cli_flags)
-    cli = np.load(out, allow_pickle=False)
+    cli = cli_grow(tmp_path, x, y, method, *cli_flags)
 
     grown = embloom.grow(x, y, method=method, target="largest", seed=11, **params)
 

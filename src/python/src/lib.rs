@@ -97,6 +97,17 @@ fn augment_params(params: Option<&Bound<'_, PyDict>>) -> PyResult<AugmentParams>
             "variance_kept" => p.variance_kept = value.extract()?,
             "strict" => p.strict = value.extract()?,
             "danger_neighbours" => p.danger_neighbours = value.extract()?,
+            "tau" => p.tau = value.extract()?,
+            "path" => p.path = value.extract::<String>()?.parse().map_err(to_py)?,
+            "borrowed_classes" => p.borrowed_classes = value.extract()?,
+            // `off` (or None) as the command line's `--tukey off`, else the power.
+            "tukey" => {
+                p.tukey = match value.extract::<Option<String>>() {
+                    Ok(None) => None,
+                    Ok(Some(s)) => embloom::augment::parse_tukey(&s).map_err(to_py)?,
+                    Err(_) => Some(value.extract::<f64>()?),
+                }
+            }
             "metric" => p.metric = metric(&value.extract::<String>()?, "metric")?,
             "index" => {
                 p.index = match value.extract::<String>()?.as_str() {
@@ -115,7 +126,7 @@ fn augment_params(params: Option<&Bound<'_, PyDict>>) -> PyResult<AugmentParams>
                 return Err(param_err(
                     other,
                     format!("'{other}' is not a method parameter"),
-                    "use k, magnitude, variance_kept, metric, index, strict or danger_neighbours",
+                    "use k, magnitude, variance_kept, metric, index, strict, danger_neighbours, tau, path, borrowed_classes or tukey",
                 ));
             }
         }

@@ -188,7 +188,9 @@ def grow(
     ``target`` is ``largest``, ``median``, a count (``"500"``) or a multiple (``"2x"``);
     ``classes`` limits growth to the named classes. ``method_params`` are the method's
     parameters: ``k``, ``magnitude``, ``variance_kept``, ``metric``, ``index``, ``strict``,
-    ``danger_neighbours``.
+    ``danger_neighbours`` (borderline's m), ``path`` (``"chord"`` or ``"sphere"``, for interpolate and extrapolate),
+    ``borrowed_classes`` and ``tukey`` (``None``/``"off"`` or the power; calibrated's), as
+    the command line's ``--path``, ``--borrowed-classes`` and ``--tukey``.
     The result equals what ``embloom grow`` writes for the same rows, labels and seed.
     """
     rows = _rows(x)
@@ -340,7 +342,8 @@ def assess(
 
     ``probes`` may also name ``"centroid"`` (nearest class mean under the k-NN metric).
     ``knn_standardize=True`` centres and scales features for the k-NN probe with each fold's
-    real training rows, as ``--knn-standardize on``.
+    real training rows, as ``--knn-standardize on``. ``method_params`` are ``grow``'s
+    (``k``, ``magnitude``, ..., ``path``, ``borrowed_classes``, ``tukey``) and ``tau``.
     """
     rows = _rows(x)
     labels, names = _labels(y, rows.shape[0])
@@ -464,7 +467,8 @@ class Stream:
     (from each epoch on, the value × factor; the full value before the first step).
 
     A batch is fixed by (seed, epoch, batch index) whatever the number of threads. ``len()``
-    is the number of batches over all epochs.
+    is the number of batches over all epochs. ``method_params`` are ``grow``'s (``k``,
+    ``magnitude``, ..., ``path``, ``borrowed_classes``, ``tukey``).
     """
 
     def __init__(

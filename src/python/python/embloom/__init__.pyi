@@ -1,5 +1,5 @@
 from os import PathLike
-from typing import Any, Iterator, Optional, Sequence, Union
+from typing import Any, Iterator, Literal, Optional, Sequence, Union
 
 import numpy as np
 
@@ -77,6 +77,9 @@ def grow(
     classes: Optional[Sequence[str]] = ...,
     seed: int = ...,
     unit_norm: str = ...,
+    path: Literal["chord", "sphere"] = ...,
+    borrowed_classes: int = ...,
+    tukey: Union[None, Literal["off"], float] = ...,
     **method_params: Any,
 ) -> Grown: ...
 def assess(
@@ -103,6 +106,9 @@ def assess(
     diagnostics: bool = ...,
     external: Optional[dict[str, tuple[Any, Any, Any]]] = ...,
     external_budget: Union[str, int] = ...,
+    path: Literal["chord", "sphere"] = ...,
+    borrowed_classes: int = ...,
+    tukey: Union[None, Literal["off"], float] = ...,
     **method_params: Any,
 ) -> Results: ...
 def inspect(
@@ -135,6 +141,9 @@ class Stream:
         schedule: Union[_ScheduleSpec, dict[str, _ScheduleSpec]] = ...,
         unit_norm: str = ...,
         seed: int = ...,
+        path: Literal["chord", "sphere"] = ...,
+        borrowed_classes: int = ...,
+        tukey: Union[None, Literal["off"], float] = ...,
         **method_params: Any,
     ) -> None: ...
     def __len__(self) -> int: ...
