@@ -123,13 +123,13 @@ def check_grown_equal(folder: Path, data, method: str, seed: int, params: dict):
 @pytest.mark.parametrize(
     "method,workers,shards,params",
     [
+        # Each single-class method once, the worker counts 1, 2 and 4 and the shard counts
+        # spread over them (every grow is two Ray Data passes, so the list is kept short).
         ("interpolate", 1, 3, {}),
-        ("interpolate", 2, 4, {}),
-        ("interpolate", 4, 5, {}),
         ("extrapolate", 2, 4, {"k": 3, "magnitude": 0.3}),
-        ("principal-noise", 4, 3, {}),
-        ("gaussian-noise", 2, 5, {}),
-        ("duplicate", 1, 4, {}),
+        ("principal-noise", 4, 5, {}),
+        ("gaussian-noise", 2, 3, {}),
+        ("duplicate", 4, 4, {}),
     ],
 )
 def test_grow_dataset_equals_single_machine(

@@ -241,8 +241,11 @@ def grow_dataset(
         remote_args: dict = {"max_retries": int(max_retries), "num_cpus": float(num_cpus)}
         if workers is not None:
             remote_args["compute"] = ray.data.TaskPoolStrategy(size=int(workers))
+        # One hash partition per class, up to Ray Data's usual parallelism: more would only
+        # add empty shuffle tasks, since a class is grown whole by one task anyway.
+        partitions = max(1, min(len(names), ray.data.DataContext.get_current().min_parallelism))
         done = (
-            ds.groupby(label_column)
+            ds.groupby(label_column, num_partitions=partitions)
             .map_groups(_grow_class, batch_format="pyarrow", fn_kwargs={"job": job}, **remote_args)
             .take_all()
         )
