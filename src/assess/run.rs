@@ -489,7 +489,8 @@ pub(super) fn gather(
         for (ai, arm) in arms.iter().enumerate() {
             let kept = only.is_none_or(|item| item.method == ai);
             // `none` is fitted for another method's step only when a linear fit starts from it.
-            if !kept && !(ai == 0 && cfg.probes.contains(&ProbeKind::Linear)) {
+            let needed = kept || (ai == 0 && cfg.probes.contains(&ProbeKind::Linear));
+            if !needed {
                 continue;
             }
             let before = (!kept).then(|| {

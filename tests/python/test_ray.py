@@ -91,6 +91,31 @@ def by_id(data):
     return x[order], y[order], ids[order]
 
 
+def grow(src: Path, out: Path, **kwargs):
+    """grow_dataset on the shards in ``src`` with the test set's columns."""
+    return eray.grow_dataset(
+        ray.data.read_parquet(str(src)),
+        label_column="label",
+        embedding_column="embedding",
+        output=out,
+        **kwargs,
+    )
+
+
+def assess(src: Path, workers: int):
+    """assess_dataset on the shards in ``src``, steps on ``workers`` half-CPU workers."""
+    return eray.assess_dataset(
+        ray.data.read_parquet(str(src)),
+        label_column="label",
+        embedding_column="embedding",
+        id_column="id",
+        workers=workers,
+        num_cpus=0.5,
+        progress=False,
+        **assess_kwargs(),
+    )
+
+
 def check_grown_equal(folder: Path, data, method: str, seed: int, params: dict):
     xs, ys, ids = by_id(data)
     single = embloom.grow(xs, ys, method=method, target="median", seed=seed, **params)
@@ -137,12 +162,10 @@ def test_grow_dataset_equals_single_machine(
 ):
     src = write_shards(tmp_path / "in", invented, shards, seed=workers * 10 + shards)
     out = tmp_path / "grown"
-    summary = eray.grow_dataset(
-        ray.data.read_parquet(str(src)),
-        label_column="label",
-        embedding_column="embedding",
+    summary = grow(
+        src,
+        out,
         id_column="id",
-        output=out,
         method=method,
         target="median",
         seed=21,
@@ -176,16 +199,7 @@ def results_without_time(results) -> dict:
 @pytest.mark.parametrize("workers,shards", [(1, 2), (2, 3), (4, 5)])
 def test_assess_dataset_equals_single_machine(cluster, invented, tmp_path, workers, shards):
     src = write_shards(tmp_path / "in", invented, shards, seed=100 + workers)
-    got = eray.assess_dataset(
-        ray.data.read_parquet(str(src)),
-        label_column="label",
-        embedding_column="embedding",
-        id_column="id",
-        workers=workers,
-        num_cpus=0.5,
-        progress=False,
-        **assess_kwargs(),
-    )
+    got = assess(src, workers)
     xs, ys, _ = by_id(invented)
     want = embloom.assess(xs, ys, progress=False, **assess_kwargs())
     assert results_without_time(got) == results_without_time(want)
@@ -196,12 +210,10 @@ def test_worker_killed_mid_grow_is_retried(cluster, invented, tmp_path):
     src = write_shards(tmp_path / "in", invented, 4, seed=7)
     out = tmp_path / "grown"
     cluster.unlink()  # armed: the next task to reach the switch ends its worker
-    eray.grow_dataset(
-        ray.data.read_parquet(str(src)),
-        label_column="label",
-        embedding_column="embedding",
+    grow(
+        src,
+        out,
         id_column="id",
-        output=out,
         method="interpolate",
         seed=21,
         workers=2,
@@ -214,16 +226,7 @@ def test_worker_killed_mid_grow_is_retried(cluster, invented, tmp_path):
 def test_worker_killed_mid_assess_is_retried(cluster, invented, tmp_path):
     src = write_shards(tmp_path / "in", invented, 3, seed=8)
     cluster.unlink()
-    got = eray.assess_dataset(
-        ray.data.read_parquet(str(src)),
-        label_column="label",
-        embedding_column="embedding",
-        id_column="id",
-        workers=2,
-        num_cpus=0.5,
-        progress=False,
-        **assess_kwargs(),
-    )
+    got = assess(src, 2)
     assert cluster.exists(), "no worker was killed: the fault was not injected"
     xs, ys, _ = by_id(invented)
     want = embloom.assess(xs, ys, progress=False, **assess_kwargs())
@@ -239,12 +242,10 @@ def test_failed_grow_leaves_no_output(cluster, invented, tmp_path):
     src = write_shards(tmp_path / "in", (x[keep], y[keep], ids[keep]), 3, seed=9)
     out = tmp_path / "grown"
     with pytest.raises(Exception, match="dog"):
-        eray.grow_dataset(
-            ray.data.read_parquet(str(src)),
-            label_column="label",
-            embedding_column="embedding",
+        grow(
+            src,
+            out,
             id_column="id",
-            output=out,
             method="interpolate",
             seed=21,
             max_retries=0,
@@ -258,13 +259,7 @@ def test_methods_reading_other_classes_are_refused(cluster, invented, tmp_path):
     src = write_shards(tmp_path / "in", invented, 2, seed=3)
     for method in ("borderline", "adaptive", "calibrated"):
         with pytest.raises(embloom.ParameterError, match="cannot grow a class on a Ray cluster"):
-            eray.grow_dataset(
-                ray.data.read_parquet(str(src)),
-                label_column="label",
-                embedding_column="embedding",
-                output=tmp_path / "grown",
-                method=method,
-            )
+            grow(src, tmp_path / "grown", method=method)
     assert not (tmp_path / "grown").exists()
 
 

@@ -23,9 +23,7 @@ use embloom::eval::IntervalKind;
 use embloom::io::{self, AugmentedSet, ReadOptions};
 use embloom::neighbors::{IndexKind, Metric};
 use embloom::probe::{KnnParams, LinearParams, ProbeKind};
-use numpy::{
-    IntoPyArray, PyArray1, PyArray2, PyArrayMethods, PyReadonlyArray1, PyReadonlyArray2,
-};
+use numpy::{IntoPyArray, PyArray1, PyArray2, PyArrayMethods, PyReadonlyArray1, PyReadonlyArray2};
 use pyo3::exceptions::PyValueError;
 use pyo3::prelude::*;
 use pyo3::types::PyBytes;
