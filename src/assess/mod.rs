@@ -5,6 +5,7 @@ mod config;
 mod external;
 mod from_file;
 mod input;
+mod items;
 mod method_id;
 mod probe_side;
 pub mod results;
@@ -25,12 +26,13 @@ pub use external::{
 };
 pub use from_file::{FileRows, GrownFile};
 pub use input::sha256_of;
+pub use items::{StepPart, StepPlan, assess_step, combine_steps, step_plan};
 pub use method_id::{MethodId, UNION_JOIN};
 pub use probe_side::not_applicable;
 pub use results::{AssessResults, HashedFile, InputInfo};
 pub use run::{
-    Progress, assess, assess_grown_observed, assess_observed, assess_sets_observed, assess_with,
-    assess_with_observed, fold_copies_bytes,
+    Progress, WorkItem, assess, assess_grown_observed, assess_observed, assess_sets_observed,
+    assess_with, assess_with_observed, fold_copies_bytes,
 };
 pub use summary::{LEVEL, summary_with};
 pub use sweep::{Knob, SweepPoint, SweepResults, SweepValue, sweep, sweep_sets};

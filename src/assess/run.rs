@@ -12,7 +12,7 @@ use super::external::{self, RowSets};
 use super::from_file::FileRows;
 use super::method_id::MethodId;
 use super::probe_side::{ProbeSide, not_applicable};
-use super::results::{AssessResults, DiagnosticRow, FoldRecord, InputInfo, WorkCounters};
+use super::results::{AssessResults, DiagnosticRow, FoldRecord, InputInfo, Scatter, WorkCounters};
 use super::{scatter, shared_knn, summary};
 use crate::augment::{self, Augmenter, Grown, MethodKind, Plan, class_indices, describe_notes};
 use crate::data::{self, Dataset, RowIndex};
@@ -237,8 +237,120 @@ pub(super) fn assess_reusing(
     on_progress: &mut dyn FnMut(Progress),
     reuse: &mut Reuse,
 ) -> Result<AssessResults> {
-    let from_file = sets.rows;
     let started = Instant::now();
+    let gathered = gather(ds, cfg, &input, augmenters, sets, on_progress, reuse, None)?;
+    Ok(finish(ds, cfg, input, sets, gathered, started))
+}
+
+/// One step of the fold loop: a method (by its position among the assessment's methods,
+/// `none` first) on one fold (by its position among repeats × folds). Every step can run on
+/// its own, anywhere, and the steps' parts combine into the results of the whole loop.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord)]
+pub struct WorkItem {
+    /// The fold, counted from 0 over repeats × folds.
+    pub fold: usize,
+    /// The method, counted from 0 (`none`).
+    pub method: usize,
+}
+
+/// What the fold loop gathers before it is summarised: everything the results hold that is
+/// made fold by fold, in (fold, method) order.
+pub(super) struct Gathered {
+    pub(super) split: SplitKind,
+    /// Folds in all (repeats × folds), whatever part of them this holds.
+    pub(super) folds: usize,
+    pub(super) methods: Vec<MethodId>,
+    pub(super) records: Vec<FoldRecord>,
+    /// Per fold and grown class, averaged over folds when the results are made.
+    pub(super) diagnostics: Vec<DiagnosticRow>,
+    pub(super) scatters: Vec<Scatter>,
+    pub(super) warnings: BTreeSet<String>,
+    pub(super) fold_warnings: FoldWarnings,
+    pub(super) grown_anywhere: BTreeSet<u32>,
+    pub(super) work: WorkCounters,
+}
+
+/// The results from what the fold loop gathered: the summary, per-class rows, averaged
+/// diagnostics and the warnings, each once.
+pub(super) fn finish(
+    ds: &Dataset,
+    cfg: &AssessConfig,
+    input: InputInfo,
+    sets: RowSets<'_>,
+    g: Gathered,
+    started: Instant,
+) -> AssessResults {
+    let Gathered {
+        split,
+        folds,
+        methods,
+        records,
+        diagnostics,
+        scatters,
+        mut warnings,
+        fold_warnings,
+        grown_anywhere,
+        work,
+    } = g;
+    warnings.extend(fold_warnings.finish(folds));
+    let probes = cfg.probes.clone();
+    let (summary_rows, per_class, sentences) = {
+        let agg = summary::Aggregate::new(
+            &records,
+            &methods,
+            &probes,
+            &ds.classes,
+            &grown_anywhere,
+            cfg.interval,
+            cfg.seed,
+        );
+        warnings.extend(agg.warnings());
+        (agg.summary(), agg.per_class(), agg.sentences())
+    };
+    AssessResults {
+        embloom_version: env!("CARGO_PKG_VERSION").to_string(),
+        command_line: String::new(),
+        input,
+        config: ResultsConfig {
+            external: sets.record(),
+            ..cfg.record()
+        },
+        seed: cfg.seed,
+        split,
+        methods,
+        probes,
+        grown_classes: grown_anywhere
+            .iter()
+            .map(|&c| ds.classes[c as usize].clone())
+            .collect(),
+        summary: summary_rows,
+        per_class,
+        sentences,
+        diagnostics: summary::average_diagnostics(&diagnostics),
+        scatter: scatters,
+        folds: records,
+        warnings: warnings.into_iter().collect(),
+        work,
+        elapsed_seconds: started.elapsed().as_secs_f64(),
+    }
+}
+
+/// The fold loop, over every (fold, method) or, with `only`, that one step. A step of a
+/// method other than `none` still fits `none` on its fold when the linear probe runs (the
+/// method's fit starts from that solution), but keeps nothing of it, so the parts of all
+/// steps add up to the whole loop's.
+#[allow(clippy::too_many_arguments)]
+pub(super) fn gather(
+    ds: &Dataset,
+    cfg: &AssessConfig,
+    input: &InputInfo,
+    augmenters: &[Box<dyn Augmenter>],
+    sets: RowSets<'_>,
+    on_progress: &mut dyn FnMut(Progress),
+    reuse: &mut Reuse,
+    only: Option<WorkItem>,
+) -> Result<Gathered> {
+    let from_file = sets.rows;
     if augmenters.first().map(|a| a.kind()) != Some(MethodKind::None) {
         return Err(Error::param(
             "methods",
@@ -259,37 +371,7 @@ pub(super) fn assess_reusing(
     for f in from_file {
         f.check_against(ds)?;
     }
-    let mut arms: Vec<Arm> = augmenters
-        .iter()
-        .map(|a| Arm::Fit(a.as_ref()))
-        .chain(from_file.iter().map(Arm::File))
-        .collect();
-    for union in &sets.config.unions {
-        let MethodId::Union(parts) = union else {
-            return Err(Error::param(
-                "methods",
-                format!("{union} is not a union of methods"),
-                "report this as a bug",
-            ));
-        };
-        let parts = parts
-            .iter()
-            .map(|p| Arm::part(p, &arms[..augmenters.len() + from_file.len()], union))
-            .collect::<Result<Vec<_>>>()?;
-        arms.push(Arm::Union(union.clone(), parts));
-    }
-    let ids: Vec<MethodId> = arms.iter().map(Arm::id).collect();
-    if let Some(dup) = ids
-        .iter()
-        .enumerate()
-        .find(|(i, id)| ids[..*i].contains(id))
-    {
-        return Err(Error::param(
-            "methods",
-            format!("two methods are named '{}'", dup.1),
-            "give each external set and union a name of its own",
-        ));
-    }
+    let arms = arms_of(augmenters, sets)?;
     // Classes the file's rows grow, whatever this run's plan says (for diagnostics).
     let file_classes: BTreeSet<u32> = from_file
         .iter()
@@ -311,8 +393,23 @@ pub(super) fn assess_reusing(
         Some(made) => made,
         None => make_folds(ds, cfg.folds, cfg.repeats, cfg.seed)?,
     };
+    if let Some(item) = only
+        && (item.fold >= folds.len() || item.method >= arms.len())
+    {
+        return Err(Error::param(
+            "item",
+            format!(
+                "step (fold {}, method {}) is not in this assessment of {} folds × {} methods",
+                item.fold,
+                item.method,
+                folds.len(),
+                arms.len()
+            ),
+            "ask for the steps the assessment's plan lists",
+        ));
+    }
     let filling = reuse.baselines.is_empty();
-    let only = cfg
+    let only_classes = cfg
         .classes
         .as_ref()
         .map(|n| class_indices(n, ds))
@@ -340,7 +437,10 @@ pub(super) fn assess_reusing(
     let mut grown_anywhere = BTreeSet::new();
     let mut work = WorkCounters::default();
     for (fi, fold) in folds.iter().enumerate() {
-        let ctx = FoldContext::new(ds, fold, cfg, only.as_deref());
+        if only.is_some_and(|item| item.fold != fi) {
+            continue;
+        }
+        let ctx = FoldContext::new(ds, fold, cfg, only_classes.as_deref());
         let reused = if filling {
             None
         } else {
@@ -358,7 +458,8 @@ pub(super) fn assess_reusing(
         let real_knn = match reused {
             Some(b) => b.real_knn.clone(),
             None => cfg.probes.contains(&ProbeKind::Knn).then(|| {
-                work.test_real_knn_passes += 1;
+                // Counted once per fold: by the step of `none` when steps run apart.
+                work.test_real_knn_passes += usize::from(only.is_none_or(|item| item.method == 0));
                 let scaled = knn_space.as_ref().map(|s| s.apply(ctx.train.view()));
                 let train = scaled.as_ref().map_or(ctx.train.view(), |t| t.view());
                 neighbors::knn(knn_test_view, train, cfg.knn.k, cfg.knn.metric)
@@ -385,7 +486,21 @@ pub(super) fn assess_reusing(
         let mut baseline_linear: Option<LinearModel> = None;
         let mut baseline = Vec::new();
         let train_pos = ctx.train_positions(ds.n_rows());
-        for arm in &arms {
+        for (ai, arm) in arms.iter().enumerate() {
+            let kept = only.is_none_or(|item| item.method == ai);
+            // `none` is fitted for another method's step only when a linear fit starts from it.
+            let needed = kept || (ai == 0 && cfg.probes.contains(&ProbeKind::Linear));
+            if !needed {
+                continue;
+            }
+            let before = (!kept).then(|| {
+                (
+                    records.len(),
+                    warnings.clone(),
+                    fold_warnings.clone(),
+                    work.clone(),
+                )
+            });
             let id = arm.id();
             on_progress(Progress {
                 done,
@@ -545,6 +660,10 @@ pub(super) fn assess_reusing(
             if fi == 0 && !id.is_baseline() {
                 scatters.extend(scatter::class_scatters(&ctx.train, &grown, &classes, &id));
             }
+            if let Some((n, w, fw, wk)) = before {
+                records.truncate(n);
+                (warnings, fold_warnings, work) = (w, fw, wk);
+            }
             done += 1;
         }
         if filling {
@@ -554,49 +673,66 @@ pub(super) fn assess_reusing(
             });
         }
     }
-    warnings.extend(fold_warnings.finish(folds.len()));
     reuse.folds = Some((split, folds));
-    let methods: Vec<MethodId> = arms.iter().map(Arm::id).collect();
-    let probes = cfg.probes.clone();
-    let (summary_rows, per_class, sentences) = {
-        let agg = summary::Aggregate::new(
-            &records,
-            &methods,
-            &probes,
-            &ds.classes,
-            &grown_anywhere,
-            cfg.interval,
-            cfg.seed,
-        );
-        warnings.extend(agg.warnings());
-        (agg.summary(), agg.per_class(), agg.sentences())
-    };
-    Ok(AssessResults {
-        embloom_version: env!("CARGO_PKG_VERSION").to_string(),
-        command_line: String::new(),
-        input,
-        config: ResultsConfig {
-            external: sets.record(),
-            ..cfg.record()
-        },
-        seed: cfg.seed,
+    let n_folds = reuse.folds.as_ref().map_or(0, |(_, f)| f.len());
+    Ok(Gathered {
         split,
-        methods,
-        probes,
-        grown_classes: grown_anywhere
-            .iter()
-            .map(|&c| ds.classes[c as usize].clone())
-            .collect(),
-        summary: summary_rows,
-        per_class,
-        sentences,
-        diagnostics: summary::average_diagnostics(&diagnostics),
-        scatter: scatters,
-        folds: records,
-        warnings: warnings.into_iter().collect(),
+        folds: n_folds,
+        methods: arms.iter().map(Arm::id).collect(),
+        records,
+        diagnostics,
+        scatters,
+        warnings,
+        fold_warnings,
+        grown_anywhere,
         work,
-        elapsed_seconds: started.elapsed().as_secs_f64(),
     })
+}
+
+/// The assessment's methods in order: the fitted ones (`none` first), a file's or external
+/// set's rows, then the unions; refused when two share a name.
+fn arms_of<'a>(augmenters: &'a [Box<dyn Augmenter>], sets: RowSets<'a>) -> Result<Vec<Arm<'a>>> {
+    let from_file = sets.rows;
+    let mut arms: Vec<Arm<'a>> = augmenters
+        .iter()
+        .map(|a| Arm::Fit(a.as_ref()))
+        .chain(from_file.iter().map(Arm::File))
+        .collect();
+    for union in &sets.config.unions {
+        let MethodId::Union(parts) = union else {
+            return Err(Error::param(
+                "methods",
+                format!("{union} is not a union of methods"),
+                "report this as a bug",
+            ));
+        };
+        let parts = parts
+            .iter()
+            .map(|p| Arm::part(p, &arms[..augmenters.len() + from_file.len()], union))
+            .collect::<Result<Vec<_>>>()?;
+        arms.push(Arm::Union(union.clone(), parts));
+    }
+    let ids: Vec<MethodId> = arms.iter().map(Arm::id).collect();
+    if let Some(dup) = ids
+        .iter()
+        .enumerate()
+        .find(|(i, id)| ids[..*i].contains(id))
+    {
+        return Err(Error::param(
+            "methods",
+            format!("two methods are named '{}'", dup.1),
+            "give each external set and union a name of its own",
+        ));
+    }
+    Ok(arms)
+}
+
+/// The names of an assessment's methods, in the order its steps number them.
+pub(super) fn method_ids(
+    augmenters: &[Box<dyn Augmenter>],
+    sets: RowSets<'_>,
+) -> Result<Vec<MethodId>> {
+    Ok(arms_of(augmenters, sets)?.iter().map(Arm::id).collect())
 }
 
 /// logit-adjust on the linear probe: the fold's baseline fit (the same rows and settings:
@@ -931,12 +1067,28 @@ impl<'a> LeakGuard<'a> {
 }
 
 /// Per-fold warnings gathered so that each is reported once with the folds it concerns.
-#[derive(Default)]
-struct FoldWarnings {
+#[derive(Default, Clone)]
+pub(super) struct FoldWarnings {
     seen: std::collections::BTreeMap<String, Vec<String>>,
 }
 
 impl FoldWarnings {
+    /// Each warning with its folds (as repeat.fold), for a step's part.
+    pub(super) fn entries(&self) -> impl Iterator<Item = (&String, &Vec<String>)> {
+        self.seen.iter()
+    }
+
+    /// Add a warning for folds named as [`FoldWarnings::entries`] gives them, keeping the
+    /// order of first appearance.
+    pub(super) fn add_named(&mut self, warning: String, names: &[String]) {
+        let folds = self.seen.entry(warning).or_default();
+        for name in names {
+            if !folds.contains(name) {
+                folds.push(name.clone());
+            }
+        }
+    }
+
     fn add(&mut self, warning: String, fold: &Fold) {
         let name = format!("{}.{}", fold.repeat + 1, fold.index + 1);
         let folds = self.seen.entry(warning).or_default();

@@ -11,6 +11,7 @@ mod assess_grown;
 mod assess_intervals;
 mod assess_leakage;
 mod assess_probe_side;
+mod assess_steps;
 mod assess_sweep;
 mod augment_borderline_adaptive;
 mod augment_calibrated;

@@ -11,21 +11,22 @@ use std::time::Duration;
 use embloom::Dataset;
 use embloom::assess::{
     AssessConfig, AssessResults, ExternalBudget, ExternalConfig, ExternalSetInfo, FileRows,
-    InputInfo, MethodId, Progress, RowSets, UNION_JOIN, assess_sets_observed, check_external_name,
-    resolve_external,
+    InputInfo, MethodId, Progress, RowSets, StepPart, UNION_JOIN, WorkItem, assess_sets_observed,
+    assess_step, check_external_name, combine_steps, resolve_external, step_plan,
 };
 use embloom::augment::{
-    AugmentParams, Epoch, MethodKind, ParamGuard, Schedule, Stream as LibStream, StreamParams,
-    Target, UnitNorm, assemble, describe_notes, grow_dataset, plan_for,
+    AugmentParams, Epoch, MethodKind, ParamGuard, Plan, Schedule, Stream as LibStream,
+    StreamParams, Target, UnitNorm, assemble, describe_notes, grow_dataset, plan_for,
 };
 use embloom::data::Inspection;
 use embloom::eval::IntervalKind;
 use embloom::io::{self, AugmentedSet, ReadOptions};
 use embloom::neighbors::{IndexKind, Metric};
 use embloom::probe::{KnnParams, LinearParams, ProbeKind};
-use numpy::{IntoPyArray, PyArray1, PyArray2, PyReadonlyArray1, PyReadonlyArray2};
+use numpy::{IntoPyArray, PyArray1, PyArray2, PyArrayMethods, PyReadonlyArray1, PyReadonlyArray2};
 use pyo3::exceptions::PyValueError;
 use pyo3::prelude::*;
+use pyo3::types::PyBytes;
 use pyo3::types::PyDict;
 
 pyo3::create_exception!(
@@ -216,6 +217,68 @@ fn grow<'py>(
         })
         .map_err(to_py)?;
     Ok(set_tuple(py, set))
+}
+
+/// Rows to add per class for class counts `counts` (in class-index order), as `grow` plans
+/// them: what a distributed run computes once from its counting pass.
+#[pyfunction]
+#[pyo3(signature = (counts, target, only=None))]
+fn plan(counts: Vec<usize>, target: &str, only: Option<Vec<u32>>) -> PyResult<Vec<usize>> {
+    let target: Target = target.parse().map_err(to_py)?;
+    Ok(Plan::new(&counts, target, only.as_deref()).add)
+}
+
+/// Whether every row of `x` has unit norm, by the rule `unit_norm="auto"` applies to the
+/// whole input; a distributed run asks it of each shard and needs every answer true.
+#[pyfunction]
+fn is_unit_norm(py: Python<'_>, x: PyReadonlyArray2<'_, f32>) -> bool {
+    let x = x.as_array();
+    py.allow_threads(|| embloom::data::is_unit_norm(x))
+}
+
+/// Grow one class alone: `x` holds all the real rows of class `class` (an index into
+/// `classes`, the whole set's class names) in the set's row order, and `add` rows are drawn
+/// from the stream the whole-set `grow` gives that class. `unit_norm` is already resolved
+/// for the whole set ("on" or "off"). Parent and partner index the rows of `x`.
+#[pyfunction]
+#[pyo3(signature = (x, class, classes, method, add, seed, unit_norm, params=None))]
+#[allow(clippy::too_many_arguments)]
+fn grow_class<'py>(
+    py: Python<'py>,
+    x: PyReadonlyArray2<'py, f32>,
+    class: u32,
+    classes: Vec<String>,
+    method: &str,
+    add: usize,
+    seed: u64,
+    unit_norm: &str,
+    params: Option<&Bound<'py, PyDict>>,
+) -> PyResult<(SetTuple<'py>, Vec<String>)> {
+    let n = x.as_array().nrows();
+    if class as usize >= classes.len() {
+        return Err(param_err(
+            "class",
+            format!("class index {class} is not among {} classes", classes.len()),
+            "pass the class's index in the whole set's class names",
+        ));
+    }
+    let labels = vec![class; n].into_pyarray(py).readonly();
+    let ds = dataset(x, labels, classes)?;
+    let method: MethodKind = method.parse().map_err(to_py)?;
+    let unit_norm: UnitNorm = unit_norm.parse().map_err(to_py)?;
+    let params = augment_params(params)?;
+    let mut counts = vec![0; ds.n_classes()];
+    counts[class as usize] = add;
+    let plan = Plan { add: counts };
+    let (set, notes) = py
+        .allow_threads(|| {
+            embloom::neighbors::magnitude::check(&PathBuf::from("x"), ds.x.view())?;
+            let grown = grow_dataset(&ds, &plan, method, &params, unit_norm, seed)?;
+            let notes = describe_notes(&grown.notes, &ds.classes, method);
+            assemble(&ds, &grown, method).map(|set| (set, notes))
+        })
+        .map_err(to_py)?;
+    Ok((set_tuple(py, set), notes))
 }
 
 /// Read a file as `embloom` reads it (keys as in the library's `ReadOptions`).
@@ -421,6 +484,125 @@ fn assess<'py>(
             }
         }
     }
+}
+
+/// What every step of a distributed assessment starts from: the dataset, the configuration
+/// as `assess` parses it (without external sets), its unions, and the configuration's
+/// warnings.
+struct StepInputs {
+    ds: Dataset,
+    cfg: AssessConfig,
+    ext: ExternalConfig,
+    warnings: Vec<String>,
+}
+
+impl StepInputs {
+    fn new(
+        x: PyReadonlyArray2<'_, f32>,
+        labels: PyReadonlyArray1<'_, u32>,
+        classes: Vec<String>,
+        config: &Bound<'_, PyDict>,
+        groups: Option<Vec<String>>,
+        folds: Option<Vec<i64>>,
+    ) -> PyResult<Self> {
+        let mut ds = dataset(x, labels, classes)?;
+        ds.groups = groups;
+        ds.folds = folds;
+        let (cfg, ext, warnings) = assess_config(config, &ds, &[])?;
+        Ok(StepInputs {
+            ds,
+            cfg,
+            ext,
+            warnings,
+        })
+    }
+
+    fn sets(&self) -> RowSets<'_> {
+        RowSets {
+            rows: &[],
+            config: &self.ext,
+            sets: &[],
+        }
+    }
+}
+
+/// The steps of an assessment: (folds, method names), steps numbered fold by fold.
+#[pyfunction]
+#[pyo3(signature = (x, labels, classes, config, groups=None, folds=None))]
+fn assess_plan<'py>(
+    py: Python<'py>,
+    x: PyReadonlyArray2<'py, f32>,
+    labels: PyReadonlyArray1<'py, u32>,
+    classes: Vec<String>,
+    config: &Bound<'py, PyDict>,
+    groups: Option<Vec<String>>,
+    folds: Option<Vec<i64>>,
+) -> PyResult<(usize, Vec<String>)> {
+    let s = StepInputs::new(x, labels, classes, config, groups, folds)?;
+    let plan = py
+        .allow_threads(|| {
+            embloom::neighbors::magnitude::check(&PathBuf::from("x"), s.ds.x.view())?;
+            step_plan(&s.ds, &s.cfg, s.sets())
+        })
+        .map_err(to_py)?;
+    Ok((
+        plan.folds,
+        plan.methods.iter().map(ToString::to_string).collect(),
+    ))
+}
+
+/// One (fold, method) step of an assessment, as bytes for `assess_combine`.
+#[pyfunction]
+#[pyo3(signature = (x, labels, classes, config, fold, method, groups=None, folds=None))]
+#[allow(clippy::too_many_arguments)]
+fn assess_step_part<'py>(
+    py: Python<'py>,
+    x: PyReadonlyArray2<'py, f32>,
+    labels: PyReadonlyArray1<'py, u32>,
+    classes: Vec<String>,
+    config: &Bound<'py, PyDict>,
+    fold: usize,
+    method: usize,
+    groups: Option<Vec<String>>,
+    folds: Option<Vec<i64>>,
+) -> PyResult<Bound<'py, PyBytes>> {
+    let s = StepInputs::new(x, labels, classes, config, groups, folds)?;
+    let input = InputInfo::in_memory("(arrays)", &s.ds);
+    let bytes = py
+        .allow_threads(|| {
+            assess_step(&s.ds, &s.cfg, &input, s.sets(), WorkItem { fold, method })?.to_bytes()
+        })
+        .map_err(to_py)?;
+    Ok(PyBytes::new(py, &bytes))
+}
+
+/// The results of an assessment from the bytes of all its steps' parts: equal to `assess`'s
+/// on the same arrays and configuration.
+#[pyfunction]
+#[pyo3(signature = (x, labels, classes, config, parts, groups=None, folds=None))]
+#[allow(clippy::too_many_arguments)]
+fn assess_combine<'py>(
+    py: Python<'py>,
+    x: PyReadonlyArray2<'py, f32>,
+    labels: PyReadonlyArray1<'py, u32>,
+    classes: Vec<String>,
+    config: &Bound<'py, PyDict>,
+    parts: Vec<Bound<'py, PyBytes>>,
+    groups: Option<Vec<String>>,
+    folds: Option<Vec<i64>>,
+) -> PyResult<(Results, Vec<String>)> {
+    let s = StepInputs::new(x, labels, classes, config, groups, folds)?;
+    let input = InputInfo::in_memory("(arrays)", &s.ds);
+    let parts = parts
+        .iter()
+        .map(|b| StepPart::from_bytes(b.as_bytes()))
+        .collect::<embloom::Result<Vec<_>>>()
+        .map_err(to_py)?;
+    let mut results = py
+        .allow_threads(|| combine_steps(&s.ds, &s.cfg, input, s.sets(), &parts))
+        .map_err(to_py)?;
+    results.warnings.extend(s.warnings.iter().cloned());
+    Ok((Results(results), s.warnings))
 }
 
 fn parse<T: std::str::FromStr<Err = embloom::Error>>(
@@ -790,5 +972,11 @@ fn _embloom(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(inspect, m)?)?;
     m.add_function(wrap_pyfunction!(stream, m)?)?;
     m.add_class::<Stream>()?;
+    m.add_function(wrap_pyfunction!(plan, m)?)?;
+    m.add_function(wrap_pyfunction!(is_unit_norm, m)?)?;
+    m.add_function(wrap_pyfunction!(grow_class, m)?)?;
+    m.add_function(wrap_pyfunction!(assess_plan, m)?)?;
+    m.add_function(wrap_pyfunction!(assess_step_part, m)?)?;
+    m.add_function(wrap_pyfunction!(assess_combine, m)?)?;
     Ok(())
 }

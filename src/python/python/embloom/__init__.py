@@ -299,6 +299,48 @@ def _external_set(name: Any, value: Any, dims: int) -> tuple:
     return (str(name), rows, labels, names, [str(int(p)) for p in parents])
 
 
+def _assess_config(
+    *,
+    methods: Sequence[str],
+    probes: Sequence[str],
+    folds: int,
+    repeats: int,
+    seed: int,
+    target: str,
+    classes: Optional[Sequence[str]],
+    unit_norm: str,
+    knn_k: Optional[int],
+    knn_metric: Optional[str],
+    knn_standardize: Optional[bool],
+    linear_l2: Optional[float],
+    linear_max_iter: Optional[int],
+    interval: Optional[str],
+    diagnostics: bool,
+    external_budget: Union[str, int],
+    method_params: dict,
+) -> dict:
+    """The assessment's settings as the binding reads them (shared with ``embloom.ray``)."""
+    return {
+        "methods": [str(m) for m in methods],
+        "probes": [str(p) for p in probes],
+        "folds": int(folds),
+        "repeats": int(repeats),
+        "seed": int(seed),
+        "target": str(target),
+        "classes": None if classes is None else [str(c) for c in classes],
+        "unit_norm": unit_norm,
+        "knn_k": knn_k,
+        "knn_metric": knn_metric,
+        "knn_standardize": knn_standardize,
+        "linear_l2": linear_l2,
+        "linear_max_iter": linear_max_iter,
+        "interval": interval,
+        "diagnostics": bool(diagnostics),
+        "external_budget": str(external_budget),
+        "method_params": dict(method_params),
+    }
+
+
 def assess(
     x: Any,
     y: Any,
@@ -348,25 +390,25 @@ def assess(
     rows = _rows(x)
     labels, names = _labels(y, rows.shape[0])
     sets = [_external_set(name, value, rows.shape[1]) for name, value in (external or {}).items()]
-    config = {
-        "methods": [str(m) for m in methods],
-        "probes": [str(p) for p in probes],
-        "folds": int(folds),
-        "repeats": int(repeats),
-        "seed": int(seed),
-        "target": str(target),
-        "classes": None if classes is None else [str(c) for c in classes],
-        "unit_norm": unit_norm,
-        "knn_k": knn_k,
-        "knn_metric": knn_metric,
-        "knn_standardize": knn_standardize,
-        "linear_l2": linear_l2,
-        "linear_max_iter": linear_max_iter,
-        "interval": interval,
-        "diagnostics": bool(diagnostics),
-        "external_budget": str(external_budget),
-        "method_params": method_params,
-    }
+    config = _assess_config(
+        methods=methods,
+        probes=probes,
+        folds=folds,
+        repeats=repeats,
+        seed=seed,
+        target=target,
+        classes=classes,
+        unit_norm=unit_norm,
+        knn_k=knn_k,
+        knn_metric=knn_metric,
+        knn_standardize=knn_standardize,
+        linear_l2=linear_l2,
+        linear_max_iter=linear_max_iter,
+        interval=interval,
+        diagnostics=diagnostics,
+        external_budget=external_budget,
+        method_params=method_params,
+    )
     bar = _Bar() if progress else None
     try:
         inner, notes = _embloom.assess(
