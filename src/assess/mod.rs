@@ -2,6 +2,7 @@
 //! splits for all (a paired design).
 
 mod config;
+mod confusion;
 mod external;
 mod from_file;
 mod input;
@@ -15,6 +16,7 @@ mod summary;
 mod sweep;
 mod thin_classes;
 
+pub use confusion::{CHANGES_LISTED, confusions};
 pub use config::{
     AssessConfig, ExternalBudget, ExternalConfig, ExternalRecord, ExternalSetInfo, KnnClamp,
     ResultsConfig,
@@ -32,6 +34,7 @@ pub use run::{
     Progress, assess, assess_grown_observed, assess_observed, assess_sets_observed, assess_with,
     assess_with_observed, fold_copies_bytes,
 };
+pub use scatter::{MAX_CLASSES as MAX_SCATTER_CLASSES, RIVALS as SCATTER_RIVALS};
 pub use summary::{LEVEL, summary_with};
 pub use sweep::{Knob, SweepPoint, SweepResults, SweepValue, sweep};
 pub use thin_classes::check_thin_classes;
