@@ -16,11 +16,11 @@ mod summary;
 mod sweep;
 mod thin_classes;
 
-pub use confusion::{CHANGES_LISTED, confusions};
 pub use config::{
     AssessConfig, ExternalBudget, ExternalConfig, ExternalRecord, ExternalSetInfo, KnnClamp,
     ResultsConfig,
 };
+pub use confusion::{CHANGES_LISTED, confusions};
 pub use external::{
     PARENT_KEY, RowSets, check_name as check_external_name, read as read_external,
     resolve as resolve_external,

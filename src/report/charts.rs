@@ -190,7 +190,10 @@ pub fn class_heatmap(r: &AssessResults) -> Option<String> {
     let height = TOP + grid_h + 76.0;
 
     let rows = figures::class_rows(r);
-    let lookup = |class: &str, p: &Pair| rows.get(&(class, p.method.name(), p.probe)).copied();
+    let lookup = |class: &str, p: &Pair| {
+        rows.get(&(class, p.method.name().into_owned(), p.probe))
+            .copied()
+    };
     let max_abs = r
         .per_class
         .iter()

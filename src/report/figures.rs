@@ -139,7 +139,7 @@ pub type ClassRows<'a> = std::collections::HashMap<(&'a str, String, ProbeKind),
 pub fn class_rows(r: &AssessResults) -> ClassRows<'_> {
     r.per_class
         .iter()
-        .map(|c| ((c.class.as_str(), c.method.name(), c.probe), c))
+        .map(|c| ((c.class.as_str(), c.method.name().into_owned(), c.probe), c))
         .collect()
 }
 

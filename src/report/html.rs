@@ -286,7 +286,7 @@ fn per_class_section(out: &mut String, r: &AssessResults) {
             let rows: Vec<_> = methods
                 .iter()
                 .filter(|p| p.probe == probe)
-                .filter_map(|p| index.get(&(class.as_str(), p.method.name(), probe)))
+                .filter_map(|p| index.get(&(class.as_str(), p.method.name().into_owned(), probe)))
                 .collect();
             for (i, c) in rows.iter().enumerate() {
                 out.push_str("<tr>");
@@ -422,11 +422,14 @@ fn scatter_section(out: &mut String, r: &AssessResults) {
          rivals together, so the directions that tell them apart are the ones drawn. Both axes \
          share one scale. At most {MAX_CLASSES} grown classes per method, largest first.</p>"
     );
+    let rank = figures::class_rank(r);
     if r.scatter.is_empty() {
         out.push_str("<p>No projections were recorded.</p>\n");
     } else {
         out.push_str("<div class=\"scatters\">\n");
-        for s in &r.scatter {
+        let mut views: Vec<_> = r.scatter.iter().collect();
+        views.sort_by_key(|s| (method_index(r, &s.method), rank(&s.class)));
+        for s in views {
             out.push_str("<div class=\"chart\">");
             out.push_str(&charts::scatter_plot(s));
             out.push_str("</div>\n");
@@ -435,7 +438,6 @@ fn scatter_section(out: &mut String, r: &AssessResults) {
     }
     let drawn: std::collections::HashSet<&str> =
         r.scatter.iter().map(|s| s.class.as_str()).collect();
-    let rank = figures::class_rank(r);
     let mut rest: Vec<&String> = r
         .grown_classes
         .iter()
@@ -453,6 +455,11 @@ fn scatter_section(out: &mut String, r: &AssessResults) {
         );
     }
     out.push_str("</section>\n");
+}
+
+/// Where a method stands in the run's order (unknown methods last), for sorting rows.
+fn method_index(r: &AssessResults, m: &crate::assess::MethodId) -> usize {
+    r.methods.iter().position(|x| x == m).unwrap_or(usize::MAX)
 }
 
 fn chart_or_note(out: &mut String, chart: Option<String>, note: &str) {
@@ -553,11 +560,8 @@ fn diagnostics_section(out: &mut String, r: &AssessResults) {
         }
         out.push_str("</tr></thead>\n<tbody>\n");
         let rank = figures::class_rank(r);
-        let method_at = |m: &crate::assess::MethodId| {
-            r.methods.iter().position(|x| x == m).unwrap_or(usize::MAX)
-        };
         let mut rows: Vec<&DiagnosticRow> = r.diagnostics.iter().collect();
-        rows.sort_by_key(|d| (method_at(&d.method), rank(&d.class)));
+        rows.sort_by_key(|d| (method_index(r, &d.method), rank(&d.class)));
         for d in rows {
             let _ = write!(
                 out,

@@ -11,10 +11,10 @@ use ndarray::Array2;
 
 #[test]
 fn views_are_limited_to_twelve_grown_classes_largest_first_with_their_rivals() {
-    // One class of 80 rows and 14 of 10..=23 rows in 16 dims, class c's mean at 3 on axis c;
+    // One class of 80 rows and 14 of 10, 12, ..., 36 rows in 16 dims, class c's mean at 3 on axis c;
     // every small class grows to the largest. Common practice, no source: the limit and the
     // order are the report's own rules.
-    let sizes: Vec<usize> = std::iter::once(80).chain(10..24).collect();
+    let sizes: Vec<usize> = std::iter::once(80).chain((10..38).step_by(2)).collect();
     let n: usize = sizes.iter().sum();
     let mut x = Array2::<f32>::zeros((n, 16));
     let mut labels = Vec::new();
@@ -49,10 +49,11 @@ fn views_are_limited_to_twelve_grown_classes_largest_first_with_their_rivals() {
     .unwrap();
     let r = assess(&ds, &cfg, InputInfo::in_memory("views", &ds)).unwrap();
     assert_eq!(r.grown_classes.len(), 14);
-    let drawn: Vec<&str> = r.scatter.iter().map(|s| s.class.as_str()).collect();
+    let mut drawn: Vec<&str> = r.scatter.iter().map(|s| s.class.as_str()).collect();
     assert_eq!(MAX_SCATTER_CLASSES, 12);
-    // Sizes 23 down to 12 are classes 14 down to 3.
-    let expected: Vec<String> = (3..15).rev().map(|c| format!("k{c:02}")).collect();
+    // The 12 largest grown classes, sizes 36 down to 14, are classes 14 down to 3.
+    drawn.sort();
+    let expected: Vec<String> = (3..15).map(|c| format!("k{c:02}")).collect();
     assert_eq!(drawn, expected);
     for s in &r.scatter {
         assert_eq!(s.rivals.len(), SCATTER_RIVALS);
@@ -63,6 +64,12 @@ fn views_are_limited_to_twelve_grown_classes_largest_first_with_their_rivals() {
     }
     // The page names the two classes left out.
     let html = embloom::report::html_report(&r);
+    // The page draws them largest first.
+    let at: Vec<usize> = (3..15)
+        .rev()
+        .map(|c| html.find(&format!("k{c:02} — interpolate")).unwrap())
+        .collect();
+    assert!(at.windows(2).all(|w| w[0] < w[1]), "{at:?}");
     let rest = html
         .split("id=\"scatter-rest\"")
         .nth(1)
