@@ -17,8 +17,11 @@ use crate::pca::Pca;
 const MAX_POINTS: usize = 300;
 /// Rows of each rival class drawn for context.
 const RIVAL_ROWS: usize = 80;
-/// Rival classes per view: the classes whose means lie nearest the grown class's mean.
-pub const RIVALS: usize = 3;
+/// Rival classes per view: the classes whose means lie nearest the grown class's mean. Two,
+/// because three class means span exactly a plane: when the classes are farther apart than
+/// they are wide, the first two components are that plane and all three stay apart. With a
+/// third rival the nearest one (often the look-alike that matters) can fall off the plane.
+pub const RIVALS: usize = 2;
 /// Rows of any one class entering the projection's fit (evenly spaced), which bounds the cost
 /// of the fit on large classes.
 const FIT_ROWS: usize = 400;

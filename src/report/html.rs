@@ -96,16 +96,12 @@ fn header(out: &mut String, r: &AssessResults) {
         "rows × dims",
         format!("{} × {}", r.input.rows, r.input.dims),
     );
-    let classes: Vec<String> = r
-        .input
-        .classes
+    // Largest first, as in every table and chart below.
+    let classes: Vec<String> = class_names(r)
         .iter()
-        .enumerate()
-        .map(|(i, c)| {
-            let count = r
-                .input
-                .class_counts
-                .get(i)
+        .take(r.input.classes.len())
+        .map(|c| {
+            let count = figures::class_size(r, c)
                 .map(|n| n.to_string())
                 .unwrap_or_else(|| figures::MISSING.to_string());
             let grown = if r.grown_classes.contains(c) {
@@ -220,12 +216,19 @@ fn class_cell(out: &mut String, baseline: bool, mean: f64, d: Paired) {
     } else {
         "num"
     };
+    let interval = d.lo.is_finite() && d.hi.is_finite();
     let text = if baseline {
         figures::value(mean)
-    } else {
+    } else if interval || !d.mean.is_finite() {
         figures::interval_cell(mean, d.mean, d.lo, d.hi)
+    } else {
+        format!("{} (Δ {})", figures::value(mean), figures::signed(d.mean))
     };
-    let p = if baseline { String::new() } else { p_line(d.p) };
+    let p = match (baseline, interval) {
+        (true, _) => String::new(),
+        (false, true) => p_line(d.p),
+        (false, false) => "<br><span class=\"p\">no interval</span>".to_string(),
+    };
     let _ = write!(out, "<td class=\"{class}\">{}{p}</td>", escape(&text));
 }
 
@@ -352,7 +355,7 @@ fn confusion_section(out: &mut String, r: &AssessResults) {
     }
     out.push_str(
         "<table>\n<thead><tr><th>probe</th><th>method</th><th>true class</th>\
-         <th>predicted as</th><th>none</th><th>method</th><th>change</th></tr></thead>\n<tbody>\n",
+         <th>predicted as</th><th>rows, none</th><th>rows, method</th><th>change</th></tr></thead>\n<tbody>\n",
     );
     for p in compared_pairs(r) {
         let mine: Vec<_> = r

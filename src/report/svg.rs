@@ -309,10 +309,7 @@ pub fn scatter_ticks(sx: &Scale, sy: &Scale) -> String {
     let (y0, y1) = sy.domain();
     let bottom = sy.at(y0);
     let left = sx.at(x0);
-    let xt: Vec<f64> = nice_ticks(x0, x1, 4)
-        .into_iter()
-        .filter(|t| (x0..=x1).contains(t))
-        .collect();
+    let xt = inner_ticks(x0, x1);
     for &t in &xt {
         let x = sx.at(t);
         out.push_str(&line(x, bottom, x, bottom + 4.0, INK, 1.0, false));
@@ -324,10 +321,7 @@ pub fn scatter_ticks(sx: &Scale, sy: &Scale) -> String {
             &tick_label(t, &xt),
         ));
     }
-    let yt: Vec<f64> = nice_ticks(y0, y1, 4)
-        .into_iter()
-        .filter(|t| (y0..=y1).contains(t))
-        .collect();
+    let yt = inner_ticks(y0, y1);
     for &t in &yt {
         let y = sy.at(t);
         out.push_str(&line(left - 4.0, y, left, y, INK, 1.0, false));
@@ -340,6 +334,23 @@ pub fn scatter_ticks(sx: &Scale, sy: &Scale) -> String {
         ));
     }
     out
+}
+
+/// Round tick values inside `[lo, hi]`, at least three when a finer round step allows it:
+/// the domain is not widened to the ticks here (the plot keeps its square frame), so a coarse
+/// step may leave a single tick inside.
+fn inner_ticks(lo: f64, hi: f64) -> Vec<f64> {
+    let mut best = Vec::new();
+    for target in 4..=12 {
+        best = nice_ticks(lo, hi, target)
+            .into_iter()
+            .filter(|t| (lo..=hi).contains(t))
+            .collect();
+        if best.len() >= 3 {
+            break;
+        }
+    }
+    best
 }
 
 /// A line at data value 0 across a vertical span, drawn only when 0 is inside the domain.
