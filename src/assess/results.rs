@@ -212,7 +212,8 @@ pub struct Scatter {
     pub synthetic: Vec<[f32; 2]>,
     /// Real training rows of the rival classes, in the same projection.
     pub others: Vec<[f32; 2]>,
-    /// The rival classes: those whose means lie nearest the class's mean, nearest first.
+    /// The rival classes: those whose nearest rows lie closest to the class's mean, nearest
+    /// first.
     pub rivals: Vec<String>,
     /// For each row of `others`, its class as an index into `rivals`.
     pub others_rival: Vec<usize>,

@@ -17,7 +17,8 @@ use crate::pca::Pca;
 const MAX_POINTS: usize = 300;
 /// Rows of each rival class drawn for context.
 const RIVAL_ROWS: usize = 80;
-/// Rival classes per view: the classes whose means lie nearest the grown class's mean. Two,
+/// Rival classes per view: the classes whose nearest rows lie closest to the grown class's
+/// mean. Two,
 /// because three class means span exactly a plane: when the classes are farther apart than
 /// they are wide, the first two components are that plane and all three stay apart. With a
 /// third rival the nearest one (often the look-alike that matters) can fall off the plane.
@@ -42,10 +43,8 @@ pub fn class_scatters(
     classes: &[u32],
     method: &MethodId,
 ) -> Vec<Scatter> {
-    // Rows of every class found in one pass per side, not one pass per class.
-    let all: Vec<u32> = (0..train.classes.len() as u32).collect();
-    let real_by = train.rows_by_class(&all);
-    let means = class_means(train, &real_by);
+    // Rows of every grown class found in one pass per side, not one pass per class.
+    let real_by = train.rows_by_class(classes);
     let mut syn_by: std::collections::BTreeMap<u32, Vec<usize>> =
         classes.iter().map(|&c| (c, Vec::new())).collect();
     for (i, l) in grown.labels.iter().enumerate() {
@@ -64,12 +63,13 @@ pub fn class_scatters(
             if real_rows.len() < 3 || syn_rows.is_empty() {
                 return None;
             }
-            let rivals = nearest_classes(&means, c);
+            let rivals = nearest_classes(train, c, &class_mean(train, real_rows));
+            let rival_by = train.rows_by_class(&rivals);
             let own_fit = spaced(real_rows, FIT_ROWS);
             let rival_cap = own_fit.len().max(MIN_RIVAL_FIT_ROWS);
             let mut fit_rows = own_fit;
-            for &k in &rivals {
-                fit_rows.extend(spaced(&real_by[&k], rival_cap));
+            for k in &rivals {
+                fit_rows.extend(spaced(&rival_by[k], rival_cap));
             }
             let pca = Pca::fit(train.x.select(Axis(0), &fit_rows).view()).ok()?;
             if pca.components.nrows() < 2 {
@@ -78,7 +78,7 @@ pub fn class_scatters(
             let mut others = Vec::new();
             let mut others_rival = Vec::new();
             for (j, &k) in rivals.iter().enumerate() {
-                let rows = spaced(&real_by[&k], RIVAL_ROWS);
+                let rows = spaced(&rival_by[&k], RIVAL_ROWS);
                 others_rival.extend(std::iter::repeat_n(j, rows.len()));
                 others.extend(points(&pca, &train.x.select(Axis(0), &rows)));
             }
@@ -111,41 +111,45 @@ fn spaced(rows: &[usize], n: usize) -> Vec<usize> {
     rows.iter().copied().step_by(step).collect()
 }
 
-/// Each class's mean row in f64 (None for a class without rows).
-fn class_means(
-    train: &Dataset,
-    rows: &std::collections::BTreeMap<u32, Vec<usize>>,
-) -> Vec<Option<Vec<f64>>> {
-    (0..train.classes.len() as u32)
-        .map(|c| {
-            let rows = rows.get(&c).filter(|r| !r.is_empty())?;
-            let mut sum = vec![0.0f64; train.x.ncols()];
-            for &i in rows {
-                for (s, &v) in sum.iter_mut().zip(train.x.row(i)) {
-                    *s += f64::from(v);
-                }
-            }
-            let n = rows.len() as f64;
-            Some(sum.into_iter().map(|s| s / n).collect())
-        })
-        .collect()
+/// The mean of the given rows, accumulated in f64.
+fn class_mean(train: &Dataset, rows: &[usize]) -> Vec<f64> {
+    let mut sum = vec![0.0f64; train.x.ncols()];
+    for &i in rows {
+        for (s, &v) in sum.iter_mut().zip(train.x.row(i)) {
+            *s += f64::from(v);
+        }
+    }
+    let n = rows.len().max(1) as f64;
+    sum.into_iter().map(|s| s / n).collect()
 }
 
-/// Up to [`RIVALS`] other classes whose means are nearest (euclidean) to class `c`'s mean,
-/// nearest first; ties by class index.
-fn nearest_classes(means: &[Option<Vec<f64>>], c: u32) -> Vec<u32> {
-    let Some(Some(own)) = means.get(c as usize) else {
-        return Vec::new();
-    };
-    let mut cand: Vec<(f64, u32)> = means
-        .iter()
+/// Up to [`RIVALS`] other classes whose nearest training row lies closest (euclidean) to the
+/// class's mean, nearest first; ties by class index. One pass over the rows keeping one
+/// distance per class, so a set of many classes costs no per-class means.
+fn nearest_classes(train: &Dataset, c: u32, mean: &[f64]) -> Vec<u32> {
+    let mut best = vec![f64::INFINITY; train.classes.len()];
+    for (i, &l) in train.labels.iter().enumerate() {
+        if l == c {
+            continue;
+        }
+        let d: f64 = train
+            .x
+            .row(i)
+            .iter()
+            .zip(mean)
+            .map(|(&a, &b)| (f64::from(a) - b) * (f64::from(a) - b))
+            .sum();
+        if let Some(slot) = best.get_mut(l as usize)
+            && d < *slot
+        {
+            *slot = d;
+        }
+    }
+    let mut cand: Vec<(f64, u32)> = best
+        .into_iter()
         .enumerate()
-        .filter(|&(k, _)| k != c as usize)
-        .filter_map(|(k, m)| {
-            let m = m.as_ref()?;
-            let d: f64 = m.iter().zip(own).map(|(a, b)| (a - b) * (a - b)).sum();
-            d.is_finite().then_some((d, k as u32))
-        })
+        .filter(|(_, d)| d.is_finite())
+        .map(|(k, d)| (d, k as u32))
         .collect();
     cand.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
     cand.into_iter().take(RIVALS).map(|(_, k)| k).collect()

@@ -420,8 +420,8 @@ fn scatter_section(out: &mut String, r: &AssessResults) {
     let _ = writeln!(
         out,
         "<p class=\"note\">Training rows of the first fold: the grown class's real rows, its \
-         synthetic rows, and rows of its {RIVALS} nearest rival classes (by distance between \
-         class means), projected on the first two principal components of the class and its \
+         synthetic rows, and rows of its {RIVALS} nearest rival classes (those whose nearest \
+         row lies closest to the class's mean), projected on the first two principal components of the class and its \
          rivals together, so the directions that tell them apart are the ones drawn. Both axes \
          share one scale. At most {MAX_CLASSES} grown classes per method, largest first.</p>"
     );
