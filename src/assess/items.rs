@@ -192,6 +192,8 @@ struct WireScatter {
     real: Vec<[u32; 2]>,
     synthetic: Vec<[u32; 2]>,
     others: Vec<[u32; 2]>,
+    rivals: Vec<String>,
+    others_rival: Vec<usize>,
 }
 
 fn points(p: &[[f32; 2]]) -> Vec<[u32; 2]> {
@@ -294,6 +296,8 @@ impl StepPart {
                 real: points(&s.real),
                 synthetic: points(&s.synthetic),
                 others: points(&s.others),
+                rivals: s.rivals.clone(),
+                others_rival: s.others_rival.clone(),
             });
         }
         let w = &g.work;
@@ -382,6 +386,8 @@ impl StepPart {
                 real: unpoints(&s.real),
                 synthetic: unpoints(&s.synthetic),
                 others: unpoints(&s.others),
+                rivals: s.rivals.clone(),
+                others_rival: s.others_rival.clone(),
             });
         }
         g.warnings.extend(self.warnings.iter().cloned());

@@ -2,6 +2,7 @@
 //! splits for all (a paired design).
 
 mod config;
+mod confusion;
 mod external;
 mod from_file;
 mod input;
@@ -20,6 +21,7 @@ pub use config::{
     AssessConfig, ExternalBudget, ExternalConfig, ExternalRecord, ExternalSetInfo, KnnClamp,
     ResultsConfig,
 };
+pub use confusion::{CHANGES_LISTED, confusions};
 pub use external::{
     PARENT_KEY, RowSets, check_name as check_external_name, read as read_external,
     resolve as resolve_external,
@@ -34,6 +36,7 @@ pub use run::{
     Progress, WorkItem, assess, assess_grown_observed, assess_observed, assess_sets_observed,
     assess_with, assess_with_observed, fold_copies_bytes,
 };
+pub use scatter::{MAX_CLASSES as MAX_SCATTER_CLASSES, RIVALS as SCATTER_RIVALS};
 pub use summary::{LEVEL, summary_with};
 pub use sweep::{Knob, SweepPoint, SweepResults, SweepValue, sweep, sweep_sets};
 pub use thin_classes::check_thin_classes;

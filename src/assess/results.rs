@@ -114,7 +114,8 @@ pub struct SummaryRow {
     pub applies: bool,
 }
 
-/// One class's recall under a method and probe, with its paired difference against `none`.
+/// One class's recall, precision and F1 under a method and probe, each with its paired
+/// difference against `none` (`delta_*` without a prefix is recall's, as it always was).
 #[derive(Debug, Clone, Serialize)]
 pub struct ClassRow {
     /// The method summarised.
@@ -132,6 +133,23 @@ pub struct ClassRow {
     pub precision_pooled: f64,
     /// F1 of the class from the same pooled confusion counts, in [0, 1].
     pub f1_pooled: f64,
+    /// Paired precision difference, method minus `none`, under the same interval kind as
+    /// recall (a precision is undefined in a fold where the class is never predicted).
+    pub precision_delta_mean: f64,
+    /// Lower bound of the interval on `precision_delta_mean`; NaN when there is none.
+    pub precision_delta_ci_low: f64,
+    /// Upper bound of the interval on `precision_delta_mean`; NaN when there is none.
+    pub precision_delta_ci_high: f64,
+    /// Two-sided p-value of "no precision difference from `none`"; NaN without an interval.
+    pub precision_p_value: f64,
+    /// Paired F1 difference, method minus `none`.
+    pub f1_delta_mean: f64,
+    /// Lower bound of the interval on `f1_delta_mean`; NaN when there is none.
+    pub f1_delta_ci_low: f64,
+    /// Upper bound of the interval on `f1_delta_mean`; NaN when there is none.
+    pub f1_delta_ci_high: f64,
+    /// Two-sided p-value of "no F1 difference from `none`"; NaN when there is no interval.
+    pub f1_p_value: f64,
     /// Mean paired recall difference, method minus `none`.
     pub delta_mean: f64,
     /// Lower bound of the interval on `delta_mean`; NaN when there is none.
@@ -179,19 +197,62 @@ pub struct DiagnosticRow {
     pub coverage: f64,
 }
 
-/// A 2-D PCA projection of one grown class's real and synthetic training rows (first fold).
+/// A 2-D PCA projection of one grown class's real and synthetic training rows and of its
+/// nearest rival classes (first fold), on directions fitted to the class and rivals together.
 #[derive(Debug, Clone, Serialize)]
 pub struct Scatter {
     /// The method whose synthetic rows are drawn.
     pub method: MethodId,
     /// The grown class's name.
     pub class: String,
-    /// The class's real training rows, projected on its first two principal directions.
+    /// The class's real training rows, projected on the first two principal directions of
+    /// the class and its rivals.
     pub real: Vec<[f32; 2]>,
     /// The method's synthetic rows of the class, in the same projection.
     pub synthetic: Vec<[f32; 2]>,
-    /// Real rows of the other classes nearest to this class, for context.
+    /// Real training rows of the rival classes, in the same projection.
     pub others: Vec<[f32; 2]>,
+    /// The rival classes: those whose nearest rows lie closest to the class's mean, nearest
+    /// first.
+    pub rivals: Vec<String>,
+    /// For each row of `others`, its class as an index into `rivals`.
+    pub others_rival: Vec<usize>,
+}
+
+/// Which class a probe took each test row for, under one method, summed over every test fold
+/// of every repeat.
+#[derive(Debug, Clone, Serialize)]
+pub struct Confusion {
+    /// The method whose rows joined the training folds.
+    pub method: MethodId,
+    /// The probe whose predictions are counted.
+    pub probe: ProbeKind,
+    /// Test rows counted: the sum of every cell (rows × repeats under a full split).
+    pub test_rows: usize,
+    /// The non-zero cells as `[true class, predicted class, count]`, classes as indices into
+    /// `input.classes`; a cell not listed is zero. The diagonal holds the correct predictions.
+    pub cells: Vec<[u64; 3]>,
+}
+
+/// One (true class, predicted class) cell whose count changed against `none`.
+#[derive(Debug, Clone, Serialize)]
+pub struct ConfusionChange {
+    /// The method compared with `none`.
+    pub method: MethodId,
+    /// The probe whose predictions are counted.
+    pub probe: ProbeKind,
+    /// The class the test rows belong to.
+    pub true_class: String,
+    /// The other class the probe took them for.
+    pub predicted_class: String,
+    /// Rows of `true_class` predicted as `predicted_class` by the probe trained without
+    /// synthetic rows, summed over the same folds.
+    pub baseline_count: u64,
+    /// The same count under the method.
+    pub count: u64,
+    /// `count − baseline_count`: positive means more rows mistaken this way than without the
+    /// method, negative fewer.
+    pub change: i64,
 }
 
 /// How much shared work an assessment did, counted as it ran (so a benchmark can show that
@@ -240,6 +301,12 @@ pub struct AssessResults {
     pub summary: Vec<SummaryRow>,
     /// One row per method × probe × class.
     pub per_class: Vec<ClassRow>,
+    /// Confusion counts per method × probe (`none` included), summed over every test fold of
+    /// every repeat.
+    pub confusion: Vec<Confusion>,
+    /// The off-diagonal cells whose count moved most against `none`, per method × probe: the
+    /// largest rises, then the largest falls.
+    pub confusion_changes: Vec<ConfusionChange>,
     /// One row per method × grown class; empty unless diagnostics were asked for.
     pub diagnostics: Vec<DiagnosticRow>,
     /// One projection per method × grown class; empty unless diagnostics were asked for.

@@ -13,7 +13,7 @@ use super::from_file::FileRows;
 use super::method_id::MethodId;
 use super::probe_side::{ProbeSide, not_applicable};
 use super::results::{AssessResults, DiagnosticRow, FoldRecord, InputInfo, Scatter, WorkCounters};
-use super::{scatter, shared_knn, summary};
+use super::{confusion, scatter, shared_knn, summary};
 use crate::augment::{self, Augmenter, Grown, MethodKind, Plan, class_indices, describe_notes};
 use crate::data::{self, Dataset, RowIndex};
 use crate::error::{Error, Result};
@@ -307,6 +307,8 @@ pub(super) fn finish(
         warnings.extend(agg.warnings());
         (agg.summary(), agg.per_class(), agg.sentences())
     };
+    let (confusion, confusion_changes) =
+        confusion::confusions(&records, &methods, &probes, &ds.classes);
     AssessResults {
         embloom_version: env!("CARGO_PKG_VERSION").to_string(),
         command_line: String::new(),
@@ -325,6 +327,8 @@ pub(super) fn finish(
             .collect(),
         summary: summary_rows,
         per_class,
+        confusion,
+        confusion_changes,
         sentences,
         diagnostics: summary::average_diagnostics(&diagnostics),
         scatter: scatters,

@@ -268,15 +268,29 @@ impl<'a> Aggregate<'a> {
                         .pooled(m, p, Metric::POOLED.len() + c)
                         .map(|(v, e)| (v, e.clone()))
                         .unwrap_or_else(|| (f64::NAN, missing()));
-                    let value = |j: usize| self.pooled(m, p, j).map_or(f64::NAN, |(v, _)| v);
+                    let figure = |j: usize| {
+                        self.pooled(m, p, j)
+                            .map(|(v, e)| (v, e.clone()))
+                            .unwrap_or_else(|| (f64::NAN, missing()))
+                    };
+                    let (precision, pr) = figure(Metric::POOLED.len() + c_n + c);
+                    let (f1, f) = figure(Metric::POOLED.len() + 2 * c_n + c);
                     rows.push(ClassRow {
                         method: self.methods[m].clone(),
                         probe: self.probes[p],
                         class: name.clone(),
                         grown: self.grown.contains(&(c as u32)),
                         recall_mean: recall,
-                        precision_pooled: value(Metric::POOLED.len() + c_n + c),
-                        f1_pooled: value(Metric::POOLED.len() + 2 * c_n + c),
+                        precision_pooled: precision,
+                        f1_pooled: f1,
+                        precision_delta_mean: pr.delta,
+                        precision_delta_ci_low: pr.low,
+                        precision_delta_ci_high: pr.high,
+                        precision_p_value: pr.p_value,
+                        f1_delta_mean: f.delta,
+                        f1_delta_ci_low: f.low,
+                        f1_delta_ci_high: f.high,
+                        f1_p_value: f.p_value,
                         delta_mean: iv.delta,
                         delta_ci_low: iv.low,
                         delta_ci_high: iv.high,

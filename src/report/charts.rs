@@ -9,7 +9,7 @@ use crate::eval::Metric;
 use crate::probe::ProbeKind;
 
 use super::figures::{self, Pair, class_names, compared_pairs, find_summary};
-use super::svg::{self, Anchor, Area, Estimate, Font, Marker, Scale};
+use super::svg::{self, Anchor, Area, CellText, Estimate, Font, Marker, Scale};
 
 /// Colours per probe (Okabe–Ito palette, distinguishable with colour-vision deficiencies).
 const PROBE_COLOURS: [&str; 6] = [
@@ -150,22 +150,26 @@ pub fn delta_chart(r: &AssessResults) -> Option<String> {
     Some(out)
 }
 
-/// Chart 2: per-class Δ recall against `none`; rows are classes (grown ones marked ★ and
-/// bold), columns are method × probe; a diverging scale centred at 0 with a legend.
+/// How to read a heatmap cell, printed beside its colour legend.
+const HEATMAP_KEY: &str = "★ grown class, (n) real rows; cell: recall, then Δ; outlined: 95% interval excludes 0; grey: n/a";
+
+/// Chart 2: per-class recall and its Δ against `none`; rows are classes, largest first (grown
+/// ones marked ★ and bold), columns are method × probe; colour on a diverging scale centred at
+/// 0, and an outline where the interval excludes zero.
 pub fn class_heatmap(r: &AssessResults) -> Option<String> {
     let cols = compared_pairs(r);
     let classes = class_names(r);
     if cols.is_empty() || classes.is_empty() || r.per_class.is_empty() {
         return None;
     }
-    const ROW_H: f64 = 26.0;
+    const ROW_H: f64 = 36.0;
     const TOP: f64 = 48.0;
     let grown = |c: &str| r.grown_classes.iter().any(|g| g == c);
     let row_label = |c: &str| {
-        if grown(c) {
-            format!("★ {c}")
-        } else {
-            c.to_string()
+        let star = if grown(c) { "★ " } else { "" };
+        match figures::class_size(r, c) {
+            Some(n) => format!("{star}{c} ({n})"),
+            None => format!("{star}{c}"),
         }
     };
     let label_w = classes
@@ -181,13 +185,14 @@ pub fn class_heatmap(r: &AssessResults) -> Option<String> {
         .fold(56.0, f64::max)
         + 12.0;
     let grid_h = classes.len() as f64 * ROW_H;
-    let width = (label_w + cols.len() as f64 * cell_w + 10.0).max(label_w + 520.0);
+    let width = (label_w + cols.len() as f64 * cell_w + 10.0)
+        .max(label_w + 340.0 + svg::text_width(HEATMAP_KEY, Font::SMALL.size));
     let height = TOP + grid_h + 76.0;
 
+    let rows = figures::class_rows(r);
     let lookup = |class: &str, p: &Pair| {
-        r.per_class
-            .iter()
-            .find(|c| c.class == class && c.method == p.method && c.probe == p.probe)
+        rows.get(&(class, p.method.name().into_owned(), p.probe))
+            .copied()
     };
     let max_abs = r
         .per_class
@@ -236,15 +241,19 @@ pub fn class_heatmap(r: &AssessResults) -> Option<String> {
             let v = row.map(|c| c.delta_mean).unwrap_or(f64::NAN);
             let title = match row {
                 Some(c) => format!(
-                    "{class} — {}: recall {} (Δ {} [{}, {}])",
+                    "{class} — {}: recall {} (Δ {} [{}, {}], {})",
                     pair_label(p),
                     figures::value(c.recall_mean),
                     figures::signed(c.delta_mean),
                     figures::signed(c.delta_ci_low),
-                    figures::signed(c.delta_ci_high)
+                    figures::signed(c.delta_ci_high),
+                    figures::p_label(c.p_value)
                 ),
                 None => format!("{class} — {}: n/a", pair_label(p)),
             };
+            let recall = row.map_or(f64::NAN, |c| c.recall_mean);
+            let lines = [figures::value(recall), format!("Δ {}", figures::signed(v))];
+            let marked = row.is_some_and(|c| c.delta_ci_low > 0.0 || c.delta_ci_high < 0.0);
             out.push_str(&svg::heat_cell(
                 Area {
                     x,
@@ -254,7 +263,10 @@ pub fn class_heatmap(r: &AssessResults) -> Option<String> {
                 },
                 v,
                 max_abs,
-                &figures::signed(v),
+                CellText {
+                    lines: &[&lines[0], &lines[1]],
+                    marked,
+                },
                 &title,
             ));
         }
@@ -273,24 +285,24 @@ pub fn class_heatmap(r: &AssessResults) -> Option<String> {
         ly + 10.0,
         Anchor::Start,
         Font::SMALL,
-        "★ grown class; grey = n/a",
+        HEATMAP_KEY,
     ));
     out.push_str(svg::close());
     Some(out)
 }
 
-/// Colours and markers for the scatter's three groups.
+/// Colours and markers for the scatter's groups: the grown class's real and synthetic rows,
+/// then one colour per rival class (greys and muted tones, so the grown class stands out).
 const REAL: (Marker, &str) = (Marker::Dot, "#0072B2");
 const SYNTHETIC: (Marker, &str) = (Marker::Triangle, "#E69F00");
-const OTHERS: (Marker, &str) = (Marker::Square, "#8c8c8c");
+const RIVAL_COLOURS: [&str; 3] = ["#7a7a7a", "#CC79A7", "#009E73"];
 
-/// Chart 3 (one per entry): the class's real rows, its synthetic rows and nearby rows of other
-/// classes in the first two principal components. Both axes share one scale, so distances
-/// look as they are.
+/// Chart 3 (one per entry): the class's real rows, its synthetic rows and rows of its nearest
+/// rival classes, on principal components fitted to the class and its rivals. Both axes share
+/// one scale, so distances look as they are, and both carry tick values.
 pub fn scatter_plot(s: &Scatter) -> String {
-    const W: f64 = 300.0;
-    const H: f64 = 340.0;
-    const PAD_L: f64 = 28.0;
+    const W: f64 = 320.0;
+    const PAD_L: f64 = 46.0;
     const PAD_T: f64 = 30.0;
     const PLOT: f64 = 256.0;
     let finite = |p: &&[f32; 2]| p[0].is_finite() && p[1].is_finite();
@@ -315,9 +327,11 @@ pub fn scatter_plot(s: &Scatter) -> String {
     let sx = Scale::new((cx - span / 2.0, cx + span / 2.0), (PAD_L, PAD_L + PLOT));
     // SVG's y grows downwards; flip so PC 2 points up.
     let sy = Scale::new((cy - span / 2.0, cy + span / 2.0), (PAD_T + PLOT, PAD_T));
+    let legend_rows = 2 + s.rivals.len();
+    let h = PAD_T + PLOT + 40.0 + legend_rows as f64 * 16.0;
 
     let title = format!("{} — {}", s.class, s.method);
-    let mut out = svg::open(W, H, &title);
+    let mut out = svg::open(W, h, &title);
     out.push_str(&svg::text(
         W / 2.0,
         18.0,
@@ -342,17 +356,30 @@ pub fn scatter_plot(s: &Scatter) -> String {
             Font::SMALL,
             "n/a: no points",
         ));
+    } else {
+        out.push_str(&svg::scatter_ticks(&sx, &sy));
     }
-    for (points, (shape, colour), r) in [
-        (&s.others, OTHERS, 2.5),
-        (&s.real, REAL, 3.0),
-        (&s.synthetic, SYNTHETIC, 2.6),
-    ] {
+    let rival_colour = |j: usize| RIVAL_COLOURS[j % RIVAL_COLOURS.len()];
+    out.push_str(r#"<g opacity="0.7">"#);
+    for (p, j) in s
+        .others
+        .iter()
+        .zip(s.others_rival.iter().copied().chain(std::iter::repeat(0)))
+    {
+        if finite(&p) {
+            out.push_str(&svg::marker(
+                Marker::Square,
+                sx.at(p[0] as f64),
+                sy.at(p[1] as f64),
+                2.5,
+                rival_colour(j),
+            ));
+        }
+    }
+    out.push_str("</g>");
+    for (points, (shape, colour), r) in [(&s.real, REAL, 3.0), (&s.synthetic, SYNTHETIC, 2.6)] {
         out.push_str(r#"<g opacity="0.8">"#);
-        for p in points
-            .iter()
-            .filter(|p| p[0].is_finite() && p[1].is_finite())
-        {
+        for p in points.iter().filter(finite) {
             out.push_str(&svg::marker(
                 shape,
                 sx.at(p[0] as f64),
@@ -365,49 +392,52 @@ pub fn scatter_plot(s: &Scatter) -> String {
     }
     out.push_str(&svg::text(
         PAD_L + PLOT / 2.0,
-        PAD_T + PLOT + 14.0,
+        PAD_T + PLOT + 30.0,
         Anchor::Middle,
         Font::SMALL,
-        "PC 1",
+        "PC 1 (class and rivals)",
     ));
     out.push_str(&svg::rotated_text(
-        PAD_L - 8.0,
+        12.0,
         PAD_T + PLOT / 2.0,
         Anchor::Middle,
         Font::SMALL,
         -90.0,
         "PC 2",
     ));
-    // Legend in two rows so long labels fit the small panel.
-    let count = |pts: &[[f32; 2]]| {
-        pts.iter()
-            .filter(|p| p[0].is_finite() && p[1].is_finite())
-            .count()
+    // Legend, one entry a row so long class names fit the small panel.
+    let count = |pts: &[[f32; 2]]| pts.iter().filter(finite).count();
+    let mut y = PAD_T + PLOT + 54.0;
+    let mut entry = |out: &mut String, shape: Marker, colour: &str, label: String| {
+        out.push_str(&svg::legend_entry(12.0, y, shape, colour, &label).0);
+        y += 16.0;
     };
-    let (row1, _) = svg::legend_entry(
-        PAD_L,
-        H - 26.0,
+    entry(
+        &mut out,
         REAL.0,
         REAL.1,
-        &format!("real ({})", count(&s.real)),
+        format!("{}, real ({})", s.class, count(&s.real)),
     );
-    let (row1b, _) = svg::legend_entry(
-        PAD_L + 110.0,
-        H - 26.0,
+    entry(
+        &mut out,
         SYNTHETIC.0,
         SYNTHETIC.1,
-        &format!("synthetic ({})", count(&s.synthetic)),
+        format!("{}, synthetic ({})", s.class, count(&s.synthetic)),
     );
-    let (row2, _) = svg::legend_entry(
-        PAD_L,
-        H - 8.0,
-        OTHERS.0,
-        OTHERS.1,
-        &format!("other classes, nearest ({})", count(&s.others)),
-    );
-    out.push_str(&row1);
-    out.push_str(&row1b);
-    out.push_str(&row2);
+    for (j, rival) in s.rivals.iter().enumerate() {
+        let n = s
+            .others
+            .iter()
+            .zip(&s.others_rival)
+            .filter(|(p, k)| **k == j && finite(p))
+            .count();
+        entry(
+            &mut out,
+            Marker::Square,
+            rival_colour(j),
+            format!("rival: {rival} ({n})"),
+        );
+    }
     out.push_str(svg::close());
     out
 }

@@ -61,7 +61,9 @@ pub fn summary_csv(r: &AssessResults) -> String {
     out
 }
 
-/// `per_class.csv`: one row per method × probe × class, recall and its delta against `none`.
+/// `per_class.csv`: one row per method × probe × class: recall, precision and F1, each with
+/// its delta against `none` (the unprefixed `delta_*` columns are recall's; the precision and
+/// F1 columns come last so the earlier columns keep their positions).
 pub fn per_class_csv(r: &AssessResults) -> String {
     let mut out = String::new();
     row(
@@ -80,6 +82,14 @@ pub fn per_class_csv(r: &AssessResults) -> String {
             "p_value",
             "folds",
             "no_interval",
+            "precision_delta_mean",
+            "precision_delta_ci_low",
+            "precision_delta_ci_high",
+            "precision_p_value",
+            "f1_delta_mean",
+            "f1_delta_ci_low",
+            "f1_delta_ci_high",
+            "f1_p_value",
         ]
         .map(Cow::from),
     );
@@ -100,6 +110,48 @@ pub fn per_class_csv(r: &AssessResults) -> String {
                 num(c.p_value),
                 c.folds.to_string().into(),
                 text(c.no_interval.as_deref().unwrap_or_default()),
+                num(c.precision_delta_mean),
+                num(c.precision_delta_ci_low),
+                num(c.precision_delta_ci_high),
+                num(c.precision_p_value),
+                num(c.f1_delta_mean),
+                num(c.f1_delta_ci_low),
+                num(c.f1_delta_ci_high),
+                num(c.f1_p_value),
+            ],
+        );
+    }
+    out
+}
+
+/// `confusion_changes.csv`: per method × probe, the (true class, predicted class) pairs whose
+/// count over all test folds moved most against `none`, rises first, then falls.
+pub fn confusion_changes_csv(r: &AssessResults) -> String {
+    let mut out = String::new();
+    row(
+        &mut out,
+        [
+            "method",
+            "probe",
+            "true_class",
+            "predicted_class",
+            "baseline_count",
+            "count",
+            "change",
+        ]
+        .map(Cow::from),
+    );
+    for c in &r.confusion_changes {
+        row(
+            &mut out,
+            [
+                text(&c.method.name()),
+                text(c.probe.name()),
+                text(&c.true_class),
+                text(&c.predicted_class),
+                c.baseline_count.to_string().into(),
+                c.count.to_string().into(),
+                c.change.to_string().into(),
             ],
         );
     }

@@ -2,7 +2,7 @@
 //! terminal table and the HTML page so both put the same numbers in the same order.
 
 use crate::assess::MethodId;
-use crate::assess::results::{AssessResults, SummaryRow};
+use crate::assess::results::{AssessResults, ClassRow, SummaryRow};
 use crate::eval::Metric;
 use crate::probe::ProbeKind;
 
@@ -101,10 +101,14 @@ pub fn compared_pairs(r: &AssessResults) -> Vec<Pair> {
     pairs(r).into_iter().filter(|p| !p.is_baseline()).collect()
 }
 
-/// The class names in data order, then any class named only in the per-class or diagnostic
-/// rows.
+/// The class names, largest class first (by real rows in the input; ties in data order), so
+/// every table and the heatmap read from the well-measured classes down to the rare ones;
+/// then any class named only in the per-class or diagnostic rows.
 pub fn class_names(r: &AssessResults) -> Vec<String> {
-    let mut out: Vec<String> = r.input.classes.clone();
+    let mut order: Vec<usize> = (0..r.input.classes.len()).collect();
+    let size = |i: usize| r.input.class_counts.get(i).copied().unwrap_or(0);
+    order.sort_by(|&a, &b| size(b).cmp(&size(a)).then(a.cmp(&b)));
+    let mut out: Vec<String> = order.iter().map(|&i| r.input.classes[i].clone()).collect();
     for name in r
         .per_class
         .iter()
@@ -116,6 +120,45 @@ pub fn class_names(r: &AssessResults) -> Vec<String> {
         }
     }
     out
+}
+
+/// Position of each class in [`class_names`]' order, for sorting rows that name a class.
+pub fn class_rank(r: &AssessResults) -> impl Fn(&str) -> usize {
+    let rank: std::collections::HashMap<String, usize> = class_names(r)
+        .into_iter()
+        .enumerate()
+        .map(|(i, n)| (n, i))
+        .collect();
+    move |c: &str| rank.get(c).copied().unwrap_or(usize::MAX)
+}
+
+/// Per-class rows by (class, method name, probe), for tables and charts that look up many.
+pub type ClassRows<'a> = std::collections::HashMap<(&'a str, String, ProbeKind), &'a ClassRow>;
+
+/// Index the per-class rows of `r` (see [`ClassRows`]).
+pub fn class_rows(r: &AssessResults) -> ClassRows<'_> {
+    r.per_class
+        .iter()
+        .map(|c| ((c.class.as_str(), c.method.name().into_owned(), c.probe), c))
+        .collect()
+}
+
+/// Real rows of a class in the input, when the input names it.
+pub fn class_size(r: &AssessResults, class: &str) -> Option<usize> {
+    let i = r.input.classes.iter().position(|c| c == class)?;
+    r.input.class_counts.get(i).copied()
+}
+
+/// A p-value as the tables print it: three decimals, `< 0.001` below that, `n/a` when there
+/// is no interval.
+pub fn p_label(p: f64) -> String {
+    if !p.is_finite() {
+        format!("p {MISSING}")
+    } else if p < 0.001 {
+        "p < 0.001".to_string()
+    } else {
+        format!("p = {p:.3}")
+    }
 }
 
 #[cfg(test)]

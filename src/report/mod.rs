@@ -14,7 +14,9 @@ mod svg;
 mod table;
 mod write;
 
-pub use csv::{diagnostics_csv, folds_csv, per_class_csv, summary_csv, sweep_csv};
+pub use csv::{
+    confusion_changes_csv, diagnostics_csv, folds_csv, per_class_csv, summary_csv, sweep_csv,
+};
 pub use display_name::{display_name, display_text, table_name};
 pub use html::html_report;
 pub use table::{sweep_table, terminal_table};

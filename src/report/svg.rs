@@ -301,6 +301,58 @@ pub fn x_axis(scale: &Scale, ticks: &[f64], y: f64, grid_top: f64, title: &str) 
     out
 }
 
+/// Tick marks and values on the bottom and left edges of a square scatter plot (the two
+/// scales share one span, so one set of round steps suits both).
+pub fn scatter_ticks(sx: &Scale, sy: &Scale) -> String {
+    let mut out = String::new();
+    let (x0, x1) = sx.domain();
+    let (y0, y1) = sy.domain();
+    let bottom = sy.at(y0);
+    let left = sx.at(x0);
+    let xt = inner_ticks(x0, x1);
+    for &t in &xt {
+        let x = sx.at(t);
+        out.push_str(&line(x, bottom, x, bottom + 4.0, INK, 1.0, false));
+        out.push_str(&text(
+            x,
+            bottom + 15.0,
+            Anchor::Middle,
+            Font::SMALL,
+            &tick_label(t, &xt),
+        ));
+    }
+    let yt = inner_ticks(y0, y1);
+    for &t in &yt {
+        let y = sy.at(t);
+        out.push_str(&line(left - 4.0, y, left, y, INK, 1.0, false));
+        out.push_str(&text(
+            left - 6.0,
+            y + 4.0,
+            Anchor::End,
+            Font::SMALL,
+            &tick_label(t, &yt),
+        ));
+    }
+    out
+}
+
+/// Round tick values inside `[lo, hi]`, at least three when a finer round step allows it:
+/// the domain is not widened to the ticks here (the plot keeps its square frame), so a coarse
+/// step may leave a single tick inside.
+fn inner_ticks(lo: f64, hi: f64) -> Vec<f64> {
+    let mut best = Vec::new();
+    for target in 4..=12 {
+        best = nice_ticks(lo, hi, target)
+            .into_iter()
+            .filter(|t| (lo..=hi).contains(t))
+            .collect();
+        if best.len() >= 3 {
+            break;
+        }
+    }
+    best
+}
+
 /// A line at data value 0 across a vertical span, drawn only when 0 is inside the domain.
 pub fn zero_line(scale: &Scale, y0: f64, y1: f64) -> String {
     let (d0, d1) = scale.domain();
@@ -391,9 +443,22 @@ pub struct Area {
     pub h: f64,
 }
 
-/// One heatmap cell: coloured by `v` on the diverging scale, with its value (or "n/a")
-/// written in the middle and a hover title.
-pub fn heat_cell(area: Area, v: f64, max_abs: f64, label: &str, title: &str) -> String {
+/// What a heatmap cell says: its lines of text (centred, one under the other) and whether the
+/// estimate it shows is clearly away from zero.
+#[derive(Debug, Clone, Copy)]
+pub struct CellText<'a> {
+    pub lines: &'a [&'a str],
+    /// Drawn with a heavy dark outline and its last line in bold: the interval excludes zero.
+    pub marked: bool,
+}
+
+/// Class attribute of the outline on cells whose interval excludes zero (a test and a reader
+/// of the SVG can find them by it).
+pub const MARK_CLASS: &str = "excludes-zero";
+
+/// One heatmap cell: coloured by `v` on the diverging scale, with its text in the middle and a
+/// hover title.
+pub fn heat_cell(area: Area, v: f64, max_abs: f64, cell: CellText, title: &str) -> String {
     let Area { x, y, w, h } = area;
     let mut out = rect(
         x,
@@ -404,18 +469,32 @@ pub fn heat_cell(area: Area, v: f64, max_abs: f64, label: &str, title: &str) -> 
         Some("#fff"),
         Some(title),
     );
-    let font = Font {
-        size: 11.0,
-        fill: ink_on(v, max_abs),
-        bold: false,
-    };
-    out.push_str(&text(
-        x + w / 2.0,
-        y + h / 2.0 + 4.0,
-        Anchor::Middle,
-        font,
-        label,
-    ));
+    if cell.marked && finite(&[x, y, w, h]) {
+        out.push_str(&format!(
+            r#"<rect class="{MARK_CLASS}" x="{}" y="{}" width="{}" height="{}" fill="none" stroke="{INK}" stroke-width="2.5"/>"#,
+            n(x + 2.0),
+            n(y + 2.0),
+            n((w - 4.0).max(0.0)),
+            n((h - 4.0).max(0.0))
+        ));
+    }
+    const LINE_H: f64 = 13.0;
+    let count = cell.lines.len() as f64;
+    let first = y + h / 2.0 + 4.0 - (count - 1.0) * LINE_H / 2.0;
+    for (i, line) in cell.lines.iter().enumerate() {
+        let font = Font {
+            size: 11.0,
+            fill: ink_on(v, max_abs),
+            bold: cell.marked && i + 1 == cell.lines.len(),
+        };
+        out.push_str(&text(
+            x + w / 2.0,
+            first + i as f64 * LINE_H,
+            Anchor::Middle,
+            font,
+            line,
+        ));
+    }
     out
 }
 

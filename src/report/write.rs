@@ -8,10 +8,12 @@ use std::path::Path;
 use crate::assess::results::AssessResults;
 use crate::error::{Error, Result};
 
-use super::{diagnostics_csv, folds_csv, html_report, per_class_csv, summary_csv};
+use super::{
+    confusion_changes_csv, diagnostics_csv, folds_csv, html_report, per_class_csv, summary_csv,
+};
 
-/// Write `results.json`, `summary.csv`, `per_class.csv`, `diagnostics.csv`, `folds.csv` and
-/// `report.html` into the folder `dir`.
+/// Write `results.json`, `summary.csv`, `per_class.csv`, `confusion_changes.csv`,
+/// `diagnostics.csv`, `folds.csv` and `report.html` into the folder `dir`.
 ///
 /// If `dir` exists it is refused unless `force` is set, and even then unless it is a report
 /// folder embloom wrote holding none of `inputs`; at every moment `dir` is either the old
@@ -36,10 +38,11 @@ pub fn write_report_dir_guarded(
             "report this as a bug",
         )
     })?;
-    let files: [(&str, String); 6] = [
+    let files: [(&str, String); 7] = [
         ("results.json", json + "\n"),
         ("summary.csv", summary_csv(r)),
         ("per_class.csv", per_class_csv(r)),
+        ("confusion_changes.csv", confusion_changes_csv(r)),
         ("diagnostics.csv", diagnostics_csv(r)),
         ("folds.csv", folds_csv(r)),
         ("report.html", html_report(r)),

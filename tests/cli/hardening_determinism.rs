@@ -108,6 +108,7 @@ fn assess_results_are_identical_across_threads_and_runs() {
             [
                 "summary.csv",
                 "per_class.csv",
+                "confusion_changes.csv",
                 "folds.csv",
                 "diagnostics.csv",
             ]

@@ -7,6 +7,7 @@ mod common;
 mod cli_assess;
 mod cli_calibrated;
 mod cli_columnar;
+mod cli_confusion;
 mod cli_csv_columns;
 mod cli_dtypes;
 mod cli_external;

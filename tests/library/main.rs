@@ -4,6 +4,7 @@
 #[path = "../common/mod.rs"]
 mod common;
 
+mod assess_confusion;
 mod assess_digits;
 mod assess_external;
 mod assess_from_file;
@@ -11,6 +12,7 @@ mod assess_grown;
 mod assess_intervals;
 mod assess_leakage;
 mod assess_probe_side;
+mod assess_scatter;
 mod assess_steps;
 mod assess_sweep;
 mod augment_borderline_adaptive;

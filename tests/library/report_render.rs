@@ -6,15 +6,16 @@
 //! parser below follows RFC 4180.
 
 use embloom::assess::results::{
-    AssessResults, ClassRow, DiagnosticRow, FoldRecord, InputInfo, Scatter, SummaryRow,
+    AssessResults, ClassRow, ConfusionChange, DiagnosticRow, FoldRecord, InputInfo, Scatter,
+    SummaryRow,
 };
 use embloom::assess::{AssessConfig, MethodId, ResultsConfig};
 use embloom::augment::{AugmentParams, MethodKind, Target, UnitNorm};
 use embloom::eval::{IntervalKind, Metric, SplitKind};
 use embloom::probe::{KnnParams, LinearParams, ProbeKind};
 use embloom::report::{
-    CAUTION, diagnostics_csv, folds_csv, html_report, per_class_csv, summary_csv, terminal_table,
-    write_report_dir,
+    CAUTION, confusion_changes_csv, diagnostics_csv, folds_csv, html_report, per_class_csv,
+    summary_csv, terminal_table, write_report_dir,
 };
 
 const METHODS: [&str; 4] = ["none", "interpolate", "extrapolate", "principal-noise"];
@@ -128,6 +129,14 @@ fn results() -> AssessResults {
                     recall_mean: 0.6 + 0.05 * c as f64 + d,
                     precision_pooled: f64::NAN,
                     f1_pooled: f64::NAN,
+                    precision_delta_mean: d / 2.0,
+                    precision_delta_ci_low: d / 2.0 - 0.03,
+                    precision_delta_ci_high: d / 2.0 + 0.03,
+                    precision_p_value: 0.3,
+                    f1_delta_mean: d / 3.0,
+                    f1_delta_ci_low: d / 3.0 - 0.03,
+                    f1_delta_ci_high: d / 3.0 + 0.03,
+                    f1_p_value: 0.4,
                     delta_mean: d,
                     delta_ci_low: d - 0.03,
                     delta_ci_high: d + 0.03,
@@ -202,6 +211,8 @@ fn results() -> AssessResults {
                 real: (0..30).map(|i| pt(i, 0.0, 1.0)).collect(),
                 synthetic,
                 others: (0..50).map(|i| pt(i + 500, 3.0, 1.2)).collect(),
+                rivals: vec!["cat".into(), "say \"hi\"".into()],
+                others_rival: (0..50).map(|i| i % 2).collect(),
             });
         }
     }
@@ -227,6 +238,8 @@ fn results() -> AssessResults {
         folds,
         summary,
         per_class,
+        confusion: Vec::new(),
+        confusion_changes: confusion_changes(),
         diagnostics,
         scatter,
         sentences: vec![
@@ -236,6 +249,26 @@ fn results() -> AssessResults {
         work: Default::default(),
         elapsed_seconds: 1.5,
     }
+}
+
+/// Invented test data (see the module comment): two rises and one fall for interpolate · knn.
+fn confusion_changes() -> Vec<ConfusionChange> {
+    [
+        ("dog, large", "<b>&", 3, 9, 6),
+        ("<b>&", "dog, large", 1, 4, 3),
+        ("cat", "<b>&", 5, 2, -3),
+    ]
+    .into_iter()
+    .map(|(t, p, b, n, d)| ConfusionChange {
+        method: "interpolate".parse().unwrap(),
+        probe: ProbeKind::Knn,
+        true_class: t.into(),
+        predicted_class: p.into(),
+        baseline_count: b,
+        count: n,
+        change: d,
+    })
+    .collect()
 }
 
 fn squash(s: &str) -> String {
@@ -346,7 +379,8 @@ fn csv_files_parse_back_with_consistent_shape() {
     let r = results();
     for (text, records, cols) in [
         (summary_csv(&r), r.summary.len(), 10),
-        (per_class_csv(&r), r.per_class.len(), 13),
+        (per_class_csv(&r), r.per_class.len(), 21),
+        (confusion_changes_csv(&r), r.confusion_changes.len(), 7),
         (diagnostics_csv(&r), r.diagnostics.len(), 10),
         // 8 fixed columns + 6 metrics (4 shared, log_loss and ece for linear) + 4 classes.
         (folds_csv(&r), r.folds.len(), 8 + 6 + 4),
@@ -436,6 +470,8 @@ fn html_is_self_contained_well_formed_and_escaped() {
         "chart-deltas",
         "chart-class-recall",
         "chart-scatter",
+        "per-class",
+        "confusion",
         "diagnostics",
         "notes",
     ] {
@@ -513,6 +549,7 @@ fn report_dir_is_written_atomically() {
         "results.json",
         "summary.csv",
         "per_class.csv",
+        "confusion_changes.csv",
         "diagnostics.csv",
         "folds.csv",
         "report.html",
@@ -529,7 +566,7 @@ fn report_dir_is_written_atomically() {
         v.sort();
         v
     };
-    // The six files and embloom's manifest (which lets --force recognise the folder).
+    // The seven files and embloom's manifest (which lets --force recognise the folder).
     assert_eq!(listing(&dir).len(), files.len() + 1);
     assert!(dir.join(".embloom-manifest").is_file());
     assert_eq!(
@@ -562,7 +599,7 @@ fn report_dir_is_written_atomically() {
     // ... and embloom's own report is replaced as a whole.
     std::fs::remove_file(dir.join("marker.txt")).unwrap();
     write_report_dir(&dir, &r, true).unwrap();
-    // The six files and embloom's manifest (which lets --force recognise the folder).
+    // The seven files and embloom's manifest (which lets --force recognise the folder).
     assert_eq!(listing(&dir).len(), files.len() + 1);
     assert!(dir.join(".embloom-manifest").is_file());
     assert_eq!(
@@ -592,6 +629,7 @@ fn empty_results_render_without_panicking() {
     r.folds.clear();
     r.summary.clear();
     r.per_class.clear();
+    r.confusion_changes.clear();
     r.diagnostics.clear();
     r.scatter.clear();
     r.sentences.clear();
@@ -602,6 +640,7 @@ fn empty_results_render_without_panicking() {
     for csv in [
         summary_csv(&r),
         per_class_csv(&r),
+        confusion_changes_csv(&r),
         diagnostics_csv(&r),
         folds_csv(&r),
     ] {
@@ -611,4 +650,112 @@ fn empty_results_render_without_panicking() {
     assert_eq!(html.matches("<svg").count(), 0);
     assert!(html.contains("No method besides none was assessed."));
     assert!(html.contains("id=\"chart-scatter\""));
+}
+
+/// The text of the page's section `id`.
+fn section<'a>(html: &'a str, id: &str) -> &'a str {
+    let start = html
+        .find(&format!("<section id=\"{id}\""))
+        .unwrap_or_else(|| panic!("section {id} missing"));
+    let end = html[start..].find("</section>").unwrap() + start;
+    &html[start..end]
+}
+
+/// Byte positions of each needle in `hay`, in the order given (each must occur).
+fn positions(hay: &str, needles: &[&str]) -> Vec<usize> {
+    needles
+        .iter()
+        .map(|n| hay.find(n).unwrap_or_else(|| panic!("{n:?} missing")))
+        .collect()
+}
+
+#[test]
+fn classes_read_largest_first_in_the_heatmap_and_the_tables() {
+    // class_counts are [250, 40, 30, 180], so largest first is cat, say "hi", dog, large,
+    // <b>& (the report's own rule: largest class first, sizes in brackets).
+    let r = results();
+    let html = html_report(&r);
+    let heatmap = svg_blocks(&html)[1];
+    let order = [
+        "cat (250)",
+        "say &quot;hi&quot; (180)",
+        "dog, large (40)",
+        "&lt;b&gt;&amp; (30)",
+    ];
+    let at = positions(heatmap, &order);
+    assert!(at.windows(2).all(|w| w[0] < w[1]), "{at:?}");
+    let table = section(&html, "per-class");
+    let at = positions(table, &order);
+    assert!(at.windows(2).all(|w| w[0] < w[1]), "{at:?}");
+    // Diagnostics: within each method, the grown classes largest first (dog, large before <b>&).
+    let diag = section(&html, "diagnostics");
+    let at = positions(diag, &["dog, large", "&lt;b&gt;&amp;"]);
+    assert!(at[0] < at[1]);
+}
+
+#[test]
+fn heatmap_shows_recall_and_delta_and_outlines_clear_cells() {
+    let r = results();
+    let html = html_report(&r);
+    let heatmap = svg_blocks(&html)[1];
+    // Each cell's two lines: the recall (3 decimals) and its Δ.
+    let c = r
+        .per_class
+        .iter()
+        .find(|c| c.method == "interpolate" && c.probe == ProbeKind::Knn && c.class == "cat")
+        .unwrap();
+    assert!(heatmap.contains(&format!(">{:.3}</text>", c.recall_mean)));
+    assert!(heatmap.contains(&format!(">Δ {:+.3}</text>", c.delta_mean)));
+    // One outline per compared cell whose interval excludes zero (definition of a 95%
+    // interval test at the 5% level).
+    let clear = r
+        .per_class
+        .iter()
+        .filter(|c| !c.method.is_baseline())
+        .filter(|c| c.delta_ci_low > 0.0 || c.delta_ci_high < 0.0)
+        .count();
+    assert!(clear > 0 && clear < r.per_class.len());
+    assert_eq!(heatmap.matches("class=\"excludes-zero\"").count(), clear);
+}
+
+#[test]
+fn p_values_are_printed_in_the_tables() {
+    let html = html_report(&results());
+    // Invented p-values of the test data: 0.04 in the summary, 0.2 / 0.3 / 0.4 per class.
+    let summary = section(&html, "summary");
+    assert!(summary.contains("<span class=\"p\">p = 0.040</span>"));
+    assert!(!summary.contains("title="), "not only on hover");
+    let per_class = section(&html, "per-class");
+    for p in ["p = 0.200", "p = 0.300", "p = 0.400"] {
+        assert!(per_class.contains(p), "{p}");
+    }
+    // The confusion table lists the invented changes with their signs.
+    let confusion = section(&html, "confusion");
+    assert!(confusion.contains("dog, large") && confusion.contains(">+6<"));
+    assert!(confusion.contains(">-3<"));
+}
+
+#[test]
+fn scatters_have_axis_values_and_name_their_rivals_and_the_classes_left_out() {
+    let mut r = results();
+    let html = html_report(&r);
+    let first = svg_blocks(&html)[2];
+    // Tick values: numbers printed as text on both axes (at least two per axis).
+    let numbers = first
+        .split("</text>")
+        .filter_map(|t| t.rsplit('>').next())
+        .filter(|t| t.parse::<f64>().is_ok())
+        .count();
+    assert!(numbers >= 4, "{numbers} tick values");
+    assert!(first.contains("rival: cat (25)") && first.contains("rival: say &quot;hi&quot; (25)"));
+    // Every grown class here has a view, so nothing is listed ...
+    assert!(!html.contains("id=\"scatter-rest\""));
+    // ... and a grown class without one is named, largest first.
+    r.grown_classes.push("cat".into());
+    r.grown_classes.push("say \"hi\"".into());
+    let html = html_report(&r);
+    let rest = html.split("id=\"scatter-rest\"").nth(1).unwrap();
+    let rest = &rest[..rest.find("</p>").unwrap()];
+    let at = positions(rest, &["cat", "say &quot;hi&quot;"]);
+    assert!(at[0] < at[1], "{rest}");
 }

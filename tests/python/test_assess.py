@@ -22,6 +22,8 @@ def test_assess_numbers_equal_cli(tmp_path, small_set):
                          seed=5, progress=False)
     assert res.summary == cli["summary"]
     assert res.per_class == cli["per_class"]
+    assert res.confusion_changes == cli["confusion_changes"]
+    assert res.data["confusion"] == cli["confusion"]
     assert res.data["folds"] == cli["folds"]
     assert res.data["diagnostics"] == cli["diagnostics"]
     assert json.loads(res.to_json())["summary"] == cli["summary"]

@@ -222,7 +222,9 @@ class Results:
     """An assessment's results: the figures of ``embloom assess``'s results.json.
 
     ``summary`` has one dict per (method, probe, metric) with the mean and the paired
-    difference against ``none``; ``per_class`` one per (method, probe, class).
+    difference against ``none``; ``per_class`` one per (method, probe, class);
+    ``confusion_changes`` one per (true class, predicted class) pair whose count over the test
+    folds moved most against ``none`` (the matrices are in ``data["confusion"]``).
     ``str(results)`` is the table the command line prints.
     """
 
@@ -233,6 +235,7 @@ class Results:
         self.data: dict = data
         self.summary: list = data["summary"]
         self.per_class: list = data["per_class"]
+        self.confusion_changes: list = data["confusion_changes"]
         self.warnings: list = data["warnings"]
 
     def to_json(self) -> str:

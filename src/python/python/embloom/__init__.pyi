@@ -43,6 +43,7 @@ class Results:
     data: dict[str, Any]
     summary: list[dict[str, Any]]
     per_class: list[dict[str, Any]]
+    confusion_changes: list[dict[str, Any]]
     warnings: list[str]
     def to_json(self) -> str: ...
     def to_pandas(self) -> Any: ...
