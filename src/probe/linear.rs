@@ -3,6 +3,7 @@
 use ndarray::{Array1, Array2, ArrayView2};
 use serde::{Deserialize, Serialize};
 
+use super::feature_preconditioner::FeaturePreconditioner;
 use super::lbfgs;
 use super::linear_model::LinearModel;
 use super::scaling;
@@ -227,6 +228,25 @@ impl LinearProbe {
             Some(m) => warm_start(m, &mean, &scale, c, d)?,
             None => vec![0.0; loss.n_params()],
         };
+        // The rows' second moments precondition L-BFGS (an exact change of variables, see
+        // feature_preconditioner.rs): most of the iterations the fit needed went into learning
+        // the columns' correlations.
+        let precond =
+            FeaturePreconditioner::new(parts, mean.view(), scale.view(), self.params.l2, n_classes);
+        let apply = |v: &[f64], out: &mut [f64]| match &precond {
+            Some(p) => p.apply(v, out),
+            None => out.copy_from_slice(v),
+        };
+        let minimise = |f: &mut dyn FnMut(&[f64], &mut [f64]) -> f64,
+                        x0: Vec<f64>,
+                        memory: lbfgs::Memory,
+                        opts: &lbfgs::Options| {
+            if precond.is_some() {
+                lbfgs::minimize_preconditioned(f, x0, memory, &apply, opts)
+            } else {
+                lbfgs::minimize_from(f, x0, memory, opts)
+            }
+        };
         // Most iterations run on f32 matrix products; once their rounding stops the line
         // search (or the tolerance is met in f32), the fit finishes in f64 from there, so the
         // stopping rule is checked on the exact gradient.
@@ -235,9 +255,10 @@ impl LinearProbe {
             evaluations += 1;
             loss.evaluate(t, g, p)
         };
-        let fast = lbfgs::minimize(
-            |t, g| eval(t, g, Precision::Fast),
+        let fast = minimise(
+            &mut |t, g| eval(t, g, Precision::Fast),
             theta0,
+            lbfgs::Memory::default(),
             &lbfgs::Options {
                 memory: 10,
                 tol: FAST_PHASE_TOL_FACTOR * self.params.tol,
@@ -247,8 +268,8 @@ impl LinearProbe {
         );
         // The f32 phase's correction pairs carry over: its gradients are close to the exact
         // ones, so the f64 phase continues with their curvature instead of restarting.
-        let mut out = lbfgs::minimize_from(
-            |t, g| eval(t, g, Precision::Exact),
+        let mut out = minimise(
+            &mut |t, g| eval(t, g, Precision::Exact),
             fast.x,
             fast.memory,
             &lbfgs::Options {

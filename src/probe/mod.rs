@@ -6,6 +6,8 @@
 //! rather than tuned.
 
 mod centroid;
+mod exp_f32;
+mod feature_preconditioner;
 mod kind;
 mod knn;
 mod knn_standardize;

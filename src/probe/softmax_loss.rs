@@ -7,7 +7,8 @@
 //! - [`Precision::Fast`] folds the column scales into the weights
 //!   (`W (x − m)/s = (W/s)(x − m)`), so each block is only centred in f32 and enters two f32
 //!   matrix products with no standardised copy; each block's products are added into f64
-//!   sums, and the softmax, the loss and the bias terms run in f64. This is where the time goes.
+//!   sums. The softmax runs in f32 with a vectorised exp (`exp_f32.rs`); the per-row loss, the
+//!   bias gradient and the block sums are accumulated in f64. This is where the time goes.
 //! - [`Precision::Exact`] standardises each block into f64 and multiplies in f64. It is slower
 //!   and is used only to finish a fit once f32 rounding stops the line search from making
 //!   progress.
@@ -22,6 +23,7 @@ use ndarray::linalg::general_mat_mul;
 use ndarray::{Array1, Array2, ArrayView1, ArrayView2, ArrayViewMut1, Axis, s};
 use rayon::prelude::*;
 
+use super::exp_f32::exp_shifted;
 use crate::data::SoftLabel;
 
 /// Rows standardised and multiplied at a time.
@@ -275,7 +277,8 @@ impl SoftmaxLoss<'_> {
         let mut xc_buf = Array2::<f32>::zeros((cap, d));
         let mean32: Vec<f32> = self.mean.iter().map(|&m| m as f32).collect();
         let mut g_blk = Array2::<f32>::zeros((c, d));
-        let mut logits = Array1::<f64>::zeros(c);
+        let b32: Vec<f32> = b.iter().map(|&v| v as f32).collect();
+        let mut e = vec![0.0f32; c];
         for block in blocks {
             let m = block.rows.len();
             let raw = self.parts[block.part].slice(s![block.rows.clone(), ..]);
@@ -296,35 +299,37 @@ impl SoftmaxLoss<'_> {
                 .zip(&self.coef[rows.clone()])
                 .zip(rows)
             {
-                logits
-                    .iter_mut()
-                    .zip(row.iter().zip(b))
-                    .for_each(|(l, (&v, bc))| *l = f64::from(v) + bc);
-                // One exp per class (the exact path takes two): pᵢ = eᵢ / Σe with
-                // eᵢ = exp(zᵢ − max), and ℓ = ln Σe − (z_y − max).
-                let max = logits.fold(f64::NEG_INFINITY, |m, &v| m.max(v));
-                let shifted_y = logits[yi as usize] - max;
+                let row = row.as_slice_mut().expect("rows of a standard-layout block");
+                row.iter_mut().zip(&b32).for_each(|(v, &bc)| *v += bc);
+                // One f32 exp per class (vectorised): pᵢ = eᵢ / Σe with eᵢ = exp(zᵢ − max),
+                // and ℓ = ln Σe − Σₖ tₖ (zₖ − max), summed in f64. The target t is one-hot
+                // on yᵢ, or for a soft row split between yᵢ and its partner.
+                let max = row.iter().fold(f32::NEG_INFINITY, |m, &v| m.max(v));
+                let sum = exp_shifted(row, max, &mut e);
+                let yi = yi as usize;
+                let shifted = |k: usize| f64::from(row[k] - max);
                 let soft = self.soft_of(i);
-                let shifted_p = soft.map(|(p, _, _)| logits[p] - max);
-                logits.mapv_inplace(|v| (v - max).exp());
-                let sum = logits.sum();
-                let to_grad = ci / sum;
-                logits.mapv_inplace(|e| to_grad * e);
-                match (soft, shifted_p) {
-                    (Some((p, wy, wp)), Some(sp)) => {
-                        out.data_loss += ci * (sum.ln() - wy * shifted_y - wp * sp);
-                        logits[yi as usize] -= ci * wy;
-                        logits[p] -= ci * wp;
-                    }
-                    _ => {
-                        out.data_loss += ci * (sum.ln() - shifted_y);
-                        logits[yi as usize] -= ci;
-                    }
-                }
-                out.g_b += &logits;
+                out.data_loss += ci
+                    * match soft {
+                        Some((p, wy, wp)) => sum.ln() - wy * shifted(yi) - wp * shifted(p),
+                        None => sum.ln() - shifted(yi),
+                    };
+                // The row becomes cᵢ (pᵢ − tᵢ), the gradient with respect to zᵢ.
+                let to_grad = (ci / sum) as f32;
                 row.iter_mut()
-                    .zip(&logits)
-                    .for_each(|(r, &g)| *r = g as f32);
+                    .zip(&e)
+                    .for_each(|(r, &ek)| *r = to_grad * ek);
+                match soft {
+                    Some((p, wy, wp)) => {
+                        row[yi] -= (ci * wy) as f32;
+                        row[p] -= (ci * wp) as f32;
+                    }
+                    None => row[yi] -= ci as f32,
+                }
+                out.g_b
+                    .iter_mut()
+                    .zip(row.iter())
+                    .for_each(|(g, &r)| *g += f64::from(r));
             }
             general_mat_mul(1.0, &z.t(), &xc, 0.0, &mut g_blk);
             out.g_w.zip_mut_with(&g_blk, |acc, &v| *acc += f64::from(v));

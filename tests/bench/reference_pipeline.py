@@ -100,6 +100,8 @@ def main():
     scores = {(m, p): [] for m in METHODS for p in ("knn", "linear")}
     knn_fits = 0
     iterations = 0
+    knn_seconds = 0.0
+    linear_seconds = 0.0
     for f in np.unique(folds):
         tr, te = folds != f, folds == f
         xtr, ytr, xte, yte = x[tr], y[tr], x[te], y[te]
@@ -107,11 +109,14 @@ def main():
             xs, ys = grow(m, xtr, ytr, n_classes, rng)
             xa = np.concatenate([xtr, xs])
             ya = np.concatenate([ytr, ys])
+            t = time.perf_counter()
             knn = KNeighborsClassifier(
                 n_neighbors=10, metric="cosine", algorithm="brute", weights="uniform"
             ).fit(xa, ya)
             knn_fits += 1
             scores[(m, "knn")].append(balanced_accuracy_score(yte, knn.predict(xte)))
+            knn_seconds += time.perf_counter() - t
+            t = time.perf_counter()
             scaler = StandardScaler().fit(xa)
             lin = LogisticRegression(
                 C=1.0 / (L2 * len(ya)), solver="lbfgs", tol=1e-6, max_iter=500
@@ -120,10 +125,13 @@ def main():
             scores[(m, "linear")].append(
                 balanced_accuracy_score(yte, lin.predict(scaler.transform(xte)))
             )
+            linear_seconds += time.perf_counter() - t
     out = {
         "seconds": time.perf_counter() - started,
         "peak_rss_kib": resource.getrusage(resource.RUSAGE_SELF).ru_maxrss,
         "knn_fits": knn_fits,
+        "knn_seconds": knn_seconds,
+        "linear_seconds": linear_seconds,
         "linear_iterations_total": iterations,
         "balanced_accuracy": {f"{p}/{m}": float(np.mean(v)) for (m, p), v in scores.items()},
     }

@@ -9,17 +9,9 @@ import re
 import sys
 from pathlib import Path
 
+from gnu_time import time_v
+
 d = Path(sys.argv[1])
-
-
-def time_v(path):
-    text = path.read_text()
-    wall = re.search(r"Elapsed \(wall clock\) time \(h:mm:ss or m:ss\): (\S+)", text).group(1)
-    secs = 0.0
-    for part in wall.split(":"):
-        secs = secs * 60 + float(part)
-    rss = int(re.search(r"Maximum resident set size \(kbytes\): (\d+)", text).group(1))
-    return secs, rss * 1024
 
 
 res = json.loads((d / "report" / "results.json").read_text())
