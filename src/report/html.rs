@@ -15,10 +15,12 @@ use super::figures::{self, class_names, compared_pairs, find_summary, pairs, sum
 
 const STYLE: &str = "
 body { font-family: system-ui, -apple-system, 'Segoe UI', sans-serif; color: #222; margin: 0 auto;
-       max-width: 1150px; padding: 1.5rem 2rem 3rem; line-height: 1.45; }
+       max-width: 1440px; padding: 1.5rem 2rem 3rem; line-height: 1.45; }
 h1 { font-size: 1.6rem; margin-bottom: 0.2rem; }
 h2 { font-size: 1.2rem; margin-top: 2.2rem; border-bottom: 1px solid #ddd; padding-bottom: 0.2rem; }
 table { border-collapse: collapse; font-size: 0.9rem; margin: 0.6rem 0; }
+/* A table wider than the page (many methods) scrolls inside its own box, not the page. */
+table { display: block; max-width: 100%; overflow-x: auto; }
 th, td { border-bottom: 1px solid #e4e4e4; padding: 0.3rem 0.7rem; text-align: left; vertical-align: top; }
 th { background: #f3f3f3; }
 td.num { font-variant-numeric: tabular-nums; white-space: nowrap; }
