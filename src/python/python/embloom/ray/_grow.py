@@ -119,7 +119,8 @@ def _grow_class(table: Any, *, job: dict) -> Any:
         job["unit_norm"],
         job["params"],
     )
-    gx, _labels, _classes, _ids, _groups, _folds, origin, parent, partner, weight = set_tuple
+    # The last member, `partner_label`, is set only for `mix`, which the cluster refuses.
+    gx, _labels, _classes, _ids, _groups, _folds, origin, parent, partner, weight, _plabel = set_tuple
     n_real, n_syn = x.shape[0], gx.shape[0] - x.shape[0]
     label_type = real.column(job["label_column"]).type
     columns = {
