@@ -375,6 +375,26 @@ mod tests {
         (x, vec![0, 2, 1, 2, 0])
     }
 
+    /// Central differences (h = 1e-6) of the f64 objective against `grad`, entry by entry.
+    fn assert_matches_finite_differences(loss: &SoftmaxLoss<'_>, theta: &[f64], grad: &[f64]) {
+        let mut scratch = vec![0.0; theta.len()];
+        for i in 0..theta.len() {
+            let h = 1e-6;
+            let mut tp = theta.to_vec();
+            tp[i] += h;
+            let mut tm = theta.to_vec();
+            tm[i] -= h;
+            let fd = (loss.value_and_gradient(&tp, &mut scratch)
+                - loss.value_and_gradient(&tm, &mut scratch))
+                / (2.0 * h);
+            assert!(
+                (fd - grad[i]).abs() < 1e-7,
+                "param {i}: fd {fd} vs {}",
+                grad[i]
+            );
+        }
+    }
+
     #[test]
     fn gradient_matches_finite_differences() {
         // Common practice, no source: central differences, step 1e-6, on unequal class
@@ -398,22 +418,7 @@ mod tests {
             .collect();
         let mut grad = vec![0.0; theta.len()];
         loss.value_and_gradient(&theta, &mut grad);
-        let mut scratch = vec![0.0; theta.len()];
-        for i in 0..theta.len() {
-            let h = 1e-6;
-            let mut tp = theta.clone();
-            tp[i] += h;
-            let mut tm = theta.clone();
-            tm[i] -= h;
-            let fd = (loss.value_and_gradient(&tp, &mut scratch)
-                - loss.value_and_gradient(&tm, &mut scratch))
-                / (2.0 * h);
-            assert!(
-                (fd - grad[i]).abs() < 1e-7,
-                "param {i}: fd {fd} vs {}",
-                grad[i]
-            );
-        }
+        assert_matches_finite_differences(&loss, &theta, &grad);
     }
 
     #[test]
@@ -456,22 +461,7 @@ mod tests {
             .collect();
         let mut grad = vec![0.0; theta.len()];
         let f = loss.value_and_gradient(&theta, &mut grad);
-        let mut scratch = vec![0.0; theta.len()];
-        for i in 0..theta.len() {
-            let h = 1e-6;
-            let mut tp = theta.clone();
-            tp[i] += h;
-            let mut tm = theta.clone();
-            tm[i] -= h;
-            let fd = (loss.value_and_gradient(&tp, &mut scratch)
-                - loss.value_and_gradient(&tm, &mut scratch))
-                / (2.0 * h);
-            assert!(
-                (fd - grad[i]).abs() < 1e-7,
-                "param {i}: fd {fd} vs {}",
-                grad[i]
-            );
-        }
+        assert_matches_finite_differences(&loss, &theta, &grad);
         // The f32 evaluation computes the same soft objective, to f32 rounding.
         let mut g_fast = vec![0.0; theta.len()];
         let f_fast = loss.evaluate(&theta, &mut g_fast, Precision::Fast);
