@@ -4,7 +4,6 @@
 use crate::common;
 
 use common::*;
-use serde_json::Value;
 
 #[test]
 fn grow_with_calibrated_grows_a_one_row_class() {
@@ -79,20 +78,8 @@ fn assess_and_sweep_run_calibrated() {
         "--no-diagnostics",
     ];
     args.extend(common);
-    let o = embloom(&args, &[]);
-    assert!(o.status.success(), "{}", stderr(&o));
-    let v: Value = serde_json::from_str(&stdout(&o)).unwrap();
-    let rows: Vec<&Value> = v["summary"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .filter(|r| r["method"] == "calibrated")
-        .collect();
-    assert!(!rows.is_empty());
-    assert!(
-        rows.iter()
-            .all(|r| r["mean"].as_f64().is_some_and(f64::is_finite))
-    );
+    let v = run_json(&args);
+    assert_finite_summary(&v, "calibrated");
     let augment = &v["config"]["augment"];
     assert_eq!(augment["borrowed_classes"], 2, "{augment}");
     assert!(augment["tukey"].is_null());
@@ -108,10 +95,8 @@ fn assess_and_sweep_run_calibrated() {
             values,
         ];
         args.extend(common);
-        let o = embloom(&args, &[]);
-        assert!(o.status.success(), "{knob}: {}", stderr(&o));
-        let s: Value = serde_json::from_str(&stdout(&o)).unwrap();
-        assert!(s["points"].as_array().unwrap().len() >= 2);
+        let s = run_json(&args);
+        assert!(s["points"].as_array().unwrap().len() >= 2, "{knob}");
     }
     // A knob calibrated does not read is refused.
     let mut args = vec![

@@ -5,7 +5,6 @@
 use crate::common;
 
 use common::*;
-use serde_json::Value;
 
 fn run(args: &[&str], threads: &str) -> std::process::Output {
     let mut argv = vec!["--threads", threads];
@@ -102,20 +101,8 @@ fn assess_and_sweep_run_mix_and_borderline_m() {
         "6",
     ];
     args.extend(common);
-    let o = embloom(&args, &[]);
-    assert!(o.status.success(), "{}", stderr(&o));
-    let v: Value = serde_json::from_str(&stdout(&o)).unwrap();
-    let rows: Vec<&Value> = v["summary"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .filter(|r| r["method"] == "mix")
-        .collect();
-    assert!(!rows.is_empty());
-    assert!(
-        rows.iter()
-            .all(|r| r["mean"].as_f64().is_some_and(f64::is_finite))
-    );
+    let v = run_json(&args);
+    assert_finite_summary(&v, "mix");
     assert_eq!(v["config"]["augment"]["danger_neighbours"], 6);
     for (method, knob, values) in [
         ("mix", "magnitude", "0.2,1"),
@@ -125,10 +112,8 @@ fn assess_and_sweep_run_mix_and_borderline_m() {
             "sweep", f, "--method", method, "--knob", knob, "--values", values,
         ];
         args.extend(common);
-        let o = embloom(&args, &[]);
-        assert!(o.status.success(), "{knob}: {}", stderr(&o));
-        let s: Value = serde_json::from_str(&stdout(&o)).unwrap();
-        assert!(s["points"].as_array().unwrap().len() >= 2);
+        let s = run_json(&args);
+        assert!(s["points"].as_array().unwrap().len() >= 2, "{knob}");
     }
     // Bad values are refused by their flags.
     let out = p(dir.path(), "out.csv");

@@ -144,3 +144,26 @@ pub fn json_matrix(v: &serde_json::Value) -> ndarray::Array2<f32> {
     let (n, d) = (rows.len(), rows.first().map_or(0, Vec::len));
     ndarray::Array2::from_shape_vec((n, d), rows.concat()).unwrap()
 }
+
+/// Runs the binary with `args` (a command that prints JSON), requires success and parses stdout.
+pub fn run_json(args: &[&str]) -> serde_json::Value {
+    let o = embloom(args, &[]);
+    assert!(o.status.success(), "{args:?}: {}", stderr(&o));
+    serde_json::from_str(&stdout(&o)).unwrap()
+}
+
+/// Requires results.json to hold summary rows for `method`, each with a finite mean.
+pub fn assert_finite_summary(v: &serde_json::Value, method: &str) {
+    let rows: Vec<&serde_json::Value> = v["summary"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|r| r["method"] == method)
+        .collect();
+    assert!(!rows.is_empty(), "no summary rows for {method}");
+    assert!(
+        rows.iter()
+            .all(|r| r["mean"].as_f64().is_some_and(f64::is_finite)),
+        "{method}: a mean is not finite"
+    );
+}
