@@ -7,6 +7,14 @@
 //! `cargo bench --bench intervals -- dump FILE [DATASETS [TRAIN_SETS [TEST_PER_CLASS]]]`
 //! writes every test row's outcome of the same simulation to FILE (CSV) and the truths to
 //! FILE.truth.csv instead, for `tests/bench/intervals_decompose.py`.
+//!
+//! Two experiments with intervals that refit the whole assessment on perturbed data (the
+//! README's "Refitting on perturbed data sets"; neither is an interval kind of the library):
+//! `cargo bench --bench intervals -- jackknife DATASETS GROUPS TRAIN_SETS` deletes one of
+//! GROUPS class-stratified groups of rows at a time (delete-a-group jackknife) and also reports
+//! the augmentation noise (same folds, another seed); `cargo bench --bench intervals --
+//! wholeboot DATASETS RESAMPLES TRAIN_SETS` reassesses class-stratified bootstrap resamples of
+//! each data set.
 
 #[path = "intervals_sim.rs"]
 mod sim;
@@ -25,6 +33,16 @@ fn main() {
     let train_sets = args.get(1).copied().unwrap_or(300);
     let test_per_class = args.get(2).copied().unwrap_or(2000);
     let started = Instant::now();
+    if raw.iter().any(|a| a == "wholeboot") {
+        wholeboot_main(datasets, train_sets, test_per_class);
+        eprintln!("elapsed {:.0} s", started.elapsed().as_secs_f64());
+        return;
+    }
+    if raw.iter().any(|a| a == "jackknife") {
+        jackknife_main(datasets, train_sets, test_per_class);
+        eprintln!("elapsed {:.0} s", started.elapsed().as_secs_f64());
+        return;
+    }
     if let Some(path) = dump {
         write_outcomes(&path, datasets, train_sets, test_per_class);
         eprintln!("elapsed {:.0} s", started.elapsed().as_secs_f64());
@@ -94,4 +112,49 @@ fn write_outcomes(path: &str, datasets: usize, train_sets: usize, test_per_class
     drop(out);
     std::fs::write(&truth_path, truths).unwrap();
     std::fs::rename(&tmp, path).unwrap();
+}
+
+/// The `jackknife` experiment: per configuration and protocol, the variance V of the estimate
+/// across data sets, the augmentation noise, and the jackknife intervals' tallies.
+fn jackknife_main(datasets: usize, groups: usize, train_sets: usize) {
+    for w in sim::worlds() {
+        let truth = sim::truth(&w, 5, train_sets, 1000, 11);
+        for (folds, repeats) in [(5, 1), (5, 3)] {
+            let t0 = Instant::now();
+            let (trials, noise, v) =
+                sim::jackknife_trial(&w, truth, datasets, folds, repeats, groups, 23);
+            println!(
+                "{} {folds}x{repeats} truth {:+.4} V {:.3e} aug-noise {:.3e} ({:.0} s)",
+                w.name,
+                truth.delta,
+                v,
+                noise,
+                t0.elapsed().as_secs_f64()
+            );
+            for t in trials {
+                println!("  {}", t.line());
+            }
+        }
+    }
+}
+
+/// The `wholeboot` experiment: the bootstrap intervals' tallies, beside `cv-clt` on the same
+/// data sets.
+fn wholeboot_main(datasets: usize, boots: usize, train_sets: usize) {
+    for w in sim::worlds() {
+        let truth = sim::truth(&w, 5, train_sets, 1000, 11);
+        for (folds, repeats) in [(5, 1), (5, 3)] {
+            let t0 = Instant::now();
+            let trials = sim::bootstrap_trial(&w, truth, datasets, folds, repeats, boots, 23);
+            println!(
+                "{} {folds}x{repeats} truth {:+.4} ({:.0} s)",
+                w.name,
+                truth.delta,
+                t0.elapsed().as_secs_f64()
+            );
+            for t in trials {
+                println!("  {}", t.line());
+            }
+        }
+    }
 }

@@ -398,3 +398,261 @@ pub fn run(
         })
         .collect()
 }
+
+/// The library's fold index of every row, per repeat, for `assess` on `ds` with `seed`.
+fn fold_columns(ds: &Dataset, folds: usize, repeats: usize, seed: u64) -> Vec<Vec<i64>> {
+    let (_, made) = embloom::eval::make_folds(ds, folds, repeats, seed).unwrap();
+    let mut cols = vec![vec![0i64; ds.n_rows()]; repeats];
+    for f in &made {
+        for &r in &f.test {
+            cols[f.repeat][r] = f.index as i64;
+        }
+    }
+    cols
+}
+
+/// The pooled estimate of `w`'s figure on `ds` restricted to `keep`, over the given fold
+/// columns (one assessment per column, averaged), augmentation seeded by `seed`.
+fn estimate_on(
+    w: &World,
+    ds: &Dataset,
+    keep: &[usize],
+    cols: &[Vec<i64>],
+    folds: usize,
+    seed: u64,
+) -> f64 {
+    let method = w.method.name().to_string();
+    let mut sum = 0.0;
+    for (r, col) in cols.iter().enumerate() {
+        let mut sub = ds.select(keep);
+        sub.folds = Some(keep.iter().map(|&i| col[i]).collect());
+        let mut c = assess_config(w, folds, 1, seed);
+        c.seed = seed.wrapping_add(7919 * r as u64);
+        let res = assess(&sub, &c, InputInfo::in_memory("simulated", &sub)).unwrap();
+        let rows = summary_with(&res, IntervalKind::CvClt);
+        let row = rows
+            .iter()
+            .find(|x| x.method == method && x.metric == w.metric)
+            .unwrap();
+        sum += row.delta_mean;
+    }
+    sum / cols.len() as f64
+}
+
+/// Deletion groups: each class's rows dealt round-robin over `g` groups from a random offset.
+fn deletion_groups(ds: &Dataset, g: usize, seed: u64) -> Vec<Vec<usize>> {
+    let mut rng = ChaCha8Rng::seed_from_u64(seed ^ 0x5151);
+    let mut groups = vec![Vec::new(); g];
+    for c in 0..ds.n_classes() as u32 {
+        let mut rows = ds.rows_of_class(c);
+        for i in (1..rows.len()).rev() {
+            rows.swap(i, rng.gen_range(0..=i));
+        }
+        let off = rng.gen_range(0..g);
+        for (j, r) in rows.into_iter().enumerate() {
+            groups[(j + off) % g].push(r);
+        }
+    }
+    groups
+}
+
+/// One experimental interval's tally.
+#[derive(Debug, Clone, Default)]
+pub struct Trial {
+    pub name: String,
+    pub n: usize,
+    pub covered: usize,
+    pub rejected: usize,
+    pub width_sum: f64,
+    pub estimates: Vec<f64>,
+}
+
+impl Trial {
+    fn add(&mut self, est: f64, lo: f64, hi: f64, truth: f64) {
+        self.n += 1;
+        self.covered += usize::from(lo <= truth && truth <= hi);
+        self.rejected += usize::from(lo > 0.0 || hi < 0.0);
+        self.width_sum += hi - lo;
+        self.estimates.push(est);
+    }
+    pub fn line(&self) -> String {
+        let n = self.estimates.len() as f64;
+        let m = self.estimates.iter().sum::<f64>() / n;
+        let sd = (self.estimates.iter().map(|e| (e - m).powi(2)).sum::<f64>() / (n - 1.0)).sqrt();
+        let (lo, hi) = wilson(self.covered, self.n);
+        format!(
+            "{:<28} cov {:.3} [{:.3},{:.3}] rej {:.3} width {:.2}",
+            self.name,
+            self.covered as f64 / self.n as f64,
+            lo,
+            hi,
+            self.rejected as f64 / self.n as f64,
+            self.width_sum / self.n as f64 / (2.0 * 1.96 * sd)
+        )
+    }
+}
+
+/// Experiment: delete-a-group jackknife of the whole cross-validated estimate, and the
+/// augmentation noise (same folds, another augmentation seed).
+pub fn jackknife_trial(
+    w: &World,
+    truth: Truth,
+    datasets: usize,
+    folds: usize,
+    repeats: usize,
+    groups: usize,
+    seed: u64,
+) -> (Vec<Trial>, f64, f64) {
+    let mu = means(w);
+    let per: Vec<(f64, f64, f64, Vec<f64>)> = (0..datasets)
+        .into_par_iter()
+        .map(|i| {
+            let ds = dataset(w, &mu, i, seed);
+            let s = seed.wrapping_add(i as u64);
+            let cols = fold_columns(&ds, folds, repeats, s);
+            let all: Vec<usize> = (0..ds.n_rows()).collect();
+            let full = estimate_on(w, &ds, &all, &cols, folds, s);
+            let other = estimate_on(w, &ds, &all, &cols, folds, s ^ 0xabcdef);
+            let reps: Vec<f64> = deletion_groups(&ds, groups, s)
+                .iter()
+                .map(|g| {
+                    let keep: Vec<usize> = all.iter().copied().filter(|r| !g.contains(r)).collect();
+                    estimate_on(w, &ds, &keep, &cols, folds, s)
+                })
+                .collect();
+            let cfg = assess_config(w, folds, repeats, s);
+            let res = assess(&ds, &cfg, InputInfo::in_memory("simulated", &ds)).unwrap();
+            let rows = summary_with(&res, IntervalKind::CvClt);
+            let r = rows
+                .iter()
+                .find(|x| x.method == w.method.name() && x.metric == w.metric)
+                .unwrap();
+            let se = (r.delta_ci_high - r.delta_ci_low) / (2.0 * 1.959_964);
+            (full, other, se, reps)
+        })
+        .collect();
+    let mut t_t = Trial {
+        name: "jackknife t(G-1)".into(),
+        ..Default::default()
+    };
+    let mut t_z = Trial {
+        name: "jackknife z".into(),
+        ..Default::default()
+    };
+    let mut t_max = Trial {
+        name: "max(clt, jackknife) z".into(),
+        ..Default::default()
+    };
+    let g = groups as f64;
+    let tq = embloom::eval::t_quantile(0.975, g - 1.0);
+    let mut noise = 0.0;
+    for (full, other, se, reps) in &per {
+        noise += (full - other).powi(2) / 2.0;
+        let m = reps.iter().sum::<f64>() / g;
+        let vj = (g - 1.0) / g * reps.iter().map(|r| (r - m).powi(2)).sum::<f64>();
+        let sj = vj.sqrt();
+        t_t.add(*full, full - tq * sj, full + tq * sj, truth.delta);
+        t_z.add(*full, full - 1.96 * sj, full + 1.96 * sj, truth.delta);
+        let s = sj.max(*se);
+        t_max.add(*full, full - 1.96 * s, full + 1.96 * s, truth.delta);
+    }
+    let fulls: Vec<f64> = per.iter().map(|p| p.0).collect();
+    let n = fulls.len() as f64;
+    let m = fulls.iter().sum::<f64>() / n;
+    let v = fulls.iter().map(|e| (e - m).powi(2)).sum::<f64>() / (n - 1.0);
+    (vec![t_t, t_z, t_max], noise / n, v)
+}
+
+/// Experiment: the whole cross-validated estimate recomputed on `boots` class-stratified
+/// bootstrap resamples of the data set (copies of a row share a group, so they never sit on
+/// both sides of a split), its spread across resamples as the standard error.
+pub fn bootstrap_trial(
+    w: &World,
+    truth: Truth,
+    datasets: usize,
+    folds: usize,
+    repeats: usize,
+    boots: usize,
+    seed: u64,
+) -> Vec<Trial> {
+    let mu = means(w);
+    let method = w.method.name().to_string();
+    // Per data set: (estimate, cv-clt SE) on the data, and on each resample.
+    type EstimateSe = (f64, f64);
+    let per: Vec<(EstimateSe, Vec<EstimateSe>)> = (0..datasets)
+        .into_par_iter()
+        .map(|i| {
+            let ds = dataset(w, &mu, i, seed);
+            let s = seed.wrapping_add(i as u64);
+            let run = |d: &Dataset, sd: u64| {
+                let cfg = assess_config(w, folds, repeats, sd);
+                let res = assess(d, &cfg, InputInfo::in_memory("simulated", d)).unwrap();
+                let rows = summary_with(&res, IntervalKind::CvClt);
+                let r = rows
+                    .iter()
+                    .find(|x| x.method == method && x.metric == w.metric)
+                    .unwrap();
+                let se = (r.delta_ci_high - r.delta_ci_low) / (2.0 * 1.959_964);
+                (r.delta_mean, if se.is_finite() { se } else { 0.0 })
+            };
+            let full = run(&ds, s);
+            let mut rng = ChaCha8Rng::seed_from_u64(s ^ 0xb007);
+            let reps = (0..boots)
+                .map(|b| {
+                    let mut pick = Vec::with_capacity(ds.n_rows());
+                    for c in 0..ds.n_classes() as u32 {
+                        let rows = ds.rows_of_class(c);
+                        for _ in 0..rows.len() {
+                            pick.push(rows[rng.gen_range(0..rows.len())]);
+                        }
+                    }
+                    pick.sort_unstable();
+                    let mut d = ds.select(&pick);
+                    d.groups = Some(pick.iter().map(|r| r.to_string()).collect());
+                    run(&d, s.wrapping_add(1 + b as u64))
+                })
+                .collect();
+            (full, reps)
+        })
+        .collect();
+    let mut t_z = Trial {
+        name: "whole-set bootstrap z".into(),
+        ..Default::default()
+    };
+    let mut t_p = Trial {
+        name: "whole-set bootstrap pct".into(),
+        ..Default::default()
+    };
+    let mut t_h = Trial {
+        name: "clt + boot excess z".into(),
+        ..Default::default()
+    };
+    let mut t_c = Trial {
+        name: "cv-clt z".into(),
+        ..Default::default()
+    };
+    for ((full, se), pairs) in &per {
+        let reps: Vec<f64> = pairs.iter().map(|p| p.0).collect();
+        let b = reps.len() as f64;
+        let row_b = pairs.iter().map(|p| p.1 * p.1).sum::<f64>() / b;
+        let mb = reps.iter().sum::<f64>() / b;
+        let vb = reps.iter().map(|r| (r - mb).powi(2)).sum::<f64>() / (b - 1.0);
+        let sh = (se * se + (vb - row_b).max(0.0)).sqrt();
+        t_h.add(*full, full - 1.96 * sh, full + 1.96 * sh, truth.delta);
+        t_c.add(*full, full - 1.96 * se, full + 1.96 * se, truth.delta);
+        let m = reps.iter().sum::<f64>() / b;
+        let sd = (reps.iter().map(|r| (r - m).powi(2)).sum::<f64>() / (b - 1.0)).sqrt();
+        t_z.add(*full, full - 1.96 * sd, full + 1.96 * sd, truth.delta);
+        let mut sorted = reps.clone();
+        sorted.sort_by(f64::total_cmp);
+        let q = |p: f64| sorted[((p * (b - 1.0)).round() as usize).min(reps.len() - 1)];
+        // Basic (reflected) bootstrap interval.
+        t_p.add(
+            *full,
+            2.0 * full - q(0.975),
+            2.0 * full - q(0.025),
+            truth.delta,
+        );
+    }
+    vec![t_z, t_p, t_h, t_c]
+}
