@@ -19,6 +19,9 @@
 #[path = "intervals_sim.rs"]
 mod sim;
 
+#[path = "intervals_keyed.rs"]
+mod keyed;
+
 use std::io::Write;
 use std::time::Instant;
 
@@ -33,6 +36,11 @@ fn main() {
     let train_sets = args.get(1).copied().unwrap_or(300);
     let test_per_class = args.get(2).copied().unwrap_or(2000);
     let started = Instant::now();
+    if raw.iter().any(|a| a == "keyed") {
+        keyed_main(datasets, train_sets, test_per_class);
+        eprintln!("elapsed {:.0} s", started.elapsed().as_secs_f64());
+        return;
+    }
     if raw.iter().any(|a| a == "wholeboot") {
         wholeboot_main(datasets, train_sets, test_per_class);
         eprintln!("elapsed {:.0} s", started.elapsed().as_secs_f64());
@@ -150,6 +158,29 @@ fn wholeboot_main(datasets: usize, boots: usize, train_sets: usize) {
                 "{} {folds}x{repeats} truth {:+.4} ({:.0} s)",
                 w.name,
                 truth.delta,
+                t0.elapsed().as_secs_f64()
+            );
+            for t in trials {
+                println!("  {}", t.line());
+            }
+        }
+    }
+}
+
+/// The `keyed` experiment: the jackknife when growth's draws are keyed by row identity.
+fn keyed_main(datasets: usize, groups: usize, train_sets: usize) {
+    for w in sim::worlds() {
+        let truth = keyed::truth(&w, 5, train_sets, 1000);
+        for (folds, repeats) in [(5, 1), (5, 3)] {
+            let t0 = Instant::now();
+            let (trials, noise, v) =
+                keyed::jackknife(&w, truth, datasets, folds, repeats, groups, 23);
+            println!(
+                "{} {folds}x{repeats} truth {:+.4} V {:.3e} aug-noise {:.3e} ({:.0} s)",
+                w.name,
+                truth.delta,
+                v,
+                noise,
                 t0.elapsed().as_secs_f64()
             );
             for t in trials {

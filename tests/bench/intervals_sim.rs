@@ -77,19 +77,29 @@ pub fn worlds() -> Vec<World> {
     ]
 }
 
-fn class_names(w: &World) -> Vec<String> {
+pub fn class_names(w: &World) -> Vec<String> {
     (0..w.sizes.len()).map(|c| format!("c{c}")).collect()
 }
 
+/// The class indices growth is limited to, if any.
+pub fn only_classes(w: &World) -> Option<Vec<u32>> {
+    let names = class_names(w);
+    w.only.as_ref().map(|o| {
+        o.iter()
+            .map(|n| names.iter().position(|c| c == n).unwrap() as u32)
+            .collect()
+    })
+}
+
 /// The class means of a world (fixed by its name, so every run sees the same world).
-fn means(w: &World) -> Array2<f64> {
+pub fn means(w: &World) -> Array2<f64> {
     let mut rng = ChaCha8Rng::seed_from_u64(embloom::seed::tag(w.name));
     Array2::from_shape_fn((w.sizes.len(), w.dims), |_| {
         w.spread * rng.sample::<f64, _>(StandardNormal)
     })
 }
 
-fn sample(w: &World, mu: &Array2<f64>, sizes: &[usize], rng: &mut ChaCha8Rng) -> Dataset {
+pub fn sample(w: &World, mu: &Array2<f64>, sizes: &[usize], rng: &mut ChaCha8Rng) -> Dataset {
     let n: usize = sizes.iter().sum();
     let mut x = Array2::<f32>::zeros((n, w.dims));
     let mut labels = Vec::with_capacity(n);
@@ -106,7 +116,7 @@ fn sample(w: &World, mu: &Array2<f64>, sizes: &[usize], rng: &mut ChaCha8Rng) ->
     Dataset::new(x, labels, class_names(w))
 }
 
-fn knn_params() -> KnnParams {
+pub fn knn_params() -> KnnParams {
     KnnParams {
         k: 10,
         metric: Metric::Euclidean,
@@ -131,12 +141,7 @@ pub fn truth(
     seed: u64,
 ) -> Truth {
     let mu = means(w);
-    let names = class_names(w);
-    let only: Option<Vec<u32>> = w.only.as_ref().map(|o| {
-        o.iter()
-            .map(|n| names.iter().position(|c| c == n).unwrap() as u32)
-            .collect()
-    });
+    let only = only_classes(w);
     let probe = KnnProbe::new(knn_params()).unwrap();
     let aug = augment::build(w.method, &AugmentParams::default()).unwrap();
     let deltas: Vec<f64> = (0..train_sets)
@@ -271,7 +276,7 @@ fn assess_config(w: &World, folds: usize, repeats: usize, seed: u64) -> AssessCo
 }
 
 /// Simulated data set `i` of `w` (the same draw in `run` and `outcomes`).
-fn dataset(w: &World, mu: &Array2<f64>, i: usize, seed: u64) -> Dataset {
+pub fn dataset(w: &World, mu: &Array2<f64>, i: usize, seed: u64) -> Dataset {
     let mut rng = ChaCha8Rng::seed_from_u64(seed.wrapping_add(1_000_003 * i as u64 + 17));
     sample(w, mu, &w.sizes, &mut rng)
 }
@@ -400,7 +405,7 @@ pub fn run(
 }
 
 /// The library's fold index of every row, per repeat, for `assess` on `ds` with `seed`.
-fn fold_columns(ds: &Dataset, folds: usize, repeats: usize, seed: u64) -> Vec<Vec<i64>> {
+pub fn fold_columns(ds: &Dataset, folds: usize, repeats: usize, seed: u64) -> Vec<Vec<i64>> {
     let (_, made) = embloom::eval::make_folds(ds, folds, repeats, seed).unwrap();
     let mut cols = vec![vec![0i64; ds.n_rows()]; repeats];
     for f in &made {
@@ -440,7 +445,7 @@ fn estimate_on(
 }
 
 /// Deletion groups: each class's rows dealt round-robin over `g` groups from a random offset.
-fn deletion_groups(ds: &Dataset, g: usize, seed: u64) -> Vec<Vec<usize>> {
+pub fn deletion_groups(ds: &Dataset, g: usize, seed: u64) -> Vec<Vec<usize>> {
     let mut rng = ChaCha8Rng::seed_from_u64(seed ^ 0x5151);
     let mut groups = vec![Vec::new(); g];
     for c in 0..ds.n_classes() as u32 {
@@ -468,7 +473,7 @@ pub struct Trial {
 }
 
 impl Trial {
-    fn add(&mut self, est: f64, lo: f64, hi: f64, truth: f64) {
+    pub fn add(&mut self, est: f64, lo: f64, hi: f64, truth: f64) {
         self.n += 1;
         self.covered += usize::from(lo <= truth && truth <= hi);
         self.rejected += usize::from(lo > 0.0 || hi < 0.0);
