@@ -223,7 +223,9 @@ pub fn jackknife(
     seed: u64,
 ) -> (Vec<Trial>, f64, f64) {
     let mu = sim::means(w);
-    let per: Vec<(f64, f64, Vec<(f64, f64)>)> = (0..datasets)
+    // Per data set: the estimate under salts A and B, and each replicate's pair.
+    type Replicates = Vec<(f64, f64)>;
+    let per: Vec<(f64, f64, Replicates)> = (0..datasets)
         .into_par_iter()
         .map(|i| {
             let ds = sim::dataset(w, &mu, i, seed);
