@@ -14,12 +14,12 @@
 //! extra work is one pass over the base rows per block of queries, about 1/(2·256) of the
 //! product's.
 
-use ndarray::linalg::general_mat_mul;
 use ndarray::{ArrayView2, ArrayViewMut2, CowArray, Ix2};
 use rayon::prelude::*;
 
 use super::topk::TopK;
 use super::{Knn, Metric, distance};
+use crate::linalg;
 
 /// Query rows per parallel work item (and per matrix product).
 const QUERY_BLOCK: usize = 256;
@@ -226,7 +226,8 @@ impl<'a> Prepared<'a> {
 /// Peak bytes of one search of `nq` query rows against `nb` base rows of `d` dims on
 /// `threads` workers, for the memory estimate checked before any work: the k results, the
 /// norms each prepared row keeps, and per busy worker one query block's and one base block's
-/// product rows, its score block and its candidate lists.
+/// product rows, its score block, its candidate lists and the matrix product's packing
+/// buffers.
 pub fn search_peak_bytes(nq: usize, nb: usize, d: usize, k: usize, threads: usize) -> u64 {
     let (nq, nb, d, k) = (nq as u64, nb as u64, d as u64, k as u64);
     let results = nq * k * 8;
@@ -234,7 +235,9 @@ pub fn search_peak_bytes(nq: usize, nb: usize, d: usize, k: usize, threads: usiz
     let qb = (QUERY_BLOCK as u64).min(nq);
     let bb = (BASE_BLOCK as u64).min(nb);
     let cap = k + margin(k as usize) as u64;
-    let per_worker = (qb * d + bb * d + qb * bb) * 4 + qb * cap * 16;
+    let per_worker = (qb * d + bb * d + qb * bb) * 4
+        + qb * cap * 16
+        + linalg::scratch_bytes(qb as usize, bb as usize, d as usize);
     let workers = (threads as u64).min(nq.div_ceil(QUERY_BLOCK as u64)).max(1);
     results + norms + workers * per_worker
 }
@@ -319,7 +322,7 @@ fn fast_pass(
         let brows = ArrayView2::from_shape((bn, d), &bbuf[..]).expect("sized for the base block");
         let mut g = ArrayViewMut2::from_shape((qn, bn), &mut buf[..qn * bn])
             .expect("buffer is sized for the largest block");
-        general_mat_mul(1.0, &qrows, &brows.t(), 0.0, &mut g);
+        linalg::sgemm(qrows, brows.t(), &mut g, false);
         for (i, top) in tops.iter_mut().enumerate() {
             let row = &mut buf[i * bn..(i + 1) * bn];
             let qi = q0 + i;
