@@ -8,6 +8,7 @@
 
 use std::cell::RefCell;
 
+use super::avx_transpose_pack::pack_columns;
 use super::avx512_tile::{MR, NR, tile};
 use super::operand::{Operand, OperandMut};
 use super::{KC, MC, NC};
@@ -104,7 +105,10 @@ fn pack_b(b: &Operand<'_>, p0: usize, kc: usize, j0: usize, nc: usize, out: &mut
         if cols < NR {
             panel.fill(0.0);
         }
-        if b.cs == 1 {
+        if b.rs == 1 && cols == NR {
+            // SAFETY: `product` runs only after `Kernel::detect` found AVX-512F.
+            unsafe { pack_columns(b.data, b.cs, p0, kc, j0 + q * NR, panel) };
+        } else if b.cs == 1 {
             for (p, dst) in panel.chunks_exact_mut(NR).enumerate() {
                 let s = (p0 + p) * b.rs + j0 + q * NR;
                 dst[..cols].copy_from_slice(&b.data[s..s + cols]);

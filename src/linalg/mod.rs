@@ -15,6 +15,8 @@
 #[cfg(target_arch = "x86_64")]
 mod avx512_tile;
 #[cfg(target_arch = "x86_64")]
+mod avx_transpose_pack;
+#[cfg(target_arch = "x86_64")]
 mod blocked;
 #[cfg(target_arch = "x86_64")]
 mod operand;

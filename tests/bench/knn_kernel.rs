@@ -6,12 +6,16 @@
 //! (k = 10, cosine and euclidean) and prints GFLOP/s counted as 2·n²·d per search, the matrix
 //! product's share of the work, so the figure is comparable to an sgemm benchmark. Then runs
 //! the k-d tree mode (`IndexKind::KdTree`) on the largest class and on all rows and prints its
-//! recall@10 against the exact search. Not a timed test: it asserts nothing.
+//! recall@10 against the exact search. Before those, times the bare matrix product on the
+//! search's block shape and on the linear probe's, on each kernel `embloom::linalg` has
+//! (AVX-512 where the CPU has it, and `matrixmultiply`), interleaved, so their ratio is
+//! measured in one run. Not a timed test: it asserts nothing.
 
 use std::path::Path;
 use std::time::Instant;
 
 use embloom::io::{ReadOptions, read};
+use embloom::linalg::{Kernel, sgemm_with};
 use embloom::neighbors::{IndexKind, Metric, knn_within, knn_within_with, recall_at_k};
 use embloom::seed;
 use ndarray::{Array2, Axis};
@@ -28,6 +32,7 @@ fn main() {
         Err(_) => (random_rows(), None),
     };
     let (n, d) = x.dim();
+    products(d);
     let k = 10;
     let threads = rayon::current_num_threads();
     for metric in [Metric::Cosine, Metric::Euclidean] {
@@ -70,6 +75,53 @@ fn main() {
                 recall_at_k(&approx, &exact)
             );
         }
+    }
+}
+
+/// GFLOP/s of one single-threaded product per kernel, best of 5 rounds with the kernels
+/// alternating, on the neighbour search's block (256 queries × 2048 base rows) and the linear
+/// probe's two products per 256-row block with 100 classes.
+fn products(d: usize) {
+    let shapes = [
+        ("knn block 256x2048", 256, d, 2048, false),
+        ("probe logits 256x100", 256, d, 100, false),
+        ("probe gradient 100x256^T", 100, 256, d, true),
+    ];
+    let kernels = [Kernel::detect(), Kernel::Portable];
+    for (name, m, k, n, a_transposed) in shapes {
+        let mut rng = seed::stream(2, &[seed::tag("sgemm-bench")]);
+        let a_store =
+            Array2::from_shape_simple_fn(if a_transposed { (k, m) } else { (m, k) }, || {
+                rng.sample::<f32, _>(StandardNormal)
+            });
+        let a = if a_transposed {
+            a_store.t()
+        } else {
+            a_store.view()
+        };
+        let b_store = Array2::from_shape_simple_fn((n, k), || rng.sample::<f32, _>(StandardNormal));
+        let b = b_store.t();
+        let mut c = Array2::<f32>::zeros((m, n));
+        let reps = (2e9 / (2.0 * (m * n * k) as f64)).ceil() as usize;
+        let mut best = [f64::INFINITY; 2];
+        for _ in 0..5 {
+            for (slot, &kernel) in best.iter_mut().zip(&kernels) {
+                let t = Instant::now();
+                for _ in 0..reps {
+                    sgemm_with(kernel, a, b, &mut c.view_mut(), false);
+                    std::hint::black_box(&c);
+                }
+                *slot = slot.min(t.elapsed().as_secs_f64() / reps as f64);
+            }
+        }
+        let gf = |s: f64| 2.0 * (m * n * k) as f64 / s / 1e9;
+        println!(
+            "sgemm {name} k={k}: {:?} {:.1} GFLOP/s, Portable {:.1} GFLOP/s, ratio {:.2}",
+            kernels[0],
+            gf(best[0]),
+            gf(best[1]),
+            best[1] / best[0]
+        );
     }
 }
 
