@@ -1,14 +1,14 @@
 //! Packing a column-major `b` (each column contiguous along the inner dimension, as for
-//! `rowsᵀ` in `rows · otherᵀ`) into the tile's row-interleaved panels, eight by eight with
-//! in-register transposes. The scalar loop it replaces wrote one float per step with a long
+//! `rowsᵀ` in `rows · otherᵀ`) and a row-major `a` into the tile's interleaved panels, eight
+//! by eight with in-register transposes. The scalar loop it replaces wrote one float per step with a long
 //! stride and took a third as long as the products themselves in the neighbour search.
 
 use std::arch::x86_64::{
-    __m256, _mm256_loadu_ps, _mm256_permute2f128_ps, _mm256_shuffle_ps, _mm256_storeu_ps,
-    _mm256_unpackhi_ps, _mm256_unpacklo_ps,
+    __m256, _mm_storeu_ps, _mm256_castps256_ps128, _mm256_loadu_ps, _mm256_permute2f128_ps,
+    _mm256_shuffle_ps, _mm256_storeu_ps, _mm256_unpackhi_ps, _mm256_unpacklo_ps,
 };
 
-use super::avx512_tile::NR;
+use super::avx512_tile::{MR, NR};
 
 /// Writes `panel[p · NR + j] = src[(p0 + p) + (j0 + j) · cs]` for `p < kc`, `j < NR`.
 ///
@@ -46,6 +46,54 @@ pub(super) unsafe fn pack_columns(
             for j in jb..jb + 8 {
                 panel[p * NR + j] = src[p0 + p + (j0 + j) * cs];
             }
+        }
+    }
+}
+
+/// Writes `panel[p · MR + i] = src[(i0 + i) · rs + p0 + p]` for `p < kc`, `i < MR`: the
+/// packed panel of a row-major `a`. Rows 0–7 are transposed eight by eight; rows 8–11 as
+/// an 8 × 8 block whose last four rows are zero, keeping the first four lanes.
+///
+/// # Safety
+/// As [`pack_columns`].
+#[target_feature(enable = "avx512f")]
+pub(super) unsafe fn pack_rows(
+    src: &[f32],
+    rs: usize,
+    i0: usize,
+    p0: usize,
+    kc: usize,
+    panel: &mut [f32],
+) {
+    const _: () = assert!(MR == 12);
+    let whole = kc / 8 * 8;
+    for pb in (0..whole).step_by(8) {
+        for ib in [0, 8] {
+            let mut r = [_mm256_setzero(); 8];
+            for (t, v) in r.iter_mut().enumerate().take(MR - ib) {
+                let s = (i0 + ib + t) * rs + p0 + pb;
+                let row = &src[s..s + 8];
+                // SAFETY: `row` holds the 8 floats read.
+                *v = unsafe { _mm256_loadu_ps(row.as_ptr()) };
+            }
+            let r = transpose8(r);
+            for (u, v) in r.iter().enumerate() {
+                let o = (pb + u) * MR + ib;
+                if ib == 0 {
+                    let dst = &mut panel[o..o + 8];
+                    // SAFETY: `dst` holds the 8 floats written.
+                    unsafe { _mm256_storeu_ps(dst.as_mut_ptr(), *v) };
+                } else {
+                    let dst = &mut panel[o..o + 4];
+                    // SAFETY: `dst` holds the 4 floats written.
+                    unsafe { _mm_storeu_ps(dst.as_mut_ptr(), _mm256_castps256_ps128(*v)) };
+                }
+            }
+        }
+    }
+    for p in whole..kc {
+        for i in 0..MR {
+            panel[p * MR + i] = src[(i0 + i) * rs + p0 + p];
         }
     }
 }

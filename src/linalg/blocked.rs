@@ -8,7 +8,7 @@
 
 use std::cell::RefCell;
 
-use super::avx_transpose_pack::pack_columns;
+use super::avx_transpose_pack::{pack_columns, pack_rows};
 use super::avx512_tile::{MR, NR, tile};
 use super::operand::{Operand, OperandMut};
 use super::{KC, MC, NC};
@@ -85,6 +85,11 @@ fn aligned(buf: &mut Vec<f32>, len: usize) -> &mut [f32] {
 fn pack_a(a: &Operand<'_>, i0: usize, mc: usize, p0: usize, kc: usize, out: &mut [f32]) {
     for (r, panel) in out.chunks_exact_mut(kc * MR).enumerate() {
         let rows = MR.min(mc - r * MR);
+        if a.cs == 1 && rows == MR {
+            // SAFETY: `product` runs only after `Kernel::detect` found AVX-512F.
+            unsafe { pack_rows(a.data, a.rs, i0 + r * MR, p0, kc, panel) };
+            continue;
+        }
         if rows < MR {
             panel.fill(0.0);
         }

@@ -9,7 +9,8 @@
 //! recall@10 against the exact search. Before those, times the bare matrix product on the
 //! search's block shape and on the linear probe's, on each kernel `embloom::linalg` has
 //! (AVX-512 where the CPU has it, and `matrixmultiply`), interleaved, so their ratio is
-//! measured in one run. Not a timed test: it asserts nothing.
+//! measured in one run. `KNN_BENCH_PARTS` picks parts (default `products,exact,kdtree`).
+//! Not a timed test: it asserts nothing.
 
 use std::path::Path;
 use std::time::Instant;
@@ -32,10 +33,17 @@ fn main() {
         Err(_) => (random_rows(), None),
     };
     let (n, d) = x.dim();
-    products(d);
+    let parts = std::env::var("KNN_BENCH_PARTS").unwrap_or_else(|_| "products,exact,kdtree".into());
+    let part = |name: &str| parts.split(',').any(|p| p == name);
+    if part("products") {
+        products(d);
+    }
     let k = 10;
     let threads = rayon::current_num_threads();
-    for metric in [Metric::Cosine, Metric::Euclidean] {
+    for metric in [Metric::Cosine, Metric::Euclidean]
+        .into_iter()
+        .filter(|_| part("exact"))
+    {
         let best = (0..2)
             .map(|_| {
                 let t = Instant::now();
@@ -48,6 +56,9 @@ fn main() {
         println!(
             "knn_within {metric:?} n={n} d={d} k={k} threads={threads}: {best:.3} s, {gflops:.1} GFLOP/s"
         );
+    }
+    if !part("kdtree") {
+        return;
     }
     let mut sets = Vec::new();
     if let Some(labels) = &labels {
