@@ -58,8 +58,8 @@ fn run(a: Operand<'_>, b: Operand<'_>, c: &mut OperandMut<'_>, accumulate: bool)
                     let apack = aligned(abuf, mc.div_ceil(MR) * MR * kc);
                     pack_a(&a, ic, mc, pc, kc, apack);
                     let add = accumulate || pc > 0;
-                    for (q, bp) in bpack.chunks_exact(kc * NR).enumerate() {
-                        for (r, ap) in apack.chunks_exact(kc * MR).enumerate() {
+                    for (r, ap) in apack.chunks_exact(kc * MR).enumerate() {
+                        for (q, bp) in bpack.chunks_exact(kc * NR).enumerate() {
                             let (i0, j0) = (ic + r * MR, jc + q * NR);
                             store_tile(kc, ap, bp, c, i0, j0, add);
                         }
