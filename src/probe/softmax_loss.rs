@@ -25,6 +25,7 @@ use rayon::prelude::*;
 
 use super::exp_f32::exp_shifted;
 use crate::data::SoftLabel;
+use crate::linalg;
 
 /// Rows standardised and multiplied at a time.
 const BLOCK_ROWS: usize = 256;
@@ -291,7 +292,7 @@ impl SoftmaxLoss<'_> {
                     .for_each(|(o, (&v, &mj))| *o = v - mj);
             }
             let mut z = z_buf.slice_mut(s![..m, ..]);
-            general_mat_mul(1.0, &xc, &w.t(), 0.0, &mut z);
+            linalg::sgemm(xc.view(), w.t(), &mut z, false);
             let rows = block.first..block.first + m;
             for (((mut row, &yi), &ci), i) in z
                 .axis_iter_mut(Axis(0))
@@ -331,7 +332,7 @@ impl SoftmaxLoss<'_> {
                     .zip(row.iter())
                     .for_each(|(g, &r)| *g += f64::from(r));
             }
-            general_mat_mul(1.0, &z.t(), &xc, 0.0, &mut g_blk);
+            linalg::sgemm(z.t(), xc.view(), &mut g_blk.view_mut(), false);
             out.g_w.zip_mut_with(&g_blk, |acc, &v| *acc += f64::from(v));
         }
         out
