@@ -22,9 +22,17 @@ thread_local! {
 /// CPU has AVX-512F.
 pub(super) fn product(a: Operand<'_>, b: Operand<'_>, c: &mut OperandMut<'_>, accumulate: bool) {
     let (m, n) = (a.rows, b.cols);
-    // Tiles are MR × NR: computing cᵀ = bᵀ aᵀ instead pads less when m is the smaller side
-    // (e.g. 256 rows by 100 classes). Decided by the shape alone.
-    if padded(n, m) * 10 < padded(m, n) * 9 {
+    // Tiles are written a row of NR at a time, so the orientation whose output rows are
+    // contiguous is taken: cᵀ = bᵀ aᵀ for a column-major c. For an output contiguous along
+    // neither axis, the one that pads less. Decided by the shape and layout alone.
+    let transpose = if c.cs == 1 {
+        false
+    } else if c.rs == 1 {
+        true
+    } else {
+        padded(n, m) < padded(m, n)
+    };
+    if transpose {
         let mut ct = OperandMut {
             data: &mut *c.data,
             rows: c.cols,
