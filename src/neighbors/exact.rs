@@ -11,7 +11,7 @@
 //!
 //! Memory: the rows the matrix product sees (centred for euclidean, unit length for cosine)
 //! are made a block at a time into per-thread buffers, never as a full copy of the base; the
-//! extra work is one pass over the base rows per block of queries, about 1/(2·256) of the
+//! extra work is one pass over the base rows per block of queries, about 1/(2·512) of the
 //! product's.
 
 use ndarray::{ArrayView2, ArrayViewMut2, CowArray, Ix2};
