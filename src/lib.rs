@@ -58,6 +58,7 @@ pub mod demo;
 pub mod error;
 pub mod eval;
 pub mod io;
+pub mod linalg;
 pub mod memory;
 pub mod neighbors;
 pub mod pca;

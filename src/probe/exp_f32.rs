@@ -16,6 +16,8 @@ const ROUND: f32 = 12_582_912.0;
 const LOWEST: f32 = -87.0;
 
 /// `out[i] = exp(x[i] − shift)` for `x[i] − shift ≤ 0`; returns `Σ out[i]` accumulated in f64.
+/// Always inlined, so it is vectorised as wide as its caller is compiled.
+#[inline(always)]
 pub(crate) fn exp_shifted(x: &[f32], shift: f32, out: &mut [f32]) -> f64 {
     for (o, &v) in out.iter_mut().zip(x) {
         *o = exp_nonpositive(v - shift);

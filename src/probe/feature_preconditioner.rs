@@ -20,6 +20,8 @@ use ndarray::linalg::general_mat_mul;
 use ndarray::{Array2, ArrayView1, ArrayView2, s};
 use rayon::prelude::*;
 
+use crate::linalg;
+
 /// Rows multiplied at a time.
 const BLOCK_ROWS: usize = 512;
 /// Fixed number of parallel partial sums (independent of the thread count).
@@ -126,7 +128,7 @@ fn centred_moments(parts: &[ArrayView2<f32>], mean: ArrayView1<f64>) -> (Array2<
                         .zip(src.iter().zip(&mean32))
                         .for_each(|(o, (&v, &mj))| *o = v - mj);
                 }
-                general_mat_mul(1.0, &x.t(), &x, 0.0, &mut blk);
+                linalg::sgemm(x.t(), x.view(), &mut blk.view_mut(), false);
                 gram.zip_mut_with(&blk, |g, &v| *g += f64::from(v));
                 for row in x.outer_iter() {
                     sums.iter_mut()

@@ -25,6 +25,7 @@ use rayon::prelude::*;
 
 use super::exp_f32::exp_shifted;
 use crate::data::SoftLabel;
+use crate::linalg;
 
 /// Rows standardised and multiplied at a time.
 const BLOCK_ROWS: usize = 256;
@@ -265,7 +266,29 @@ impl<'a> SoftmaxLoss<'a> {
 impl SoftmaxLoss<'_> {
     /// [`SoftmaxLoss::group`] on centred rows with weights `w = W/s` (f32) and biases `b`:
     /// the gradient block is `Σᵢ rᵢ (xᵢ − m)ᵀ`, divided by the scales by the caller.
+    ///
+    /// Beside the products, the centring and the softmax's `exp` took as long as the products
+    /// in the baseline build (four lanes wide); on a CPU with AVX-512 they are compiled
+    /// sixteen wide (`group_fast_avx512`). Same operations per element, so the same bits.
     fn group_fast(&self, blocks: &[Block], w: ArrayView2<f32>, b: &[f64]) -> Partial {
+        #[cfg(target_arch = "x86_64")]
+        {
+            if std::arch::is_x86_feature_detected!("avx512f") {
+                // SAFETY: the CPU has AVX-512F, the only requirement of `group_fast_avx512`.
+                return unsafe { self.group_fast_avx512(blocks, w, b) };
+            }
+        }
+        self.group_fast_body(blocks, w, b)
+    }
+
+    #[cfg(target_arch = "x86_64")]
+    #[target_feature(enable = "avx512f")]
+    fn group_fast_avx512(&self, blocks: &[Block], w: ArrayView2<f32>, b: &[f64]) -> Partial {
+        self.group_fast_body(blocks, w, b)
+    }
+
+    #[inline(always)]
+    fn group_fast_body(&self, blocks: &[Block], w: ArrayView2<f32>, b: &[f64]) -> Partial {
         let (c, d) = (self.n_classes, self.mean.len());
         let mut out = Partial {
             data_loss: 0.0,
@@ -291,7 +314,7 @@ impl SoftmaxLoss<'_> {
                     .for_each(|(o, (&v, &mj))| *o = v - mj);
             }
             let mut z = z_buf.slice_mut(s![..m, ..]);
-            general_mat_mul(1.0, &xc, &w.t(), 0.0, &mut z);
+            linalg::sgemm(xc.view(), w.t(), &mut z, false);
             let rows = block.first..block.first + m;
             for (((mut row, &yi), &ci), i) in z
                 .axis_iter_mut(Axis(0))
@@ -331,7 +354,7 @@ impl SoftmaxLoss<'_> {
                     .zip(row.iter())
                     .for_each(|(g, &r)| *g += f64::from(r));
             }
-            general_mat_mul(1.0, &z.t(), &xc, 0.0, &mut g_blk);
+            linalg::sgemm(z.t(), xc.view(), &mut g_blk.view_mut(), false);
             out.g_w.zip_mut_with(&g_blk, |acc, &v| *acc += f64::from(v));
         }
         out
