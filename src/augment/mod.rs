@@ -12,7 +12,7 @@ mod plan;
 mod stream;
 mod unit_norm;
 
-pub use assemble::{assemble, grow_dataset};
+pub use assemble::{assemble, assemble_owned, grow_dataset};
 pub use calibrated::{lender_bytes, parse_tukey};
 pub use grow::{Grown, describe_notes, grow};
 pub use mix::partner_bytes;
