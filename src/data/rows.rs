@@ -1,10 +1,8 @@
 //! Some rows of a matrix, reached through their indices instead of copied out. A fold's
 //! training and test rows are row lists into the one input matrix: copying them for every
 //! fold held the data twice at the peak, so the stages that read them (neighbour search,
-//! probes, diagnostics) take a `Rows` and gather a block of rows at a time where they need
-//! contiguous memory.
-
-use std::ops::Range;
+//! probes, diagnostics) take a `Rows` and read its rows in place, a row at a time or into
+//! the block buffers they already fill.
 
 use ndarray::{Array2, ArrayView1, ArrayView2, Axis};
 
@@ -87,24 +85,6 @@ impl<'a> Rows<'a> {
         self.pick.is_none().then_some(self.x)
     }
 
-    /// Picked rows `r` as a contiguous matrix: a view when the rows are the whole matrix,
-    /// else gathered into `buf` (reused across calls, so a loop over blocks allocates once).
-    pub fn block<'b>(&self, r: Range<usize>, buf: &'b mut Vec<f32>) -> ArrayView2<'b, f32>
-    where
-        'a: 'b,
-    {
-        if let Some(v) = self.as_view() {
-            return v.reborrow().slice_move(ndarray::s![r, ..]);
-        }
-        let d = self.ncols();
-        buf.clear();
-        buf.reserve(r.len() * d);
-        for i in r.clone() {
-            buf.extend(self.row(i).iter());
-        }
-        ArrayView2::from_shape((r.len(), d), &buf[..]).expect("sized for the block")
-    }
-
     /// Picked rows `positions` (indices among the picked rows), copied.
     pub fn select(&self, positions: &[usize]) -> Array2<f32> {
         match self.pick {
@@ -149,15 +129,13 @@ mod tests {
         for i in 0..3 {
             assert_eq!(rows.row(i), copied.row(i));
         }
-        let mut buf = Vec::new();
-        assert_eq!(
-            rows.block(1..3, &mut buf),
-            copied.slice(ndarray::s![1..3, ..])
-        );
+        assert_eq!(rows.index(1), 0);
         assert_eq!(rows.select(&[2, 0]), copied.select(Axis(0), &[2, 0]));
         assert!(rows.as_view().is_none());
         let whole = Rows::all(x.view());
-        assert_eq!(whole.block(1..3, &mut buf), x.slice(ndarray::s![1..3, ..]));
+        assert_eq!(whole.as_view(), Some(x.view()));
         assert_eq!(whole.iter().count(), 4);
+        assert_eq!(rows.first(2).to_owned(), x.select(Axis(0), &[3, 0]));
+        assert_eq!(whole.first(9).nrows(), 4);
     }
 }
