@@ -96,11 +96,17 @@ impl<'a> Rows<'a> {
         }
     }
 
-    /// Every picked row, copied: for the few stages that need an owned matrix.
+    /// Every picked row, copied into a standard-layout (row-major) matrix: for the few
+    /// stages that need an owned, contiguous one.
     pub fn to_owned(&self) -> Array2<f32> {
-        match self.pick {
+        let out = match self.pick {
             None => self.x.to_owned(),
             Some(p) => self.x.select(Axis(0), p),
+        };
+        if out.is_standard_layout() {
+            out
+        } else {
+            out.as_standard_layout().into_owned()
         }
     }
 }
@@ -137,5 +143,10 @@ mod tests {
         assert_eq!(whole.iter().count(), 4);
         assert_eq!(rows.first(2).to_owned(), x.select(Axis(0), &[3, 0]));
         assert_eq!(whole.first(9).nrows(), 4);
+        // A column-major view still copies out row-major, as the neighbour search reads it.
+        let t = x.t().to_owned();
+        let back = Rows::all(t.t()).to_owned();
+        assert!(back.is_standard_layout());
+        assert_eq!(back, x);
     }
 }
