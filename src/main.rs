@@ -1,5 +1,6 @@
 //! The embloom binary: parse arguments into typed options, then make one library call.
 
+mod allocator;
 mod cli;
 mod signals;
 
@@ -8,6 +9,7 @@ use std::process::ExitCode;
 use clap::Parser;
 
 fn main() -> ExitCode {
+    allocator::fix_mmap_threshold();
     let args = cli::Cli::parse();
     signals::install();
     match cli::run(args) {

@@ -11,7 +11,6 @@
 
 use std::path::Path;
 
-use crate::assess::fold_copies_bytes;
 use crate::assess::results::FoldRecord;
 use crate::data::FloatType;
 use crate::error::{Error, Limit, LimitSource, Result};
@@ -160,10 +159,11 @@ pub fn for_read(path: &Path, rows: usize, dims: usize, stored: FloatType) -> Est
     ])
 }
 
-/// Peak of `grow`: reading, then the matrix, the synthetic rows, the stacked output and the
-/// export image (npz and safetensors build each member in memory, Parquet and Arrow one
-/// record batch; CSV and HDF5 stream). The export image is in the input's float type; f64
-/// input also keeps its f64 values for the real rows and a stacked f64 copy of the output.
+/// Peak of `grow`: reading, then the matrix, the synthetic rows, the output set (the
+/// synthetic rows appended to the input's matrix in place, plus the per-row columns) and the
+/// export image (safetensors builds the matrix member in memory, Parquet and Arrow one record
+/// batch; npz writes the matrix a row at a time, CSV and HDF5 stream). The export image is in
+/// the input's float type; f64 input also keeps its f64 values, extended in place too.
 pub fn for_grow(
     input: &Path,
     rows: usize,
@@ -183,7 +183,6 @@ pub fn for_grow(
         .saturating_mul(dims as u64)
         .saturating_mul(written);
     let image = match format {
-        Some(Format::Npz) => 2 * values,
         Some(Format::Safetensors) => values,
         // The record batch, plus a row group's encoded pages held until it is flushed.
         Some(Format::Parquet) => 2 * values,
@@ -199,16 +198,19 @@ pub fn for_grow(
         ("synthetic rows".into(), matrix(synthetic, dims)),
         (
             "output set".into(),
-            matrix(out_rows, dims) + kept_f64(out_rows, dims, stored) + out_rows as u64 * ROW_EXTRA,
+            matrix(synthetic, dims)
+                + kept_f64(synthetic, dims, stored)
+                + out_rows as u64 * ROW_EXTRA,
         ),
         ("export image".into(), image),
     ]);
     for_read(input, rows, dims, stored).max(grow)
 }
 
-/// Peak of `assess`: the matrix, one fold's train/test copies, the synthetic rows of the
-/// biggest method in that fold, and the linear probe's standardised copy of the real and
-/// synthetic training rows (it reads the two parts in place, so there is no stacked copy).
+/// Peak of `assess`: the matrix, the synthetic rows of the biggest method in a fold, and the
+/// linear probe's standardised copy of the real and synthetic training rows (it reads the
+/// two parts in place, so there is no stacked copy). A fold's rows are read in place in the
+/// matrix (`data::Rows`), never copied out.
 /// The f64 values of an f64 input count while reading only: assess computes in f32 and lets
 /// them go.
 pub fn for_assess(
@@ -231,7 +233,6 @@ pub fn for_assess(
     let assess = Estimate::of(vec![
         ("runtime".into(), RUNTIME),
         ("matrix".into(), matrix(rows, dims)),
-        ("fold copies".into(), fold_copies_bytes(rows, dims)),
         ("synthetic rows".into(), matrix(syn, dims)),
         ("linear probe".into(), probe),
     ]);

@@ -34,7 +34,7 @@ pub use probe_side::not_applicable;
 pub use results::{AssessResults, HashedFile, InputInfo};
 pub use run::{
     Progress, WorkItem, assess, assess_grown_observed, assess_observed, assess_sets_observed,
-    assess_with, assess_with_observed, fold_copies_bytes,
+    assess_with, assess_with_observed,
 };
 pub use scatter::{MAX_CLASSES as MAX_SCATTER_CLASSES, RIVALS as SCATTER_RIVALS};
 pub use summary::{LEVEL, summary_with};

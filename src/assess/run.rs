@@ -2,6 +2,7 @@
 //! are trained on real + synthetic training rows and scored on the real test rows only; all
 //! methods see the same folds, so differences against `none` are paired.
 
+use std::borrow::Cow;
 use std::collections::BTreeSet;
 use std::time::Instant;
 
@@ -15,7 +16,7 @@ use super::probe_side::{ProbeSide, not_applicable};
 use super::results::{AssessResults, DiagnosticRow, FoldRecord, InputInfo, Scatter, WorkCounters};
 use super::{confusion, scatter, shared_knn, summary};
 use crate::augment::{self, Augmenter, Grown, MethodKind, Plan, class_indices, describe_notes};
-use crate::data::{self, Dataset, RowIndex};
+use crate::data::{self, Dataset, RowIndex, Rows, Subset};
 use crate::error::{Error, Result};
 use crate::eval::Metric;
 use crate::eval::diagnostics::{TrainingRows, class_diagnostics, ratio_distance_name};
@@ -455,21 +456,23 @@ pub(super) fn gather(
         let knn_space = cfg
             .probes
             .contains(&ProbeKind::Knn)
-            .then(|| knn_probe.standardizer(ctx.train.view()))
+            .then(|| knn_probe.standardizer(ctx.train))
             .flatten();
-        let knn_test = knn_space.as_ref().map(|s| s.apply(ctx.test.view()));
-        let knn_test_view = knn_test.as_ref().map_or(ctx.test.view(), |t| t.view());
+        let knn_test = knn_space.as_ref().map(|s| s.apply(ctx.test));
+        let knn_test_view = knn_test.as_ref().map_or(ctx.test, |t| Rows::all(t.view()));
         let real_knn = match reused {
             Some(b) => b.real_knn.clone(),
             None => cfg.probes.contains(&ProbeKind::Knn).then(|| {
                 // Counted once per fold: by the step of `none` when steps run apart.
                 work.test_real_knn_passes += usize::from(only.is_none_or(|item| item.method == 0));
-                let scaled = knn_space.as_ref().map(|s| s.apply(ctx.train.view()));
-                let train = scaled.as_ref().map_or(ctx.train.view(), |t| t.view());
+                let scaled = knn_space.as_ref().map(|s| s.apply(ctx.train));
+                let train = scaled
+                    .as_ref()
+                    .map_or(ctx.train.reborrow(), |t| Rows::all(t.view()));
                 neighbors::knn(knn_test_view, train, cfg.knn.k, cfg.knn.metric)
             }),
         };
-        let guard = LeakGuard::new(&ctx.train, &ctx.test);
+        let guard = LeakGuard::new(ctx.train, ctx.test);
         // Only the grown classes are diagnosed, so only their rows need a nearest neighbour.
         let diagnosed_classes: Vec<u32> = ctx
             .grown
@@ -481,8 +484,8 @@ pub(super) fn gather(
             .collect();
         let diagnosed = (cfg.diagnostics && !diagnosed_classes.is_empty()).then(|| {
             TrainingRows::for_classes(
-                ctx.train.view(),
-                &ctx.train.labels,
+                ctx.train,
+                &ctx.train_labels,
                 cfg.knn.metric,
                 &diagnosed_classes,
             )
@@ -529,14 +532,13 @@ pub(super) fn gather(
             // a neighbour method) must not be marked as grown.
             grown_anywhere.extend(grown.labels.iter().copied());
             let labels: Vec<u32> = ctx
-                .train
-                .labels
+                .train_labels
                 .iter()
                 .chain(&grown.labels)
                 .copied()
                 .collect();
             // Mixed rows' soft targets, aligned with `labels` (empty when every row is hard).
-            let soft = data::after_hard(ctx.train.n_rows(), &grown.soft, grown.x.nrows());
+            let soft = data::after_hard(ctx.train.nrows(), &grown.soft, grown.x.nrows());
             let side = ProbeSide::of(&id, &cfg.augment);
             for (pi, &probe) in cfg.probes.iter().enumerate() {
                 if let Some(why) = not_applicable(&id, probe) {
@@ -563,7 +565,7 @@ pub(super) fn gather(
                         let merged = shared_knn::merge(
                             real,
                             &synthetic,
-                            ctx.train.n_rows() as u32,
+                            ctx.train.nrows() as u32,
                             cfg.knn.k,
                         );
                         let pred = knn_probe.predict_soft(
@@ -584,10 +586,10 @@ pub(super) fn gather(
                     // mean of a class's members (see the README's `mix`).
                     (None, ProbeKind::Centroid) => Evaluated {
                         pred: centroid_probe.predict(
-                            &[ctx.train.x.view(), grown.x.view()],
+                            &[ctx.train.reborrow(), Rows::all(grown.x.view())],
                             &labels,
                             ds.n_classes(),
-                            ctx.test.view(),
+                            ctx.test,
                         )?,
                         calibration: None,
                         converged: None,
@@ -610,20 +612,20 @@ pub(super) fn gather(
                             };
                             work.linear_fits += 1;
                             work.linear_warm_starts += usize::from(baseline_linear.is_some());
-                            let model = linear_probe.fit_parts_soft(
-                                &[ctx.train.x.view(), grown.x.view()],
+                            let model = linear_probe.fit_rows_soft(
+                                &[ctx.train.reborrow(), Rows::all(grown.x.view())],
                                 &labels,
                                 &soft,
                                 ds.n_classes(),
                                 baseline_linear.as_ref(),
                             )?;
-                            let proba = model.predict_proba(ctx.test.view());
+                            let proba = model.predict_proba(ctx.test);
                             work.linear_iterations_total += model.iterations;
                             Evaluated {
-                                pred: model.predict(ctx.test.view()),
+                                pred: model.predict(ctx.test),
                                 calibration: Some((
-                                    log_loss(&ctx.test.labels, proba.view()),
-                                    ece(&ctx.test.labels, proba.view(), ECE_BINS),
+                                    log_loss(&ctx.test_labels, proba.view()),
+                                    ece(&ctx.test_labels, proba.view(), ECE_BINS),
                                 )),
                                 converged: Some(model.converged),
                                 model: Some(model),
@@ -662,7 +664,12 @@ pub(super) fn gather(
                 diagnostics.extend(ctx.diagnostics(&id, &grown, train_rows, &classes));
             }
             if fi == 0 && !id.is_baseline() {
-                scatters.extend(scatter::class_scatters(&ctx.train, &grown, &classes, &id));
+                scatters.extend(scatter::class_scatters(
+                    &ctx.train_set(),
+                    &grown,
+                    &classes,
+                    &id,
+                ));
             }
             if let Some((n, w, fw, wk)) = before {
                 records.truncate(n);
@@ -750,24 +757,24 @@ fn logit_adjusted(
     probe: &LinearProbe,
     work: &mut WorkCounters,
 ) -> Result<Evaluated> {
-    let n_classes = ctx.train.n_classes();
+    let n_classes = ctx.ds.n_classes();
     let fitted;
     let model = match baseline {
         Some(m) => m,
         None => {
             work.linear_fits += 1;
-            fitted = probe.fit(ctx.train.x.view(), labels, n_classes, None)?;
+            fitted = probe.fit_rows_soft(&[ctx.train], labels, &[], n_classes, None)?;
             work.linear_iterations_total += fitted.iterations;
             &fitted
         }
     };
     let adjust = LogitAdjustment::new(labels, n_classes, tau);
-    let proba = adjust.predict_proba(model, ctx.test.view());
+    let proba = adjust.predict_proba(model, ctx.test);
     Ok(Evaluated {
-        pred: adjust.predict(model, ctx.test.view()),
+        pred: adjust.predict(model, ctx.test),
         calibration: Some((
-            log_loss(&ctx.test.labels, proba.view()),
-            ece(&ctx.test.labels, proba.view(), ECE_BINS),
+            log_loss(&ctx.test_labels, proba.view()),
+            ece(&ctx.test_labels, proba.view(), ECE_BINS),
         )),
         converged: Some(model.converged),
         model: None,
@@ -792,12 +799,6 @@ fn not_converged(method: &MethodId, cfg: &AssessConfig) -> String {
     )
 }
 
-/// Bytes of one fold's training and test copies of a `rows × dims` matrix (every row is in
-/// one or the other), for the memory estimate.
-pub fn fold_copies_bytes(rows: usize, dims: usize) -> u64 {
-    (rows as u64).saturating_mul(dims as u64).saturating_mul(4)
-}
-
 /// What making a method's rows in a fold reads besides the fold itself.
 struct RowsIn<'a> {
     ds: &'a Dataset,
@@ -808,27 +809,47 @@ struct RowsIn<'a> {
     budget: ExternalBudget,
 }
 
-/// The real training and test rows of one fold and its growth plan.
+/// The real training and test rows of one fold, as row lists into the input matrix (never
+/// copied out for the probes and diagnostics), and its growth plan.
 struct FoldContext<'a> {
+    ds: &'a Dataset,
     fold: &'a Fold,
-    train: Dataset,
-    test: Dataset,
+    train: Rows<'a>,
+    train_labels: Vec<u32>,
+    test: Rows<'a>,
+    test_labels: Vec<u32>,
     plan: Plan,
     grown: Vec<u32>,
 }
 
 impl<'a> FoldContext<'a> {
-    fn new(ds: &Dataset, fold: &'a Fold, cfg: &AssessConfig, only: Option<&[u32]>) -> Self {
-        let train = ds.select(&fold.train);
-        let test = ds.select(&fold.test);
-        let plan = Plan::new(&train.class_counts(), cfg.target, only);
+    fn new(ds: &'a Dataset, fold: &'a Fold, cfg: &AssessConfig, only: Option<&[u32]>) -> Self {
+        let labels_of = |rows: &[usize]| rows.iter().map(|&i| ds.labels[i]).collect::<Vec<_>>();
+        let train_labels = labels_of(&fold.train);
+        let mut counts = vec![0usize; ds.n_classes()];
+        for &l in &train_labels {
+            counts[l as usize] += 1;
+        }
+        let plan = Plan::new(&counts, cfg.target, only);
         let grown = plan.grown_classes();
         FoldContext {
+            ds,
             fold,
-            train,
-            test,
+            train: Rows::picked(ds.view(), &fold.train),
+            train_labels,
+            test: Rows::picked(ds.view(), &fold.test),
+            test_labels: labels_of(&fold.test),
             plan,
             grown,
+        }
+    }
+
+    /// The training rows with their labels, as the methods and the scatter views read them.
+    fn train_set(&self) -> Subset<'_> {
+        Subset {
+            x: self.train.reborrow(),
+            labels: Cow::Borrowed(&self.train_labels),
+            classes: &self.ds.classes,
         }
     }
 
@@ -840,7 +861,14 @@ impl<'a> FoldContext<'a> {
             self.fold.repeat as u64,
             self.fold.index as u64,
         ];
-        augment::grow(&self.train, augmenter, &self.plan, unit_norm, seed, &stream)
+        augment::grow_subset(
+            &self.train_set(),
+            augmenter,
+            &self.plan,
+            unit_norm,
+            seed,
+            &stream,
+        )
     }
 
     /// A method's synthetic rows of this fold: fitted, read from a file (gated, and for an
@@ -892,7 +920,7 @@ impl<'a> FoldContext<'a> {
             }
             Arm::Union(_, parts) => {
                 let mut all = Grown {
-                    x: Array2::zeros((0, self.train.dims())),
+                    x: Array2::zeros((0, self.train.ncols())),
                     labels: Vec::new(),
                     provenance: Vec::new(),
                     soft: Vec::new(),
@@ -929,9 +957,9 @@ impl<'a> FoldContext<'a> {
         grown: &Grown,
         evaluated: &Evaluated,
     ) -> FoldRecord {
-        let n_classes = self.train.n_classes();
+        let n_classes = self.ds.n_classes();
         let pred = &evaluated.pred;
-        let scores = score(&self.test.labels, pred, n_classes);
+        let scores = score(&self.test_labels, pred, n_classes);
         let metrics = Metric::ALL
             .into_iter()
             .filter_map(|m| {
@@ -954,9 +982,9 @@ impl<'a> FoldContext<'a> {
             fold: self.fold.index,
             method: method.clone(),
             probe,
-            train_real: self.train.n_rows(),
+            train_real: self.train.nrows(),
             train_synthetic: grown.x.nrows(),
-            test: self.test.n_rows(),
+            test: self.test.nrows(),
             metrics,
             class_recall: scores
                 .per_class
@@ -966,7 +994,7 @@ impl<'a> FoldContext<'a> {
             converged: evaluated.converged,
             outcome: TestOutcome {
                 rows: self.fold.test.clone(),
-                labels: self.test.labels.clone(),
+                labels: self.test_labels.clone(),
                 pred: pred.to_vec(),
             },
         }
@@ -983,14 +1011,14 @@ impl<'a> FoldContext<'a> {
             train,
             grown.x.view(),
             &grown.labels,
-            self.test.view(),
-            &self.test.labels,
+            self.test,
+            &self.test_labels,
             classes,
         );
         rows.into_iter()
             .map(|d| DiagnosticRow {
                 method: method.clone(),
-                class: self.train.classes[d.class as usize].clone(),
+                class: self.ds.classes[d.class as usize].clone(),
                 synthetic_rows: d.synthetic as f64,
                 intrusion_synthetic: d.intrusion_synthetic,
                 intrusion_real: d.intrusion_real,
@@ -1015,10 +1043,10 @@ struct LeakGuard<'a> {
 }
 
 impl<'a> LeakGuard<'a> {
-    fn new(train: &'a Dataset, test: &'a Dataset) -> Self {
+    fn new(train: Rows<'a>, test: Rows<'a>) -> Self {
         LeakGuard {
-            train: RowIndex::new(train.view()),
-            test: RowIndex::new(test.view()),
+            train: RowIndex::new(train),
+            test: RowIndex::new(test),
         }
     }
 

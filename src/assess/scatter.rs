@@ -10,7 +10,7 @@ use ndarray::{Array2, Axis};
 use super::MethodId;
 use super::results::Scatter;
 use crate::augment::Grown;
-use crate::data::Dataset;
+use crate::data::Subset;
 use crate::pca::Pca;
 
 /// At most this many points of each kind are drawn, to keep the HTML small.
@@ -38,7 +38,7 @@ pub const MAX_CLASSES: usize = 12;
 /// One view per grown class with synthetic rows and at least 3 real rows (the first
 /// [`MAX_CLASSES`] of them, largest class first).
 pub fn class_scatters(
-    train: &Dataset,
+    train: &Subset<'_>,
     grown: &Grown,
     classes: &[u32],
     method: &MethodId,
@@ -71,7 +71,7 @@ pub fn class_scatters(
             for k in &rivals {
                 fit_rows.extend(spaced(&rival_by[k], rival_cap));
             }
-            let pca = Pca::fit(train.x.select(Axis(0), &fit_rows).view()).ok()?;
+            let pca = Pca::fit(train.x.select(&fit_rows).view()).ok()?;
             if pca.components.nrows() < 2 {
                 return None;
             }
@@ -80,15 +80,12 @@ pub fn class_scatters(
             for (j, &k) in rivals.iter().enumerate() {
                 let rows = spaced(&rival_by[&k], RIVAL_ROWS);
                 others_rival.extend(std::iter::repeat_n(j, rows.len()));
-                others.extend(points(&pca, &train.x.select(Axis(0), &rows)));
+                others.extend(points(&pca, &train.x.select(&rows)));
             }
             Some(Scatter {
                 method: method.clone(),
                 class: train.classes[c as usize].clone(),
-                real: points(
-                    &pca,
-                    &train.x.select(Axis(0), &spaced(real_rows, MAX_POINTS)),
-                ),
+                real: points(&pca, &train.x.select(&spaced(real_rows, MAX_POINTS))),
                 synthetic: points(
                     &pca,
                     &grown.x.select(Axis(0), &spaced(syn_rows, MAX_POINTS)),
@@ -112,7 +109,7 @@ fn spaced(rows: &[usize], n: usize) -> Vec<usize> {
 }
 
 /// The mean of the given rows, accumulated in f64.
-fn class_mean(train: &Dataset, rows: &[usize]) -> Vec<f64> {
+fn class_mean(train: &Subset<'_>, rows: &[usize]) -> Vec<f64> {
     let mut sum = vec![0.0f64; train.x.ncols()];
     for &i in rows {
         for (s, &v) in sum.iter_mut().zip(train.x.row(i)) {
@@ -126,7 +123,7 @@ fn class_mean(train: &Dataset, rows: &[usize]) -> Vec<f64> {
 /// Up to [`RIVALS`] other classes whose nearest training row lies closest (euclidean) to the
 /// class's mean, nearest first; ties by class index. One pass over the rows keeping one
 /// distance per class, so a set of many classes costs no per-class means.
-fn nearest_classes(train: &Dataset, c: u32, mean: &[f64]) -> Vec<u32> {
+fn nearest_classes(train: &Subset<'_>, c: u32, mean: &[f64]) -> Vec<u32> {
     let mut best = vec![f64::INFINITY; train.classes.len()];
     for (i, &l) in train.labels.iter().enumerate() {
         if l == c {

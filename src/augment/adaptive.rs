@@ -11,7 +11,7 @@ use super::cross_class::other_class_counts;
 use super::neighbour_methods::{self, Bases, NeighbourParams, PairPath, Segment};
 use super::params::{AugmentParams, MethodParams, Param, ParamGuard};
 use super::{Augmenter, FitNote, FittedAugmenter, MethodKind};
-use crate::data::Dataset;
+use crate::data::Subset;
 use crate::error::{Error, Result};
 
 /// Unchecked ADASYN parameters; [`ParamGuard::check`] gives the valid ones.
@@ -61,7 +61,7 @@ impl Augmenter for AdaptiveValidParams {
         MethodKind::Adaptive
     }
 
-    fn fit(&self, train: &Dataset, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
+    fn fit(&self, train: &Subset<'_>, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
         let k = self.neighbours.k;
         let metric = self.neighbours.metric;
         let bases = |class: u32, rows: &[usize]| -> Result<(Bases, Vec<FitNote>)> {

@@ -40,14 +40,55 @@ pub fn grow_dataset(
 
 /// Real rows first (bit-identical, in input order), then the synthetic rows, with provenance.
 pub fn assemble(ds: &Dataset, grown: &Grown, method: MethodKind) -> Result<AugmentedSet> {
-    let n_real = ds.n_rows();
+    let x = concatenate(Axis(0), &[ds.view(), grown.x.view()]).map_err(cannot_stack)?;
+    // Real rows keep the input's own f64 values; synthetic rows, computed in f32, widen
+    // exactly.
+    let x_f64 = (ds.float_type == FloatType::F64)
+        .then(|| {
+            let real = ds.x_f64.clone().unwrap_or_else(|| ds.x.mapv(f64::from));
+            let syn = grown.x.mapv(f64::from);
+            concatenate(Axis(0), &[real.view(), syn.view()])
+        })
+        .transpose()
+        .map_err(cannot_stack)?;
+    assemble_stacked(ds, x, x_f64, grown, method)
+}
+
+/// [`assemble`] taking the input by value: the synthetic rows are appended to the input's own
+/// matrix (its buffer grows in place), so the set is written from the one copy of the real
+/// rows instead of a second, stacked one.
+pub fn assemble_owned(mut ds: Dataset, grown: &Grown, method: MethodKind) -> Result<AugmentedSet> {
+    let mut x = std::mem::take(&mut ds.x);
+    let x_f64 = (ds.float_type == FloatType::F64)
+        .then(|| {
+            let mut wide = ds.x_f64.take().unwrap_or_else(|| x.mapv(f64::from));
+            wide.append(Axis(0), grown.x.mapv(f64::from).view())
+                .map(|()| wide)
+        })
+        .transpose()
+        .map_err(cannot_stack)?;
+    x.append(Axis(0), grown.x.view()).map_err(cannot_stack)?;
+    assemble_stacked(&ds, x, x_f64, grown, method)
+}
+
+fn cannot_stack(e: ndarray::ShapeError) -> Error {
+    Error::data(
+        format!("cannot stack synthetic rows: {e}"),
+        "report this as a bug",
+    )
+}
+
+/// The set from the real rows' metadata in `ds` and the matrices already stacked (real rows,
+/// then synthetic rows); `ds.x` and `ds.x_f64` are not read.
+fn assemble_stacked(
+    ds: &Dataset,
+    x: ndarray::Array2<f32>,
+    x_f64: Option<ndarray::Array2<f64>>,
+    grown: &Grown,
+    method: MethodKind,
+) -> Result<AugmentedSet> {
+    let n_real = ds.labels.len();
     let n_syn = grown.x.nrows();
-    let x = concatenate(Axis(0), &[ds.view(), grown.x.view()]).map_err(|e| {
-        Error::data(
-            format!("cannot stack synthetic rows: {e}"),
-            "report this as a bug",
-        )
-    })?;
     let mut labels = ds.labels.clone();
     labels.extend_from_slice(&grown.labels);
     // A synthetic row mixes its parent with a partner that may sit in another fold or group,
@@ -70,20 +111,10 @@ pub fn assemble(ds: &Dataset, grown: &Grown, method: MethodKind) -> Result<Augme
         }
         out
     });
-    // Real rows keep the input's own f64 values; synthetic rows, computed in f32, widen
-    // exactly.
-    let x_f64 = (ds.float_type == FloatType::F64).then(|| {
-        let real = ds.x_f64.clone().unwrap_or_else(|| ds.x.mapv(f64::from));
-        let syn = grown.x.mapv(f64::from);
-        concatenate(Axis(0), &[real.view(), syn.view()])
-    });
-    let x_f64 = x_f64.transpose().map_err(|e| {
-        Error::data(
-            format!("cannot stack synthetic rows: {e}"),
-            "report this as a bug",
-        )
-    })?;
-    let real_source = ds.source_rows();
+    let real_source = match &ds.source_row {
+        Some(s) => s.clone(),
+        None => (0..n_real as i64).collect(),
+    };
     let mut source_row = real_source.clone();
     source_row.extend(
         grown

@@ -8,7 +8,7 @@ use super::cross_class::other_class_counts;
 use super::neighbour_methods::{self, Bases, NeighbourParams, PairPath, Segment};
 use super::params::{AugmentParams, MethodParams, Param, ParamGuard};
 use super::{Augmenter, FitNote, FittedAugmenter, MethodKind};
-use crate::data::Dataset;
+use crate::data::Subset;
 use crate::error::{Error, Result};
 
 /// m, the all-class neighbours that decide danger, when none is given (the paper's m = 10).
@@ -100,7 +100,7 @@ impl Augmenter for BorderlineValidParams {
         MethodKind::Borderline
     }
 
-    fn fit(&self, train: &Dataset, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
+    fn fit(&self, train: &Subset<'_>, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
         let m = self.danger_neighbours;
         let metric = self.neighbours.metric;
         let bases = |class: u32, rows: &[usize]| -> Result<(Bases, Vec<FitNote>)> {

@@ -19,7 +19,7 @@
 //! matrix is formed or factorised per base row; α's part is one shared N(0, α) offset on
 //! every coordinate.
 
-use ndarray::{Array1, Array2, Axis};
+use ndarray::{Array1, Array2};
 use rand::Rng as _;
 use rand_distr::StandardNormal;
 use rayon::prelude::*;
@@ -27,7 +27,7 @@ use rayon::prelude::*;
 use super::class_fit::{ClassFit, PerClass};
 use super::params::{AugmentParams, MethodParams, Param, ParamGuard, check_magnitude};
 use super::{Augmenter, FitNote, FittedAugmenter, MethodKind, Provenance, Synthetic, check_finite};
-use crate::data::Dataset;
+use crate::data::Subset;
 use crate::error::{Error, Result};
 use crate::pca::Pca;
 use crate::seed::Rng;
@@ -180,18 +180,19 @@ impl CalibratedValidParams {
     }
 
     /// Refuse negative features when the transform is on (x^λ is not real for them).
-    fn check_tukey(&self, train: &Dataset) -> Result<()> {
+    fn check_tukey(&self, train: &Subset<'_>) -> Result<()> {
         let Some(l) = self.tukey else { return Ok(()) };
-        let d = train.dims().max(1);
-        match train.x.iter().position(|&v| v < 0.0) {
+        let negative = train.x.iter().enumerate().find_map(|(i, r)| {
+            r.iter()
+                .position(|&v| v < 0.0)
+                .map(|j| (i, j, r[j]))
+        });
+        match negative {
             None => Ok(()),
-            Some(p) => Err(Error::param(
+            Some((row, col, v)) => Err(Error::param(
                 Param::Tukey.name(),
                 format!(
-                    "Tukey's transform x^{l} needs non-negative features, but training row {} has {} in column {}",
-                    p / d,
-                    train.x[[p / d, p % d]],
-                    p % d
+                    "Tukey's transform x^{l} needs non-negative features, but training row {row} has {v} in column {col}"
                 ),
                 "leave the transform off for features that can be negative (it is meant for non-negative activations, e.g. after a ReLU)",
             )),
@@ -199,8 +200,8 @@ impl CalibratedValidParams {
     }
 
     /// The transformed rows `rows` of `train`, in f32 for the PCA.
-    fn transformed(&self, train: &Dataset, rows: &[usize]) -> Array2<f32> {
-        let x = train.x.select(Axis(0), rows);
+    fn transformed(&self, train: &Subset<'_>, rows: &[usize]) -> Array2<f32> {
+        let x = train.x.select(rows);
         match self.tukey {
             Some(_) => x.mapv(|v| self.forward(v) as f32),
             None => x,
@@ -213,7 +214,7 @@ impl Augmenter for CalibratedValidParams {
         MethodKind::Calibrated
     }
 
-    fn fit(&self, train: &Dataset, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
+    fn fit(&self, train: &Subset<'_>, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
         self.check_tukey(train)?;
         let grown: std::collections::BTreeSet<u32> = classes.iter().copied().collect();
         let lender_classes: Vec<u32> = (0..train.n_classes() as u32)

@@ -8,7 +8,7 @@ use ndarray::Array2;
 use rayon::prelude::*;
 
 use super::{FitNote, MethodKind, Synthetic};
-use crate::data::Dataset;
+use crate::data::Subset;
 use crate::error::{Error, Result};
 
 /// What fitting one class produced.
@@ -35,7 +35,7 @@ impl<T: Send> PerClass<T> {
     /// class turns the whole fit into an error naming every such class.
     pub(super) fn fit<F>(
         kind: MethodKind,
-        train: &Dataset,
+        train: &Subset<'_>,
         classes: &[u32],
         strict: bool,
         fit_class: F,

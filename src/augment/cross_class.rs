@@ -3,16 +3,14 @@
 //! learn) build on. It is computed on the rows the method is fitted on, which inside assess
 //! are the fold's training rows only, so a test row never shapes the synthetic rows.
 
-use ndarray::Axis;
-
-use crate::data::Dataset;
+use crate::data::Subset;
 use crate::neighbors::{Metric, knn};
 
 /// For each of the class rows `rows` of `train`, the number of its `m` nearest other rows of
 /// `train` (any class, the row itself excluded by position) that are of another class than
 /// `class`, and the `m` actually used (clamped to the `train` rows other than the row).
 pub(super) fn other_class_counts(
-    train: &Dataset,
+    train: &Subset<'_>,
     class: u32,
     rows: &[usize],
     m: usize,
@@ -22,9 +20,9 @@ pub(super) fn other_class_counts(
     if used == 0 {
         return (vec![0; rows.len()], 0);
     }
-    let q = train.x.select(Axis(0), rows);
+    let q = train.x.select(rows);
     // One more than needed, so that dropping the row itself still leaves `used`.
-    let found = knn(q.view(), train.x.view(), used + 1, metric);
+    let found = knn(q.view(), train.x, used + 1, metric);
     let counts = rows
         .iter()
         .enumerate()

@@ -3,13 +3,13 @@
 //! seed stream. It adds no new points, only weight, so it is the baseline every method that
 //! invents rows has to beat; a one-row class grows like any other.
 
-use ndarray::{Array2, Axis};
+use ndarray::Array2;
 use rand::Rng as _;
 
 use super::class_fit::{ClassFit, PerClass};
 use super::params::{AugmentParams, MethodParams, Param, ParamGuard};
 use super::{Augmenter, FitNote, FittedAugmenter, MethodKind, Provenance, Synthetic, check_finite};
-use crate::data::Dataset;
+use crate::data::Subset;
 use crate::error::{Error, Result};
 use crate::seed::Rng;
 
@@ -53,12 +53,12 @@ impl Augmenter for DuplicateValidParams {
         MethodKind::Duplicate
     }
 
-    fn fit(&self, train: &Dataset, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
+    fn fit(&self, train: &Subset<'_>, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
         let fit = |_: u32, rows: &[usize]| -> Result<ClassFit<ClassRows>> {
             Ok(ClassFit::Ready {
                 model: ClassRows {
                     rows: rows.to_vec(),
-                    x: train.x.select(Axis(0), rows),
+                    x: train.x.select(rows),
                 },
                 notes: Vec::new(),
             })

@@ -7,7 +7,7 @@
 use super::neighbour_methods::{self, NeighbourParams, PairPath, PairRule};
 use super::params::{AugmentParams, MethodParams, Param, ParamGuard, check_magnitude};
 use super::{Augmenter, FittedAugmenter, MethodKind};
-use crate::data::Dataset;
+use crate::data::Subset;
 use crate::error::{Error, Result};
 use crate::seed::Rng;
 
@@ -129,7 +129,7 @@ impl Augmenter for ExtrapolateValidParams {
         MethodKind::Extrapolate
     }
 
-    fn fit(&self, train: &Dataset, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
+    fn fit(&self, train: &Subset<'_>, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
         let rule = Away {
             lambda: self.lambda,
             path: self.path,
@@ -137,7 +137,7 @@ impl Augmenter for ExtrapolateValidParams {
         neighbour_methods::fit(rule, &self.neighbours, train, classes)
     }
 
-    fn check_input(&self, train: &Dataset, unit_norm: bool) -> Result<()> {
+    fn check_input(&self, train: &Subset<'_>, unit_norm: bool) -> Result<()> {
         match self.path {
             PairPath::Chord => Ok(()),
             PairPath::Sphere => neighbour_methods::check_sphere_input(self.kind(), train, unit_norm),

@@ -11,7 +11,7 @@ use rand_distr::StandardNormal;
 use super::class_fit::{ClassFit, PerClass};
 use super::params::{AugmentParams, MethodParams, Param, ParamGuard, check_magnitude};
 use super::{Augmenter, FitNote, FittedAugmenter, MethodKind, Provenance, Synthetic, check_finite};
-use crate::data::Dataset;
+use crate::data::Subset;
 use crate::error::{Error, Result};
 use crate::seed::Rng;
 
@@ -105,14 +105,14 @@ impl Augmenter for GaussianNoiseValidParams {
         MethodKind::GaussianNoise
     }
 
-    fn fit(&self, train: &Dataset, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
+    fn fit(&self, train: &Subset<'_>, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
         let fit = |_: u32, rows: &[usize]| -> Result<ClassFit<ClassSpread>> {
             if rows.len() < 2 {
                 return Ok(ClassFit::Skip(
                     "only one training row, so its spread is undefined".into(),
                 ));
             }
-            let x = train.x.select(Axis(0), rows);
+            let x = train.x.select(rows);
             let sigma = mean_sd(&x);
             if sigma == 0.0 {
                 return Ok(ClassFit::Skip(

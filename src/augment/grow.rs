@@ -5,7 +5,7 @@ use ndarray::{Array2, Axis, concatenate};
 use rayon::prelude::*;
 
 use super::{Augmenter, FitNote, Plan, Provenance, Synthetic};
-use crate::data::{Dataset, SoftLabel, SoftLabels};
+use crate::data::{Dataset, SoftLabel, SoftLabels, Subset};
 use crate::error::{Error, Result};
 use crate::seed;
 
@@ -37,6 +37,19 @@ pub struct Grown {
 /// any number of threads. A class the fit skipped contributes no rows (its note says why).
 pub fn grow(
     train: &Dataset,
+    method: &dyn Augmenter,
+    plan: &Plan,
+    unit_norm: bool,
+    seed: u64,
+    stream: &[u64],
+) -> Result<Grown> {
+    grow_subset(&Subset::of(train), method, plan, unit_norm, seed, stream)
+}
+
+/// [`grow`] on rows of a dataset taken by index (a fold's training rows), read in place:
+/// provenance indices are positions in `train`.
+pub fn grow_subset(
+    train: &Subset<'_>,
     method: &dyn Augmenter,
     plan: &Plan,
     unit_norm: bool,

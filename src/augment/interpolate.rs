@@ -7,7 +7,7 @@
 use super::neighbour_methods::{self, NeighbourParams, PairPath, Segment};
 use super::params::{AugmentParams, MethodParams, Param, ParamGuard};
 use super::{Augmenter, FittedAugmenter, MethodKind};
-use crate::data::Dataset;
+use crate::data::Subset;
 use crate::error::{Error, Result};
 
 /// Unchecked interpolation parameters; [`ParamGuard::check`] gives the valid ones.
@@ -71,12 +71,12 @@ impl Augmenter for InterpolateValidParams {
         MethodKind::Interpolate
     }
 
-    fn fit(&self, train: &Dataset, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
+    fn fit(&self, train: &Subset<'_>, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
         let rule = Segment(MethodKind::Interpolate, self.path);
         neighbour_methods::fit(rule, &self.neighbours, train, classes)
     }
 
-    fn check_input(&self, train: &Dataset, unit_norm: bool) -> Result<()> {
+    fn check_input(&self, train: &Subset<'_>, unit_norm: bool) -> Result<()> {
         match self.path {
             PairPath::Chord => Ok(()),
             PairPath::Sphere => neighbour_methods::check_sphere_input(self.kind(), train, unit_norm),

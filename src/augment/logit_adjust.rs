@@ -8,7 +8,7 @@
 use super::none::NoRows;
 use super::params::{AugmentParams, MethodParams, Param, ParamGuard};
 use super::{Augmenter, FittedAugmenter, MethodKind};
-use crate::data::Dataset;
+use crate::data::Subset;
 use crate::error::{Error, Result};
 
 /// τ when none is given (Menon et al. 2021 use τ = 1).
@@ -83,7 +83,7 @@ impl Augmenter for LogitAdjustValidParams {
     }
 
     /// No rows: the shift is applied to the probe's scores.
-    fn fit(&self, train: &Dataset, _classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
+    fn fit(&self, train: &Subset<'_>, _classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
         Ok(Box::new(NoRows { dims: train.dims() }))
     }
 }

@@ -18,7 +18,7 @@ use rand_distr::{Beta, Distribution};
 use super::class_fit::{ClassFit, PerClass};
 use super::params::{AugmentParams, MethodParams, Param, ParamGuard};
 use super::{Augmenter, FitNote, FittedAugmenter, MethodKind, Provenance, Synthetic, check_finite};
-use crate::data::Dataset;
+use crate::data::Subset;
 use crate::error::{Error, Result};
 use crate::seed::Rng;
 
@@ -104,7 +104,7 @@ impl Augmenter for MixValidParams {
         MethodKind::Mix
     }
 
-    fn fit(&self, train: &Dataset, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
+    fn fit(&self, train: &Subset<'_>, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
         let n = train.n_rows();
         let fit = |_: u32, rows: &[usize]| -> Result<ClassFit<Vec<usize>>> {
             if rows.len() == n {
@@ -128,8 +128,8 @@ impl Augmenter for MixValidParams {
         // Partners may be any training row, so the fitted method keeps the training rows.
         Ok(Box::new(FittedMix {
             per_class,
-            x: train.x.clone(),
-            labels: train.labels.clone(),
+            x: train.x.to_owned(),
+            labels: train.labels.to_vec(),
             beta,
         }))
     }

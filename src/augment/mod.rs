@@ -12,9 +12,9 @@ mod plan;
 mod stream;
 mod unit_norm;
 
-pub use assemble::{assemble, grow_dataset};
+pub use assemble::{assemble, assemble_owned, grow_dataset};
 pub use calibrated::{lender_bytes, parse_tukey};
-pub use grow::{Grown, describe_notes, grow};
+pub use grow::{Grown, describe_notes, grow, grow_subset};
 pub use mix::partner_bytes;
 pub use neighbour_methods::{NeighbourParams, PairPath};
 pub use params::{AugmentParams, MethodParams, Param, ParamGuard};
@@ -30,7 +30,7 @@ use std::str::FromStr;
 use ndarray::Array2;
 use serde::Serialize;
 
-use crate::data::Dataset;
+use crate::data::Subset;
 use crate::error::{Error, Result};
 use crate::seed::Rng;
 
@@ -209,11 +209,11 @@ pub trait Augmenter: Send + Sync {
     /// The method this configures, for naming its rows and its results.
     fn kind(&self) -> MethodKind;
     /// Fit on the real rows of `train`, for the classes listed in `classes` only.
-    fn fit(&self, train: &Dataset, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>>;
+    fn fit(&self, train: &Subset<'_>, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>>;
     /// Refuse `train` before fitting when the method's rule does not hold for it given whether
     /// synthetic rows will be renormalised (`unit_norm`): the sphere path needs unit-norm rows
     /// or renormalisation. Most methods accept any rows.
-    fn check_input(&self, _train: &Dataset, _unit_norm: bool) -> Result<()> {
+    fn check_input(&self, _train: &Subset<'_>, _unit_norm: bool) -> Result<()> {
         Ok(())
     }
 }

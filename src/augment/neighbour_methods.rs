@@ -10,14 +10,14 @@
 use std::fmt;
 use std::str::FromStr;
 
-use ndarray::{Array2, ArrayView1, ArrayViewMut1, Axis};
+use ndarray::{Array2, ArrayView1, ArrayViewMut1};
 use rand::Rng as _;
 use serde::Serialize;
 
 use super::class_fit::{ClassFit, PerClass};
 use super::params::{AugmentParams, Param};
 use super::{FitNote, FittedAugmenter, MethodKind, Provenance, Synthetic, check_finite};
-use crate::data::Dataset;
+use crate::data::Subset;
 use crate::error::{Error, Result};
 use crate::neighbors::{IndexKind, Knn, Metric, knn_within_with};
 use crate::seed::Rng;
@@ -185,11 +185,15 @@ impl FromStr for PairPath {
 /// Refuse the sphere path on rows that are not unit-norm, unless synthetic rows are
 /// renormalised (`unit_norm`): the great circle is a path between directions, and a row of
 /// another length would come back with norm 1, silently unlike the real rows beside it.
-pub(super) fn check_sphere_input(kind: MethodKind, train: &Dataset, unit_norm: bool) -> Result<()> {
+pub(super) fn check_sphere_input(
+    kind: MethodKind,
+    train: &Subset<'_>,
+    unit_norm: bool,
+) -> Result<()> {
     if unit_norm {
         return Ok(());
     }
-    match crate::data::first_not_unit_norm(train.view()) {
+    match crate::data::first_not_unit_norm(train.x) {
         None => Ok(()),
         Some((row, norm)) => Err(Error::param(
             Param::Path.name(),
@@ -253,7 +257,7 @@ pub(super) enum Bases {
 pub(super) fn fit<R: PairRule>(
     rule: R,
     params: &NeighbourParams,
-    train: &Dataset,
+    train: &Subset<'_>,
     classes: &[u32],
 ) -> Result<Box<dyn FittedAugmenter>> {
     fit_with_bases(rule, params, train, classes, |_, _| {
@@ -266,7 +270,7 @@ pub(super) fn fit<R: PairRule>(
 pub(super) fn fit_with_bases<R, B>(
     rule: R,
     params: &NeighbourParams,
-    train: &Dataset,
+    train: &Subset<'_>,
     classes: &[u32],
     bases: B,
 ) -> Result<Box<dyn FittedAugmenter>>
@@ -382,7 +386,7 @@ impl ClassNeighbours {
     /// Neighbour lists for the class rows `rows` of `train`. A one-row class has no
     /// neighbour and is skipped; K is reduced to `rows - 1` when the class is that small.
     fn fit(
-        train: &Dataset,
+        train: &Subset<'_>,
         class: u32,
         rows: &[usize],
         k: usize,
@@ -400,7 +404,7 @@ impl ClassNeighbours {
             .then_some(FitNote::Clamped { class, k: used })
             .into_iter()
             .collect();
-        let x = train.x.select(Axis(0), rows);
+        let x = train.x.select(rows);
         let knn = knn_within_with(index, x.view(), used, metric);
         if knn.k == 0 || knn.n_queries() != m {
             return Ok(ClassFit::Skip(

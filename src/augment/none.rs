@@ -5,7 +5,7 @@ use ndarray::Array2;
 
 use super::params::{AugmentParams, MethodParams, Param, ParamGuard};
 use super::{Augmenter, FitNote, FittedAugmenter, MethodKind, Synthetic};
-use crate::data::Dataset;
+use crate::data::Subset;
 use crate::error::{Error, Result};
 use crate::seed::Rng;
 
@@ -43,7 +43,7 @@ impl Augmenter for NoneValidParams {
         MethodKind::None
     }
 
-    fn fit(&self, train: &Dataset, _classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
+    fn fit(&self, train: &Subset<'_>, _classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
         Ok(Box::new(NoRows { dims: train.dims() }))
     }
 }

@@ -5,14 +5,14 @@
 //! magnitude² · V_k diag(s²) V_kᵀ: the class covariance restricted to its main directions, so
 //! the noise moves rows along the class and not across it.
 
-use ndarray::{Array2, Axis};
+use ndarray::Array2;
 use rand::Rng as _;
 use rand_distr::StandardNormal;
 
 use super::class_fit::{ClassFit, PerClass};
 use super::params::{AugmentParams, MethodParams, Param, ParamGuard, check_magnitude};
 use super::{Augmenter, FitNote, FittedAugmenter, MethodKind, Provenance, Synthetic, check_finite};
-use crate::data::Dataset;
+use crate::data::Subset;
 use crate::error::{Error, Result};
 use crate::pca::Pca;
 use crate::seed::Rng;
@@ -102,13 +102,13 @@ impl MethodParams for PrincipalNoiseParams {
 }
 
 impl PrincipalNoiseValidParams {
-    fn fit_class(&self, train: &Dataset, rows: &[usize]) -> Result<ClassFit<ClassDirections>> {
+    fn fit_class(&self, train: &Subset<'_>, rows: &[usize]) -> Result<ClassFit<ClassDirections>> {
         if rows.len() < 2 {
             return Ok(ClassFit::Skip(
                 "only one training row, so no principal directions".into(),
             ));
         }
-        let x = train.x.select(Axis(0), rows);
+        let x = train.x.select(rows);
         let pca = Pca::fit(x.view())?;
         let k = pca
             .components_for(self.variance_kept)
@@ -151,7 +151,7 @@ impl Augmenter for PrincipalNoiseValidParams {
         MethodKind::PrincipalNoise
     }
 
-    fn fit(&self, train: &Dataset, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
+    fn fit(&self, train: &Subset<'_>, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
         let per_class = PerClass::fit(self.kind(), train, classes, self.strict, |_, rows| {
             self.fit_class(train, rows)
         })?;

@@ -8,7 +8,7 @@
 use super::none::NoRows;
 use super::params::{AugmentParams, MethodParams, Param, ParamGuard};
 use super::{Augmenter, FittedAugmenter, MethodKind};
-use crate::data::Dataset;
+use crate::data::Subset;
 use crate::error::{Error, Result};
 
 /// `reweight` has no parameters of its own, so its check always passes.
@@ -46,7 +46,7 @@ impl Augmenter for ReweightValidParams {
     }
 
     /// No rows: the weights are applied by the probes.
-    fn fit(&self, train: &Dataset, _classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
+    fn fit(&self, train: &Subset<'_>, _classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
         Ok(Box::new(NoRows { dims: train.dims() }))
     }
 }

@@ -25,7 +25,7 @@ use rand::seq::SliceRandom;
 
 use super::params::{AugmentParams, Param, ParamGuard};
 use super::{FitNote, FittedAugmenter, MethodKind, Target, UnitNorm, plan_for};
-use crate::data::Dataset;
+use crate::data::{Dataset, Subset};
 use crate::error::{Error, Result};
 use crate::seed;
 
@@ -653,7 +653,7 @@ fn fit(
     epoch: usize,
 ) -> Result<Box<dyn FittedAugmenter>> {
     let augmenter = super::build(params.method, &params.augment_at(epoch))?;
-    augmenter.fit(data, classes)
+    augmenter.fit(&Subset::of(data), classes)
 }
 
 /// The iterator of [`Stream::batches`]; it stops after the first error.

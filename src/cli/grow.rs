@@ -7,8 +7,8 @@ use serde::Serialize;
 
 use super::args::{InputArgs, MethodArgs, flag_text, method_help, parse_method, parse_size};
 use embloom::augment::{
-    AugmentParams, MethodKind, Plan, Target, UnitNorm, assemble, describe_notes, grow_dataset,
-    plan_for,
+    AugmentParams, MethodKind, Plan, Target, UnitNorm, assemble_owned, describe_notes,
+    grow_dataset, plan_for,
 };
 use embloom::error::Result;
 use embloom::io::{self, ReadOptions};
@@ -243,14 +243,12 @@ pub fn execute(opts: &GrowOptions) -> Result<GrowSummary> {
         opts.unit_norm,
         opts.seed,
     )?;
-    let set = assemble(ds, &grown, opts.method)?;
-    io::write_carrying(&opts.output, &set, opts.force, loaded.carried.as_ref())?;
     let counts = ds.class_counts();
     let mut added = vec![0usize; ds.n_classes()];
     for &l in &grown.labels {
         added[l as usize] += 1;
     }
-    Ok(GrowSummary {
+    let summary = GrowSummary {
         input: opts.input.display().to_string(),
         output: opts.output.display().to_string(),
         method: opts.method.name().into(),
@@ -283,5 +281,12 @@ pub fn execute(opts: &GrowOptions) -> Result<GrowSummary> {
                     .map(|w| flag_text(w)),
             )
             .collect(),
-    })
+    };
+    // The input is handed over so the synthetic rows extend its matrix in place: the real
+    // rows are held once, not again in a stacked copy.
+    let carried = loaded.carried;
+    let set = assemble_owned(loaded.dataset, &grown, opts.method)?;
+    drop(grown);
+    io::write_carrying(&opts.output, &set, opts.force, carried.as_ref())?;
+    Ok(summary)
 }

@@ -6,14 +6,18 @@
 mod inspection;
 mod labels;
 mod row_index;
+mod rows;
 mod soft_label;
 mod stats;
+mod subset;
 
 pub use inspection::{ClassCount, Inspection};
 pub use labels::{RawLabels, encode_labels};
 pub use row_index::RowIndex;
+pub use rows::Rows;
 pub use soft_label::{SoftLabel, SoftLabels, after_hard, append_soft};
 pub use stats::{DatasetStats, NonFinite, UNIT_NORM_TOL, first_not_unit_norm, is_unit_norm};
+pub use subset::Subset;
 
 use ndarray::{Array2, ArrayView2, Axis};
 
@@ -128,11 +132,7 @@ impl Dataset {
 
     /// Row count per class index.
     pub fn class_counts(&self) -> Vec<usize> {
-        let mut counts = vec![0usize; self.classes.len()];
-        for &l in &self.labels {
-            counts[l as usize] += 1;
-        }
-        counts
+        Subset::of(self).class_counts()
     }
 
     /// Indices of the rows of class `c`, in row order.
@@ -144,14 +144,7 @@ impl Dataset {
     /// the labels (fitting many classes would otherwise scan them once per class). Every
     /// asked-for class has an entry, empty when it has no rows.
     pub fn rows_by_class(&self, classes: &[u32]) -> std::collections::BTreeMap<u32, Vec<usize>> {
-        let mut rows: std::collections::BTreeMap<u32, Vec<usize>> =
-            classes.iter().map(|&c| (c, Vec::new())).collect();
-        for (i, l) in self.labels.iter().enumerate() {
-            if let Some(r) = rows.get_mut(l) {
-                r.push(i);
-            }
-        }
-        rows
+        Subset::of(self).rows_by_class(classes)
     }
 
     /// Class index of a class name.

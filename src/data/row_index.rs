@@ -5,19 +5,23 @@
 use std::collections::HashMap;
 use std::hash::Hasher;
 
-use ndarray::{ArrayView1, ArrayView2};
+use ndarray::ArrayView1;
+
+use super::Rows;
 
 /// The rows of a matrix, indexed for exact (bitwise) lookup.
 pub struct RowIndex<'a> {
-    x: ArrayView2<'a, f32>,
+    x: Rows<'a>,
     by_print: HashMap<u64, Vec<usize>>,
 }
 
 impl<'a> RowIndex<'a> {
     /// Indexes every row of `x` by a fingerprint of its bits (one pass).
-    pub fn new(x: ArrayView2<'a, f32>) -> Self {
+    /// `x` may be picked rows of a larger matrix ([`Rows`]); they are indexed in place.
+    pub fn new(x: impl Into<Rows<'a>>) -> Self {
+        let x = x.into();
         let mut by_print: HashMap<u64, Vec<usize>> = HashMap::with_capacity(x.nrows());
-        for (i, r) in x.rows().into_iter().enumerate() {
+        for (i, r) in x.iter().enumerate() {
             by_print.entry(fingerprint(r)).or_default().push(i);
         }
         RowIndex { x, by_print }

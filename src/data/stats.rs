@@ -98,8 +98,8 @@ pub fn is_unit_norm(x: ndarray::ArrayView2<f32>) -> bool {
 
 /// The first row of `x` whose euclidean norm is not 1 within [`UNIT_NORM_TOL`], with that
 /// norm (taken in f64), for an error that names the row.
-pub fn first_not_unit_norm(x: ndarray::ArrayView2<f32>) -> Option<(usize, f64)> {
-    x.rows().into_iter().enumerate().find_map(|(i, r)| {
+pub fn first_not_unit_norm<'a>(x: impl Into<super::Rows<'a>>) -> Option<(usize, f64)> {
+    x.into().iter().enumerate().find_map(|(i, r)| {
         let n = r
             .iter()
             .map(|&v| f64::from(v) * f64::from(v))

@@ -9,6 +9,7 @@
 use ndarray::{ArrayView2, Axis};
 use serde::{Deserialize, Serialize};
 
+use crate::data::Rows;
 use crate::neighbors::{Knn, Metric, knn, knn_within};
 
 /// The neighbourhood size of PRDC (Naeem et al. 2020 recommend k = 5).
@@ -50,7 +51,7 @@ pub struct ClassDiagnostics {
 /// A fold's real training rows with each row's nearest other real training row. It depends
 /// on the fold only, so it is built once and shared by every method's diagnostics.
 pub struct TrainingRows<'a> {
-    x: ArrayView2<'a, f32>,
+    x: Rows<'a>,
     y: &'a [u32],
     pub(crate) metric: Metric,
     /// Per training row, its nearest other training row and the distance; `None` for rows
@@ -60,31 +61,27 @@ pub struct TrainingRows<'a> {
 
 impl<'a> TrainingRows<'a> {
     /// Rows of `x` pair with `y` (extra rows on either side are ignored).
-    pub fn new(x: ArrayView2<'a, f32>, y: &'a [u32], metric: Metric) -> Self {
-        Self::build(x, y, metric, None)
+    pub fn new(x: impl Into<Rows<'a>>, y: &'a [u32], metric: Metric) -> Self {
+        Self::build(x.into(), y, metric, None)
     }
 
     /// [`TrainingRows::new`] with the nearest neighbours found only for the rows of
     /// `classes`, the only ones [`class_diagnostics`] reads for those classes. A fold grows a
     /// few classes, so this searches their rows against the base instead of every row: the
     /// full search is as large as the k-NN probe's own.
+    /// `x` may be a fold's rows picked from the input matrix ([`Rows`]).
     pub fn for_classes(
-        x: ArrayView2<'a, f32>,
+        x: impl Into<Rows<'a>>,
         y: &'a [u32],
         metric: Metric,
         classes: &[u32],
     ) -> Self {
-        Self::build(x, y, metric, Some(classes))
+        Self::build(x.into(), y, metric, Some(classes))
     }
 
-    fn build(
-        x: ArrayView2<'a, f32>,
-        y: &'a [u32],
-        metric: Metric,
-        classes: Option<&[u32]>,
-    ) -> Self {
+    fn build(x: Rows<'a>, y: &'a [u32], metric: Metric, classes: Option<&[u32]>) -> Self {
         let n = x.nrows().min(y.len());
-        let x = x.slice_move(ndarray::s![..n, ..]);
+        let x = x.first(n);
         let y = &y[..n];
         let rows: Vec<usize> = match classes {
             None => (0..n).collect(),
@@ -107,7 +104,7 @@ impl<'a> TrainingRows<'a> {
             // Each row's two nearest rows of the whole set, itself among them unless two
             // exact copies with lower indices come first: the first that is not the row
             // itself is what `knn_within` gives (same exact keys, same tie order).
-            let nn = knn(x.select(Axis(0), &rows).view(), x, 2, metric);
+            let nn = knn(x.select(&rows).view(), x, 2, metric);
             for (q, &i) in rows.iter().enumerate() {
                 let (idx, dist) = nn.row(q);
                 nearest[i] = idx
@@ -129,20 +126,21 @@ impl<'a> TrainingRows<'a> {
 /// Diagnostics for each class in `classes` (in that order), with the training rows' metric.
 /// Rows of `*_x` pair with `*_y`. With `train` from [`TrainingRows::for_classes`], `classes`
 /// must be among the classes given there (others get no real-row figures).
-pub fn class_diagnostics(
+pub fn class_diagnostics<'t>(
     train: &TrainingRows,
     synth_x: ArrayView2<f32>,
     synth_y: &[u32],
-    test_x: ArrayView2<f32>,
+    test_x: impl Into<Rows<'t>>,
     test_y: &[u32],
     classes: &[u32],
 ) -> Vec<ClassDiagnostics> {
+    let test_x = test_x.into();
     let (train_x, train_y, metric) = (train.x, train.y, train.metric);
     let n_train = train_y.len();
     let n_synth = synth_x.nrows().min(synth_y.len());
     let n_test = test_x.nrows().min(test_y.len());
     let synth_x = synth_x.slice(ndarray::s![..n_synth, ..]);
-    let test_x = test_x.slice(ndarray::s![..n_test, ..]);
+    let test_x = test_x.first(n_test);
 
     // Nearest real training row of every synthetic row (one search, shared by all classes);
     // the nearest other real training row of every real row comes with `train`.
@@ -193,7 +191,7 @@ pub fn class_diagnostics(
             );
 
             let prdc = prdc(
-                test_x.select(Axis(0), test_rows).view(),
+                test_x.select(test_rows).view(),
                 synth_x.select(Axis(0), synth_rows).view(),
                 metric,
             );

@@ -358,35 +358,18 @@ fn to_c_order(values: Values, shape: &[usize]) -> Values {
     }
 }
 
-/// Element payloads embloom writes.
+/// Element payloads of the small per-row columns (the matrix is streamed, see `npz::write`).
 pub enum Payload<'a> {
-    /// IEEE half bits.
-    F16(&'a [u16]),
     F32(&'a [f32]),
-    F64(&'a [f64]),
     I64(&'a [i64]),
     Text(&'a [String]),
 }
 
 /// A version 1.0 `.npy` image (version 2.0 when the header would not fit 65535 bytes).
 pub fn encode(shape: &[usize], payload: Payload<'_>) -> Vec<u8> {
-    let (descr, body): (String, Vec<u8>) = match payload {
-        Payload::F16(v) => (
-            "<f2".into(),
-            v.iter().flat_map(|x| x.to_le_bytes()).collect(),
-        ),
-        Payload::F64(v) => (
-            "<f8".into(),
-            v.iter().flat_map(|x| x.to_le_bytes()).collect(),
-        ),
-        Payload::F32(v) => (
-            "<f4".into(),
-            v.iter().flat_map(|x| x.to_le_bytes()).collect(),
-        ),
-        Payload::I64(v) => (
-            "<i8".into(),
-            v.iter().flat_map(|x| x.to_le_bytes()).collect(),
-        ),
+    let (descr, body): (&str, Vec<u8>) = match payload {
+        Payload::F32(v) => ("<f4", v.iter().flat_map(|x| x.to_le_bytes()).collect()),
+        Payload::I64(v) => ("<i8", v.iter().flat_map(|x| x.to_le_bytes()).collect()),
         Payload::Text(v) => {
             let width = v
                 .iter()
@@ -400,9 +383,20 @@ pub fn encode(shape: &[usize], payload: Payload<'_>) -> Vec<u8> {
                 body.extend(s.chars().flat_map(|c| u32::from(c).to_le_bytes()));
                 body.extend(std::iter::repeat_n(0u8, (width - n) * 4));
             }
-            (format!("<U{width}"), body)
+            let mut out = header(shape, &format!("<U{width}"));
+            out.extend_from_slice(&body);
+            return out;
         }
     };
+    let mut out = header(shape, descr);
+    out.extend_from_slice(&body);
+    out
+}
+
+/// The magic, version, header length and header of a `.npy` image whose data (of numpy type
+/// `descr`, C order) follows it: what [`encode`] puts before the values, for a writer that
+/// streams a large matrix's values itself instead of building the whole image.
+pub fn header(shape: &[usize], descr: &str) -> Vec<u8> {
     let dims = match shape {
         [n] => format!("({n},)"),
         _ => format!(
@@ -422,7 +416,7 @@ pub fn encode(shape: &[usize], payload: Payload<'_>) -> Vec<u8> {
     let total = padded(prefix);
     header.push_str(&" ".repeat(total - prefix - header.len() - 1));
     header.push('\n');
-    let mut out = Vec::with_capacity(total + body.len());
+    let mut out = Vec::with_capacity(total);
     out.extend_from_slice(MAGIC);
     if v1 {
         out.extend_from_slice(&[1, 0]);
@@ -432,7 +426,6 @@ pub fn encode(shape: &[usize], payload: Payload<'_>) -> Vec<u8> {
         out.extend_from_slice(&(header.len() as u32).to_le_bytes());
     }
     out.extend_from_slice(header.as_bytes());
-    out.extend_from_slice(&body);
     out
 }
 

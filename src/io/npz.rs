@@ -120,15 +120,7 @@ pub fn write(out: File, export: &Export<'_>) -> std::io::Result<()> {
     let opts = SimpleFileOptions::default()
         .compression_method(zip::CompressionMethod::Stored)
         .large_file(true);
-    let shape = export.stored.shape();
-    let embeddings = match &export.stored {
-        Matrix::F16(x) => npy::encode(&shape, Payload::F16(&Matrix::f16_bits(x))),
-        Matrix::BF16(x) | Matrix::F32(x) => {
-            npy::encode(&shape, Payload::F32(&x.iter().copied().collect::<Vec<_>>()))
-        }
-        Matrix::F64(x) => npy::encode(&shape, Payload::F64(&x.iter().copied().collect::<Vec<_>>())),
-    };
-    let mut members = vec![("embeddings".to_string(), embeddings)];
+    let mut members = Vec::new();
     for (name, col) in &export.columns {
         let n = col.len();
         let img = match col {
@@ -139,6 +131,8 @@ pub fn write(out: File, export: &Export<'_>) -> std::io::Result<()> {
         members.push((name.to_string(), img));
     }
     let mut body = || -> std::io::Result<()> {
+        zip.start_file("embeddings.npy", opts).map_err(zip_io)?;
+        write_matrix(&mut zip, &export.stored)?;
         for (name, img) in &members {
             zip.start_file(format!("{name}.npy"), opts)
                 .map_err(zip_io)?;
@@ -153,6 +147,44 @@ pub fn write(out: File, export: &Export<'_>) -> std::io::Result<()> {
         return Err(e);
     }
     zip.finish().map_err(zip_io)?.flush()
+}
+
+/// The embeddings as one `.npy` image, a row at a time: the matrix is the largest thing a
+/// grown set holds, so its bytes are never gathered into a second full copy.
+fn write_matrix(out: &mut impl Write, stored: &Matrix<'_>) -> std::io::Result<()> {
+    let shape = stored.shape();
+    let descr = match stored {
+        Matrix::F16(_) => "<f2",
+        Matrix::BF16(_) | Matrix::F32(_) => "<f4",
+        Matrix::F64(_) => "<f8",
+    };
+    out.write_all(&npy::header(&shape, descr))?;
+    let mut bytes = Vec::new();
+    let mut put = |row_bytes: &mut dyn Iterator<Item = u8>| {
+        bytes.clear();
+        bytes.extend(row_bytes);
+        out.write_all(&bytes)
+    };
+    match stored {
+        Matrix::F16(x) => {
+            for row in x.rows() {
+                put(&mut row
+                    .iter()
+                    .flat_map(|&v| half::f16::from_f32(v).to_bits().to_le_bytes()))?;
+            }
+        }
+        Matrix::BF16(x) | Matrix::F32(x) => {
+            for row in x.rows() {
+                put(&mut row.iter().flat_map(|v| v.to_le_bytes()))?;
+            }
+        }
+        Matrix::F64(x) => {
+            for row in x.rows() {
+                put(&mut row.iter().flat_map(|v| v.to_le_bytes()))?;
+            }
+        }
+    }
+    Ok(())
 }
 
 /// The OS error inside a zip error as it is, so a message says "No space left on device"

@@ -19,6 +19,7 @@ use rayon::prelude::*;
 
 use super::topk::TopK;
 use super::{Knn, Metric, distance};
+use crate::data::Rows;
 use crate::linalg;
 
 /// Query rows per parallel work item (and per matrix product). Each block of queries
@@ -39,8 +40,11 @@ fn margin(k: usize) -> usize {
 /// rows the matrix product uses, and their norms.
 pub(crate) struct Prepared<'a> {
     metric: Metric,
-    /// The rows as given, in standard (row-major contiguous) layout.
+    /// The matrix the rows come from, in standard (row-major contiguous) layout.
     orig: CowArray<'a, f32, Ix2>,
+    /// Which rows of `orig` are the rows searched, in order (`None`: all of them), so a
+    /// fold's rows are searched in place in the input matrix.
+    pick: Option<&'a [usize]>,
     /// How the matrix product sees a row. Euclidean: shifted by a common centre (distances
     /// are translation invariant, and centring shrinks the norms whose cancellation costs
     /// f32 accuracy). Cosine: scaled to unit length (zero rows stay zero).
@@ -58,9 +62,9 @@ pub(crate) struct Prepared<'a> {
 }
 
 /// Column means of `x` in f64: the common shift for a euclidean search over `x`.
-pub(crate) fn centre(x: ArrayView2<'_, f32>) -> Vec<f64> {
+pub(crate) fn centre(x: Rows<'_>) -> Vec<f64> {
     let mut acc = vec![0f64; x.ncols()];
-    for r in x.outer_iter() {
+    for r in x.iter() {
         for (a, &v) in acc.iter_mut().zip(r.iter()) {
             *a += f64::from(v);
         }
@@ -73,15 +77,18 @@ pub(crate) fn centre(x: ArrayView2<'_, f32>) -> Vec<f64> {
 impl<'a> Prepared<'a> {
     /// `shift` (euclidean only, ignored for cosine) must be the same for the queries and the
     /// base of one search.
-    pub(crate) fn new(x: ArrayView2<'a, f32>, metric: Metric, shift: &[f64]) -> Prepared<'a> {
-        let orig = if x.is_standard_layout() {
-            CowArray::from(x)
-        } else {
-            CowArray::from(x.as_standard_layout().into_owned())
+    pub(crate) fn new(x: Rows<'a>, metric: Metric, shift: &[f64]) -> Prepared<'a> {
+        let (orig, pick) = match x.source() {
+            (m, pick) if m.is_standard_layout() => (CowArray::from(m), pick),
+            _ => (CowArray::from(x.to_owned()), None),
         };
-        let norms: Vec<f64> = orig
-            .outer_iter()
-            .map(|r| distance::norm(r.as_slice().unwrap_or(&[])))
+        let n = pick.map_or(orig.nrows(), <[usize]>::len);
+        let d = orig.ncols();
+        let norms: Vec<f64> = (0..n)
+            .map(|i| {
+                let r = pick.map_or(i, |p| p[i]);
+                distance::norm(orig.as_slice().map_or(&[][..], |s| &s[r * d..(r + 1) * d]))
+            })
             .collect();
         let inv_norms: Vec<f64> = match metric {
             Metric::Euclidean => Vec::new(),
@@ -93,6 +100,7 @@ impl<'a> Prepared<'a> {
         let mut p = Prepared {
             metric,
             orig,
+            pick,
             shift: match metric {
                 Metric::Euclidean => shift.to_vec(),
                 Metric::Cosine => Vec::new(),
@@ -135,7 +143,7 @@ impl<'a> Prepared<'a> {
     }
 
     pub(crate) fn nrows(&self) -> usize {
-        self.orig.nrows()
+        self.pick.map_or(self.orig.nrows(), <[usize]>::len)
     }
 
     pub(crate) fn ncols(&self) -> usize {
@@ -178,6 +186,7 @@ impl<'a> Prepared<'a> {
     /// Original row `i` as a slice.
     pub(crate) fn row(&self, i: usize) -> &[f32] {
         let d = self.ncols();
+        let i = self.pick.map_or(i, |p| p[i]);
         // Standard layout: row i occupies [i·d, (i+1)·d) of the contiguous buffer.
         self.orig
             .as_slice()

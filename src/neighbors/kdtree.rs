@@ -53,13 +53,13 @@ pub(crate) fn search<'a>(
 ) -> Knn {
     let within = base.is_none();
     let base_rows = base.unwrap_or(queries);
-    let shift = exact::centre(base_rows);
-    let q = Prepared::new(queries, metric, &shift);
+    let shift = exact::centre(base_rows.into());
+    let q = Prepared::new(queries.into(), metric, &shift);
     let b_owned;
     let b = if within {
         &q
     } else {
-        b_owned = Prepared::new(base_rows, metric, &shift);
+        b_owned = Prepared::new(base_rows.into(), metric, &shift);
         &b_owned
     };
     let candidates = k * CANDIDATES_PER_NEIGHBOUR + usize::from(within);

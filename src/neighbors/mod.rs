@@ -13,7 +13,9 @@ pub mod magnitude;
 mod recall;
 mod topk;
 
-use ndarray::ArrayView2;
+use ndarray::{ArrayView2, CowArray, Ix2};
+
+use crate::data::Rows;
 use serde::{Deserialize, Serialize};
 
 use crate::error::{Error, Result};
@@ -78,6 +80,7 @@ pub enum IndexKind {
 }
 
 /// k nearest rows of `base` for every row of `queries`; `k` is clamped to `base.nrows()`.
+/// Either side is a matrix view or [`Rows`] of one (a fold's rows, searched in place).
 ///
 /// Distances: cosine 1 − cos (a zero row has similarity 0 with everything), euclidean
 /// ‖a − b‖. Rows with non-finite values rank last. `k = 0` or an empty base gives
@@ -86,7 +89,12 @@ pub enum IndexKind {
 /// # Panics
 /// If `queries` and `base` have different column counts (a caller bug: both come from one
 /// dataset). Use [`try_knn`] where the widths are not already known to agree.
-pub fn knn(queries: ArrayView2<f32>, base: ArrayView2<f32>, k: usize, metric: Metric) -> Knn {
+pub fn knn<'q, 'b>(
+    queries: impl Into<Rows<'q>>,
+    base: impl Into<Rows<'b>>,
+    k: usize,
+    metric: Metric,
+) -> Knn {
     knn_with(IndexKind::Exact, queries, base, k, metric)
 }
 
@@ -97,7 +105,7 @@ pub fn try_knn(
     k: usize,
     metric: Metric,
 ) -> Result<Knn> {
-    check_widths(queries, base)?;
+    check_widths(queries.into(), base.into())?;
     Ok(knn(queries, base, k, metric))
 }
 
@@ -105,7 +113,7 @@ pub fn try_knn(
 /// `k` is clamped to `x.nrows() - 1`.
 ///
 /// "Other" is by position: an exact duplicate of a row is a neighbour at distance 0.
-pub fn knn_within(x: ArrayView2<f32>, k: usize, metric: Metric) -> Knn {
+pub fn knn_within<'a>(x: impl Into<Rows<'a>>, k: usize, metric: Metric) -> Knn {
     knn_within_with(IndexKind::Exact, x, k, metric)
 }
 
@@ -113,13 +121,14 @@ pub fn knn_within(x: ArrayView2<f32>, k: usize, metric: Metric) -> Knn {
 ///
 /// # Panics
 /// As [`knn`], if the column counts differ.
-pub fn knn_with(
+pub fn knn_with<'q, 'b>(
     kind: IndexKind,
-    queries: ArrayView2<f32>,
-    base: ArrayView2<f32>,
+    queries: impl Into<Rows<'q>>,
+    base: impl Into<Rows<'b>>,
     k: usize,
     metric: Metric,
 ) -> Knn {
+    let (queries, base) = (queries.into(), base.into());
     if let Err(e) = check_widths(queries, base) {
         panic!("{e}");
     }
@@ -134,12 +143,22 @@ pub fn knn_with(
             let b = exact::Prepared::new(base, metric, &shift);
             exact::search(&q, &b, k, false)
         }
-        IndexKind::KdTree => kdtree::search(queries.reborrow(), Some(base.reborrow()), k, metric),
+        // The approximate mode projects every row anyway; picked rows are gathered first.
+        IndexKind::KdTree => {
+            let (q, b) = (contiguous(queries), contiguous(base));
+            kdtree::search(q.view(), Some(b.view()), k, metric)
+        }
     }
 }
 
 /// [`knn_within`] by the chosen index.
-pub fn knn_within_with(kind: IndexKind, x: ArrayView2<f32>, k: usize, metric: Metric) -> Knn {
+pub fn knn_within_with<'a>(
+    kind: IndexKind,
+    x: impl Into<Rows<'a>>,
+    k: usize,
+    metric: Metric,
+) -> Knn {
+    let x = x.into();
     let k = k.min(x.nrows().saturating_sub(1));
     if k == 0 {
         return Knn::empty();
@@ -149,11 +168,19 @@ pub fn knn_within_with(kind: IndexKind, x: ArrayView2<f32>, k: usize, metric: Me
             let p = exact::Prepared::new(x, metric, &exact::centre(x));
             exact::search(&p, &p, k, true)
         }
-        IndexKind::KdTree => kdtree::search(x, None, k, metric),
+        IndexKind::KdTree => kdtree::search(contiguous(x).view(), None, k, metric),
     }
 }
 
-fn check_widths(queries: ArrayView2<f32>, base: ArrayView2<f32>) -> Result<()> {
+/// The rows as one matrix: borrowed when they already are one.
+fn contiguous(x: Rows<'_>) -> CowArray<'_, f32, Ix2> {
+    match x.as_view() {
+        Some(v) => CowArray::from(v),
+        None => CowArray::from(x.to_owned()),
+    }
+}
+
+fn check_widths(queries: Rows<'_>, base: Rows<'_>) -> Result<()> {
     if queries.ncols() == base.ncols() {
         return Ok(());
     }

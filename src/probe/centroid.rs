@@ -5,7 +5,7 @@
 //! rows. It reads an augmentation differently from k-NN: a class's synthetic rows move its
 //! mean, so the probe measures whether they shift the class's centre, not its local density.
 
-use ndarray::ArrayView2;
+use crate::data::Rows;
 
 use crate::error::{Error, Result};
 use crate::neighbors::Metric;
@@ -43,13 +43,16 @@ impl CentroidProbe {
     ///
     /// Fails when the parts and the test rows differ in width, when `train_y` does not give
     /// one label per stacked row, or when a label is not below `n_classes`.
-    pub fn predict(
+    /// Either side may be picked rows of a larger matrix ([`Rows`]): they are read in place.
+    pub fn predict<'a, 't, P: Copy + Into<Rows<'a>>>(
         &self,
-        parts: &[ArrayView2<f32>],
+        parts: &[P],
         train_y: &[u32],
         n_classes: usize,
-        test_x: ArrayView2<f32>,
+        test_x: impl Into<Rows<'t>>,
     ) -> Result<Vec<u32>> {
+        let parts: Vec<Rows<'a>> = parts.iter().map(|&p| p.into()).collect();
+        let test_x = test_x.into();
         let dims = test_x.ncols();
         if let Some(p) = parts.iter().find(|p| p.ncols() != dims) {
             return Err(Error::data(
@@ -80,10 +83,9 @@ impl CentroidProbe {
                 "give class indices below the number of classes",
             ));
         }
-        let centroids = self.centroids(parts, train_y, n_classes, dims);
+        let centroids = self.centroids(&parts, train_y, n_classes, dims);
         Ok(test_x
-            .rows()
-            .into_iter()
+            .iter()
             .map(|row| {
                 let x = self.prepare(row.iter().copied());
                 let mut best: Option<(usize, f64)> = None;
@@ -116,14 +118,14 @@ impl CentroidProbe {
     /// under the cosine metric.
     fn centroids(
         &self,
-        parts: &[ArrayView2<f32>],
+        parts: &[Rows<'_>],
         train_y: &[u32],
         n_classes: usize,
         dims: usize,
     ) -> Vec<Option<Vec<f64>>> {
         let mut sums = vec![vec![0.0f64; dims]; n_classes];
         let mut counts = vec![0usize; n_classes];
-        let rows = parts.iter().flat_map(|p| p.rows().into_iter());
+        let rows = parts.iter().flat_map(|p| p.iter());
         for (row, &c) in rows.zip(train_y) {
             let x = self.prepare(row.iter().copied());
             let c = c as usize;

@@ -17,7 +17,9 @@
 //! symmetric positive definite `P` leaves the optimum where it is).
 
 use ndarray::linalg::general_mat_mul;
-use ndarray::{Array2, ArrayView1, ArrayView2, s};
+use ndarray::{Array2, ArrayView1, s};
+
+use crate::data::Rows;
 use rayon::prelude::*;
 
 use crate::linalg;
@@ -38,7 +40,7 @@ impl FeaturePreconditioner {
     /// and the penalty `l2`. `None` when the moment matrix is not positive definite even after
     /// a small ridge (e.g. non-finite input); the fit then runs unpreconditioned.
     pub(crate) fn new(
-        parts: &[ArrayView2<f32>],
+        parts: &[Rows<'_>],
         mean: ArrayView1<f64>,
         scale: ArrayView1<f64>,
         l2: f64,
@@ -97,7 +99,7 @@ impl FeaturePreconditioner {
 }
 
 /// `Σᵢ (xᵢ − m)(xᵢ − m)ᵀ` and `Σᵢ (xᵢ − m)` over all rows, centred in f32.
-fn centred_moments(parts: &[ArrayView2<f32>], mean: ArrayView1<f64>) -> (Array2<f64>, Vec<f64>) {
+fn centred_moments(parts: &[Rows<'_>], mean: ArrayView1<f64>) -> (Array2<f64>, Vec<f64>) {
     let d = mean.len();
     let mean32: Vec<f32> = mean.iter().map(|&m| m as f32).collect();
     let blocks: Vec<(usize, usize, usize)> = parts
@@ -120,10 +122,7 @@ fn centred_moments(parts: &[ArrayView2<f32>], mean: ArrayView1<f64>) -> (Array2<
             for &(p, r0, r1) in group {
                 let m = r1 - r0;
                 let mut x = xc.slice_mut(s![..m, ..]);
-                for (mut dst, src) in x
-                    .outer_iter_mut()
-                    .zip(parts[p].slice(s![r0..r1, ..]).outer_iter())
-                {
+                for (mut dst, src) in x.outer_iter_mut().zip((r0..r1).map(|r| parts[p].row(r))) {
                     dst.iter_mut()
                         .zip(src.iter().zip(&mean32))
                         .for_each(|(o, (&v, &mj))| *o = v - mj);
@@ -215,7 +214,7 @@ mod tests {
         // entries; P v must solve A (P v) = v for each class's [W_k, b_k].
         let x = array![[1.0f32, 2.0], [3.0, 0.0]];
         let (m, s) = (ndarray::Array1::zeros(2), ndarray::Array1::ones(2));
-        let p = FeaturePreconditioner::new(&[x.view()], m.view(), s.view(), 0.5, 2).unwrap();
+        let p = FeaturePreconditioner::new(&[x.view().into()], m.view(), s.view(), 0.5, 2).unwrap();
         let a = array![[5.5, 1.0, 2.0], [1.0, 2.5, 1.0], [2.0, 1.0, 1.0]];
         // Packed [W (2 × 2), b (2)].
         let v = [1.0, -1.0, 0.5, 2.0, 0.25, -3.0];

@@ -4,7 +4,7 @@
 use ndarray::ArrayView2;
 use serde::{Deserialize, Serialize};
 
-use crate::data::SoftLabel;
+use crate::data::{Rows, SoftLabel};
 use crate::error::{Error, Result};
 use crate::neighbors::{self, Knn, Metric};
 
@@ -106,7 +106,7 @@ impl KnnProbe {
     }
 
     /// The standardiser fitted on `train_x` when `standardize` is on, `None` when off.
-    pub fn standardizer(&self, train_x: ArrayView2<f32>) -> Option<KnnStandardizer> {
+    pub fn standardizer<'a>(&self, train_x: impl Into<Rows<'a>>) -> Option<KnnStandardizer> {
         self.params
             .standardize
             .then(|| KnnStandardizer::fit(train_x))

@@ -5,9 +5,10 @@
 //! The statistics come from the training rows alone, so nothing about the held-out rows
 //! reaches the distance the probe uses.
 
-use ndarray::{Array1, Array2, ArrayView2};
+use ndarray::{Array1, Array2};
 
 use super::scaling;
+use crate::data::Rows;
 
 /// Column means and scales fitted on training rows, applied to training and test rows alike.
 #[derive(Debug, Clone, PartialEq)]
@@ -20,8 +21,8 @@ impl KnnStandardizer {
     /// Mean and population standard deviation of every column of `train` (in f64). A column
     /// whose standard deviation is zero up to rounding keeps scale 1 (centred, not scaled),
     /// so rounding noise is not blown up. With no rows the transform is the identity.
-    pub fn fit(train: ArrayView2<f32>) -> Self {
-        let (mean, scale) = scaling::fit_parts(&[train], true);
+    pub fn fit<'a>(train: impl Into<Rows<'a>>) -> Self {
+        let (mean, scale) = scaling::fit_parts(&[train.into()], true);
         KnnStandardizer { mean, scale }
     }
 
@@ -35,9 +36,17 @@ impl KnnStandardizer {
         &self.scale
     }
 
-    /// `(x − mean) / scale`, computed in f64 and stored as f32 (the neighbour search's type).
-    pub fn apply(&self, x: ArrayView2<f32>) -> Array2<f32> {
-        scaling::apply(x, self.mean.view(), self.scale.view()).mapv(|v| v as f32)
+    /// `(x − mean) / scale`, computed in f64 and stored as f32 (the neighbour search's type),
+    /// a row at a time: no f64 copy of the rows is made.
+    pub fn apply<'a>(&self, x: impl Into<Rows<'a>>) -> Array2<f32> {
+        let x = x.into();
+        let mut out = Array2::<f32>::zeros((x.nrows(), x.ncols()));
+        for (mut dst, src) in out.outer_iter_mut().zip(x.iter()) {
+            dst.iter_mut()
+                .zip(src.iter().zip(self.mean.iter().zip(&self.scale)))
+                .for_each(|(o, (&v, (m, s)))| *o = ((f64::from(v) - m) / s) as f32);
+        }
+        out
     }
 }
 

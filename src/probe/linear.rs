@@ -8,7 +8,7 @@ use super::lbfgs;
 use super::linear_model::LinearModel;
 use super::scaling;
 use super::softmax_loss::{Precision, SoftmaxLoss};
-use crate::data::SoftLabel;
+use crate::data::{Rows, SoftLabel};
 use crate::error::{Error, Result};
 
 /// The f32 phase of a fit stops at this multiple of the gradient tolerance (or at its first
@@ -200,6 +200,21 @@ impl LinearProbe {
         n_classes: usize,
         init: Option<&LinearModel>,
     ) -> Result<LinearModel> {
+        let parts: Vec<Rows<'_>> = parts.iter().map(|&p| p.into()).collect();
+        self.fit_rows_soft(&parts, y, soft, n_classes, init)
+    }
+
+    /// [`LinearProbe::fit_parts_soft`] on parts that may be picked rows of a larger matrix
+    /// (a fold's training rows inside the input): they are read where they are, a block at a
+    /// time, and the model equals a fit on the same rows copied out.
+    pub fn fit_rows_soft(
+        &self,
+        parts: &[Rows<'_>],
+        y: &[u32],
+        soft: &[Option<SoftLabel>],
+        n_classes: usize,
+        init: Option<&LinearModel>,
+    ) -> Result<LinearModel> {
         let Some(first) = parts.first() else {
             return Err(Error::data(
                 "the linear probe got no training rows",
@@ -306,7 +321,7 @@ impl LinearProbe {
 }
 
 /// Rejects inputs the loss cannot be evaluated on.
-fn check_inputs(parts: &[ArrayView2<f32>], y: &[u32], n_classes: usize) -> Result<()> {
+fn check_inputs(parts: &[Rows<'_>], y: &[u32], n_classes: usize) -> Result<()> {
     let rows: usize = parts.iter().map(|p| p.nrows()).sum();
     if rows != y.len() {
         return Err(Error::data(
@@ -328,7 +343,7 @@ fn check_inputs(parts: &[ArrayView2<f32>], y: &[u32], n_classes: usize) -> Resul
     }
     if let Some((i, _)) = parts
         .iter()
-        .flat_map(|p| p.rows())
+        .flat_map(|p| p.iter())
         .enumerate()
         .find(|(_, r)| r.iter().any(|v| !v.is_finite()))
     {

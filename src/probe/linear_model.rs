@@ -4,6 +4,7 @@ use ndarray::{Array1, Array2, ArrayView1, ArrayView2, Axis};
 
 use super::scaling;
 use super::softmax_loss::{log_softmax_in_place, lowest_argmax};
+use crate::data::Rows;
 
 /// Weights and biases in standardised coordinates, with the column transform they expect and
 /// a record of how the fit ended.
@@ -60,7 +61,8 @@ impl LinearModel {
     ///
     /// # Panics
     /// If `x.ncols() != self.dims()`: rows must come from the matrix the model was fitted on.
-    pub fn decision_function(&self, x: ArrayView2<f32>) -> Array2<f64> {
+    pub fn decision_function<'a>(&self, x: impl Into<Rows<'a>>) -> Array2<f64> {
+        let x = x.into();
         assert_eq!(
             x.ncols(),
             self.dims(),
@@ -76,7 +78,7 @@ impl LinearModel {
 
     /// Class probabilities (softmax of the scores, shifted by the row maximum so it never
     /// overflows), `n × C`, rows summing to 1.
-    pub fn predict_proba(&self, x: ArrayView2<f32>) -> Array2<f64> {
+    pub fn predict_proba<'a>(&self, x: impl Into<Rows<'a>>) -> Array2<f64> {
         let mut z = self.decision_function(x);
         for row in z.axis_iter_mut(Axis(0)) {
             let mut row = row;
@@ -87,7 +89,7 @@ impl LinearModel {
     }
 
     /// Most probable class per row (argmax of the scores; lowest class index on exact ties).
-    pub fn predict(&self, x: ArrayView2<f32>) -> Vec<u32> {
+    pub fn predict<'a>(&self, x: impl Into<Rows<'a>>) -> Vec<u32> {
         self.decision_function(x)
             .axis_iter(Axis(0))
             .map(lowest_argmax)

@@ -4,7 +4,9 @@
 //! `p(y | x) ∝ p(x | y) π_y`; removing `log π_y` makes the argmax the one of a balanced prior,
 //! which is what balanced accuracy rewards. The fit itself is unchanged.
 
-use ndarray::{Array2, ArrayView2, Axis};
+use ndarray::{Array2, Axis};
+
+use crate::data::Rows;
 
 use super::linear_model::LinearModel;
 use super::softmax_loss::{log_softmax_in_place, lowest_argmax};
@@ -46,7 +48,7 @@ impl LogitAdjustment {
     }
 
     /// The adjusted scores `W (x − mean)/scale + b − τ log π`, `n × C`.
-    pub fn scores(&self, model: &LinearModel, x: ArrayView2<f32>) -> Array2<f64> {
+    pub fn scores<'a>(&self, model: &LinearModel, x: impl Into<Rows<'a>>) -> Array2<f64> {
         let mut z = model.decision_function(x);
         for mut row in z.axis_iter_mut(Axis(0)) {
             row.iter_mut().zip(&self.shift).for_each(|(v, s)| *v += s);
@@ -55,7 +57,7 @@ impl LogitAdjustment {
     }
 
     /// The class of the largest adjusted score (lowest index on exact ties).
-    pub fn predict(&self, model: &LinearModel, x: ArrayView2<f32>) -> Vec<u32> {
+    pub fn predict<'a>(&self, model: &LinearModel, x: impl Into<Rows<'a>>) -> Vec<u32> {
         self.scores(model, x)
             .axis_iter(Axis(0))
             .map(lowest_argmax)
@@ -63,7 +65,7 @@ impl LogitAdjustment {
     }
 
     /// The softmax of the adjusted scores (what log loss and ECE are computed on).
-    pub fn predict_proba(&self, model: &LinearModel, x: ArrayView2<f32>) -> Array2<f64> {
+    pub fn predict_proba<'a>(&self, model: &LinearModel, x: impl Into<Rows<'a>>) -> Array2<f64> {
         let mut z = self.scores(model, x);
         for mut row in z.axis_iter_mut(Axis(0)) {
             log_softmax_in_place(row.view_mut());

@@ -24,7 +24,7 @@ use ndarray::{Array1, Array2, ArrayView1, ArrayView2, ArrayViewMut1, Axis, s};
 use rayon::prelude::*;
 
 use super::exp_f32::exp_shifted;
-use crate::data::SoftLabel;
+use crate::data::{Rows, SoftLabel};
 use crate::linalg;
 
 /// Rows standardised and multiplied at a time.
@@ -52,7 +52,7 @@ struct Block {
 ///
 /// Parameters are packed `[W row-major (C × d), b (C)]`.
 pub(crate) struct SoftmaxLoss<'a> {
-    parts: Vec<ArrayView2<'a, f32>>,
+    parts: Vec<Rows<'a>>,
     mean: ArrayView1<'a, f64>,
     scale: ArrayView1<'a, f64>,
     y: &'a [u32],
@@ -84,8 +84,8 @@ impl<'a> SoftmaxLoss<'a> {
     /// `scale` the column transform. `class_weight[c]` weighs every row of class c; the
     /// caller guarantees `y[i] < n_classes`, that the parts share one width equal to
     /// `mean.len()`, and that their row counts add up to `y.len()`.
-    pub(crate) fn new(
-        parts: &'a [ArrayView2<'_, f32>],
+    pub(crate) fn new<'p: 'a, P: Copy + Into<Rows<'p>>>(
+        parts: &[P],
         mean: ArrayView1<'a, f64>,
         scale: ArrayView1<'a, f64>,
         y: &'a [u32],
@@ -97,6 +97,7 @@ impl<'a> SoftmaxLoss<'a> {
         let coef = y.iter().map(|&c| class_weight[c as usize] / n).collect();
         let mut blocks = Vec::new();
         let mut first = 0;
+        let parts: Vec<Rows<'a>> = parts.iter().map(|&p| p.into().reborrow()).collect();
         for (p, part) in parts.iter().enumerate() {
             let mut r0 = 0;
             while r0 < part.nrows() {
@@ -118,7 +119,7 @@ impl<'a> SoftmaxLoss<'a> {
         let per = blocks.len().div_ceil(n_groups).max(1);
         let groups = blocks.chunks(per).map(<[Block]>::to_vec).collect();
         SoftmaxLoss {
-            parts: parts.iter().map(|p| p.view()).collect(),
+            parts,
             mean,
             scale,
             y,
@@ -220,9 +221,12 @@ impl<'a> SoftmaxLoss<'a> {
         let mut z_buf = Array2::<f64>::zeros((cap, c));
         for block in blocks {
             let m = block.rows.len();
-            let raw = self.parts[block.part].slice(s![block.rows.clone(), ..]);
+            let part = &self.parts[block.part];
             let mut xs = xs_buf.slice_mut(s![..m, ..]);
-            for (mut dst, src) in xs.outer_iter_mut().zip(raw.outer_iter()) {
+            for (mut dst, src) in xs
+                .outer_iter_mut()
+                .zip(block.rows.clone().map(|r| part.row(r)))
+            {
                 dst.iter_mut()
                     .zip(src.iter().zip(self.mean.iter().zip(self.scale)))
                     .for_each(|(o, (&v, (mj, sj)))| *o = (f64::from(v) - mj) / sj);
@@ -304,11 +308,14 @@ impl SoftmaxLoss<'_> {
         let mut e = vec![0.0f32; c];
         for block in blocks {
             let m = block.rows.len();
-            let raw = self.parts[block.part].slice(s![block.rows.clone(), ..]);
+            let part = &self.parts[block.part];
             // Centred in f32 (a subtraction per entry, cheap beside the products) so large
             // column means do not swamp the logits' rounding.
             let mut xc = xc_buf.slice_mut(s![..m, ..]);
-            for (mut dst, src) in xc.outer_iter_mut().zip(raw.outer_iter()) {
+            for (mut dst, src) in xc
+                .outer_iter_mut()
+                .zip(block.rows.clone().map(|r| part.row(r)))
+            {
                 dst.iter_mut()
                     .zip(src.iter().zip(&mean32))
                     .for_each(|(o, (&v, &mj))| *o = v - mj);

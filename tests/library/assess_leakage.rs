@@ -9,6 +9,7 @@ use embloom::augment::{
     self, AugmentParams, Augmenter, FitNote, FittedAugmenter, MethodKind, Provenance, Synthetic,
     Target,
 };
+use embloom::data::Subset;
 use embloom::eval::protocol::make_folds;
 use embloom::probe::KnnParams;
 use embloom::probe::LinearParams;
@@ -59,6 +60,22 @@ fn info(ds: &Dataset) -> InputInfo {
     InputInfo::in_memory("test", ds)
 }
 
+/// The rows a method was fitted on as a dataset of their own, each with the id of the input
+/// row it is (this file's ids are the row indices), so a test can name the rows a fold gave.
+fn as_dataset(train: &Subset<'_>) -> Dataset {
+    let mut ds = Dataset::new(
+        train.x.to_owned(),
+        train.labels.to_vec(),
+        train.classes.to_vec(),
+    );
+    ds.ids = Some(
+        (0..train.n_rows())
+            .map(|i| train.x.index(i).to_string())
+            .collect(),
+    );
+    ds
+}
+
 /// Records the ids of every training set it is fitted on, then behaves like interpolate.
 struct Spy {
     seen: Arc<Mutex<Vec<Vec<String>>>>,
@@ -69,8 +86,11 @@ impl Augmenter for Spy {
     fn kind(&self) -> MethodKind {
         MethodKind::Interpolate
     }
-    fn fit(&self, train: &Dataset, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
-        self.seen.lock().unwrap().push(train.ids.clone().unwrap());
+    fn fit(&self, train: &Subset<'_>, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
+        self.seen
+            .lock()
+            .unwrap()
+            .push(as_dataset(train).ids.unwrap());
         self.inner.fit(train, classes)
     }
 }
@@ -125,8 +145,8 @@ impl Augmenter for Leaky {
     fn kind(&self) -> MethodKind {
         MethodKind::Interpolate
     }
-    fn fit(&self, train: &Dataset, _classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
-        let train_ids = train.ids.clone().unwrap();
+    fn fit(&self, train: &Subset<'_>, _classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
+        let train_ids = as_dataset(train).ids.unwrap();
         let ids = self.all.ids.as_ref().unwrap();
         let rows = (0..self.all.n_rows())
             .filter(|&i| !train_ids.contains(&ids[i]))
@@ -198,9 +218,9 @@ impl Augmenter for DangerSpy {
     fn kind(&self) -> MethodKind {
         MethodKind::Borderline
     }
-    fn fit(&self, train: &Dataset, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
+    fn fit(&self, train: &Subset<'_>, classes: &[u32]) -> Result<Box<dyn FittedAugmenter>> {
         let mut fits = self.fits.lock().unwrap();
-        fits.push((train.clone(), Vec::new()));
+        fits.push((as_dataset(train), Vec::new()));
         Ok(Box::new(DangerSpyFit {
             fits: self.fits.clone(),
             slot: fits.len() - 1,

@@ -132,7 +132,7 @@ fn calibrated_refuses_tukey_on_negative_features_and_notes_missing_lenders() {
     let (mut ds, _) = fixture();
     ds.x[[7, 2]] = -0.5;
     let method = build(MethodKind::Calibrated, &params(Some(0.5))).unwrap();
-    match method.fit(&ds, &[3, 4]) {
+    match method.fit(&(&ds).into(), &[3, 4]) {
         Err(Error::Param { name, detail, .. }) => {
             assert_eq!(name, "tukey");
             assert!(
@@ -152,7 +152,7 @@ fn calibrated_refuses_tukey_on_negative_features_and_notes_missing_lenders() {
     };
     let fitted = build(MethodKind::Calibrated, &p)
         .unwrap()
-        .fit(&ds, &[3])
+        .fit(&(&ds).into(), &[3])
         .unwrap();
     assert!(
         matches!(&fitted.notes()[0], FitNote::Adjusted { class: 3, detail } if detail.contains("from 4 classes instead of 5"))
@@ -161,7 +161,7 @@ fn calibrated_refuses_tukey_on_negative_features_and_notes_missing_lenders() {
     let all: Vec<u32> = (0..5).collect();
     let fitted = build(MethodKind::Calibrated, &params(None))
         .unwrap()
-        .fit(&ds, &all)
+        .fit(&(&ds).into(), &all)
         .unwrap();
     assert_eq!(fitted.notes().len(), 5);
     assert!(
@@ -177,7 +177,7 @@ fn calibrated_refuses_tukey_on_negative_features_and_notes_missing_lenders() {
     assert!(
         build(MethodKind::Calibrated, &strict)
             .unwrap()
-            .fit(&ds, &all)
+            .fit(&(&ds).into(), &all)
             .is_err()
     );
     // Parameter checks.

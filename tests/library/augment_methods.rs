@@ -198,7 +198,7 @@ fn principal_noise_offsets_follow_the_kept_class_covariance() {
     };
     let fitted = build(MethodKind::PrincipalNoise, &p)
         .unwrap()
-        .fit(&ds, &[0])
+        .fit(&(&ds).into(), &[0])
         .unwrap();
     let n = 40_000;
     let s = fitted.sample(0, n, &mut seed::stream(9, &[1])).unwrap();
@@ -251,7 +251,7 @@ fn gaussian_noise_offsets_have_the_class_spread() {
     let magnitude = 0.8f32;
     let fitted = build(MethodKind::GaussianNoise, &params(5, Some(magnitude)))
         .unwrap()
-        .fit(&ds, &[1])
+        .fit(&(&ds).into(), &[1])
         .unwrap();
     let n = 40_000;
     let s = fitted.sample(1, n, &mut seed::stream(4, &[])).unwrap();
@@ -628,7 +628,7 @@ fn non_finite_rows_and_bad_requests_are_errors() {
     let ds = blobs(&[10, 10], 3, 10);
     let fitted = build(MethodKind::GaussianNoise, &AugmentParams::default())
         .unwrap()
-        .fit(&ds, &[0])
+        .fit(&(&ds).into(), &[0])
         .unwrap();
     // Sampling a class the method was not fitted on is refused.
     assert!(fitted.sample(1, 3, &mut seed::stream(1, &[])).is_err());

@@ -219,3 +219,42 @@ fn row_choosing_methods_are_deterministic_and_listed() {
         assert_eq!(a.x.nrows(), 30, "{kind}");
     }
 }
+
+/// `assemble_owned` extends the input's own matrix in place instead of stacking a copy; the
+/// set it gives is the one `assemble` gives, field by field, for an f32 and an f64 input
+/// (whose real rows keep their stored f64 values) with ids and folds.
+#[test]
+fn assemble_owned_equals_assemble() {
+    use embloom::augment::{assemble, assemble_owned};
+    use embloom::data::FloatType;
+    // common practice, no source: two ways to stack the same rows give the same set.
+    let values: Vec<f32> = (0..12).map(|i| i as f32 * 0.5 - 2.0).collect();
+    let labels = [0, 0, 0, 0, 0, 0, 0, 0, 1, 1, 1, 1];
+    for wide in [false, true] {
+        let mut ds = line(&values, &labels);
+        ds.ids = Some((0..12).map(|i| format!("r{i}")).collect());
+        ds.folds = Some((0..12).map(|i| i % 3).collect());
+        if wide {
+            ds.float_type = FloatType::F64;
+            ds.x_f64 = Some(ds.x.mapv(|v| f64::from(v) + 1e-9));
+        }
+        let method = build(MethodKind::Interpolate, &AugmentParams::default()).unwrap();
+        let plan = Plan::new(&ds.class_counts(), embloom::augment::Target::Largest, None);
+        let g = grow(&ds, method.as_ref(), &plan, false, 5, &[1]).unwrap();
+        assert_eq!(g.x.nrows(), 4);
+        let stacked = assemble(&ds, &g, MethodKind::Interpolate).unwrap();
+        let owned = assemble_owned(ds.clone(), &g, MethodKind::Interpolate).unwrap();
+        assert_eq!(owned.data.x, stacked.data.x);
+        assert_eq!(owned.data.x_f64, stacked.data.x_f64);
+        assert_eq!(owned.data.x_f64.is_some(), wide);
+        assert_eq!(owned.data.labels, stacked.data.labels);
+        assert_eq!(owned.data.ids, stacked.data.ids);
+        assert_eq!(owned.data.folds, stacked.data.folds);
+        assert_eq!(owned.data.source_row, stacked.data.source_row);
+        assert_eq!(owned.origin, stacked.origin);
+        assert_eq!(owned.parent, stacked.parent);
+        assert_eq!(owned.partner, stacked.partner);
+        assert_eq!(owned.weight, stacked.weight);
+        assert_eq!(owned.data.x.nrows(), 16);
+    }
+}

@@ -40,4 +40,5 @@ mod probe_centroid;
 mod probe_digits;
 mod probe_knn_standardize;
 mod probe_reweight;
+mod probe_rows;
 mod report_render;

@@ -313,3 +313,44 @@ fn kdtree_small_base_is_exact_and_recall_definition() {
     };
     assert_eq!(recall_at_k(&a, &b), 0.25);
 }
+
+/// A fold's rows searched in place through their index lists (`data::Rows`) give exactly
+/// what a search over the same rows copied out gives: same neighbours (as positions among the
+/// picked rows), same distances, same tie order, for queries, base and the within-set search.
+#[test]
+fn picked_rows_search_as_their_copies() {
+    use embloom::data::Rows;
+    // common practice, no source: indexing the rows must not change any result.
+    let x = normal(300, 24, 41);
+    // Every third row is a test row; the rest, in order, train. Two exact copies make ties.
+    let mut x = x;
+    let copy = x.row(5).to_owned();
+    x.row_mut(7).assign(&copy);
+    let test: Vec<usize> = (0..300).filter(|i| i % 3 == 0).collect();
+    let train: Vec<usize> = (0..300).filter(|i| i % 3 != 0).collect();
+    let (test_x, train_x) = (x.select(Axis(0), &test), x.select(Axis(0), &train));
+    for metric in [Metric::Cosine, Metric::Euclidean] {
+        let picked = knn(
+            Rows::picked(x.view(), &test),
+            Rows::picked(x.view(), &train),
+            7,
+            metric,
+        );
+        assert_eq!(picked, knn(test_x.view(), train_x.view(), 7, metric));
+        assert_eq!(
+            knn_within(Rows::picked(x.view(), &train), 5, metric),
+            knn_within(train_x.view(), 5, metric)
+        );
+        let tree = knn_with(
+            IndexKind::KdTree,
+            Rows::picked(x.view(), &test),
+            Rows::picked(x.view(), &train),
+            7,
+            metric,
+        );
+        assert_eq!(
+            tree,
+            knn_with(IndexKind::KdTree, test_x.view(), train_x.view(), 7, metric)
+        );
+    }
+}
