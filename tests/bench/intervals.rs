@@ -131,17 +131,8 @@ fn jackknife_main(datasets: usize, groups: usize, train_sets: usize) {
             let t0 = Instant::now();
             let (trials, noise, v) =
                 sim::jackknife_trial(&w, truth, datasets, folds, repeats, groups, 23);
-            println!(
-                "{} {folds}x{repeats} truth {:+.4} V {:.3e} aug-noise {:.3e} ({:.0} s)",
-                w.name,
-                truth.delta,
-                v,
-                noise,
-                t0.elapsed().as_secs_f64()
-            );
-            for t in trials {
-                println!("  {}", t.line());
-            }
+            let extra = format!("V {v:.3e} aug-noise {noise:.3e}");
+            print_trials(&w, (folds, repeats), truth.delta, &extra, t0, &trials);
         }
     }
 }
@@ -154,15 +145,7 @@ fn wholeboot_main(datasets: usize, boots: usize, train_sets: usize) {
         for (folds, repeats) in [(5, 1), (5, 3)] {
             let t0 = Instant::now();
             let trials = sim::bootstrap_trial(&w, truth, datasets, folds, repeats, boots, 23);
-            println!(
-                "{} {folds}x{repeats} truth {:+.4} ({:.0} s)",
-                w.name,
-                truth.delta,
-                t0.elapsed().as_secs_f64()
-            );
-            for t in trials {
-                println!("  {}", t.line());
-            }
+            print_trials(&w, (folds, repeats), truth.delta, "", t0, &trials);
         }
     }
 }
@@ -175,17 +158,28 @@ fn keyed_main(datasets: usize, groups: usize, train_sets: usize) {
             let t0 = Instant::now();
             let (trials, noise, v) =
                 keyed::jackknife(&w, truth, datasets, folds, repeats, groups, 23);
-            println!(
-                "{} {folds}x{repeats} truth {:+.4} V {:.3e} aug-noise {:.3e} ({:.0} s)",
-                w.name,
-                truth.delta,
-                v,
-                noise,
-                t0.elapsed().as_secs_f64()
-            );
-            for t in trials {
-                println!("  {}", t.line());
-            }
+            let extra = format!("V {v:.3e} aug-noise {noise:.3e}");
+            print_trials(&w, (folds, repeats), truth.delta, &extra, t0, &trials);
         }
+    }
+}
+
+/// One experiment's lines for a configuration and protocol: the truth, `extra`, the time
+/// taken, then each trial's tally.
+fn print_trials(
+    w: &sim::World,
+    (folds, repeats): (usize, usize),
+    truth: f64,
+    extra: &str,
+    t0: Instant,
+    trials: &[sim::Trial],
+) {
+    println!(
+        "{} {folds}x{repeats} truth {truth:+.4} {extra} ({:.0} s)",
+        w.name,
+        t0.elapsed().as_secs_f64()
+    );
+    for t in trials {
+        println!("  {}", t.line());
     }
 }

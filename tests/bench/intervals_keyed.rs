@@ -247,24 +247,12 @@ pub fn jackknife(
             (full, other, reps)
         })
         .collect();
-    let mut t_t = Trial {
-        name: "keyed jackknife t(G-1)".into(),
-        ..Default::default()
-    };
-    let mut t_z = Trial {
-        name: "keyed jackknife z".into(),
-        ..Default::default()
-    };
-    let mut t_d = Trial {
-        name: "two-salt jackknife z".into(),
-        ..Default::default()
-    };
+    let mut t_t = Trial::named("keyed jackknife t(G-1)");
+    let mut t_z = Trial::named("keyed jackknife z");
+    let mut t_d = Trial::named("two-salt jackknife z");
     let g = groups as f64;
     let tq = embloom::eval::t_quantile(0.975, g - 1.0);
-    let jack = |v: &[f64]| {
-        let m = v.iter().sum::<f64>() / g;
-        (g - 1.0) / g * v.iter().map(|r| (r - m).powi(2)).sum::<f64>()
-    };
+    let jack = sim::jackknife_variance;
     let mut noise = 0.0;
     for (full, other, pairs) in &per {
         noise += (full - other).powi(2) / 2.0;

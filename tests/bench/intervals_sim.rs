@@ -473,6 +473,12 @@ pub struct Trial {
 }
 
 impl Trial {
+    pub fn named(name: &str) -> Trial {
+        Trial {
+            name: name.into(),
+            ..Default::default()
+        }
+    }
     pub fn add(&mut self, est: f64, lo: f64, hi: f64, truth: f64) {
         self.n += 1;
         self.covered += usize::from(lo <= truth && truth <= hi);
@@ -495,6 +501,13 @@ impl Trial {
             self.width_sum / self.n as f64 / (2.0 * 1.96 * sd)
         )
     }
+}
+
+/// The delete-a-group jackknife variance (G − 1)/G · Σ(θ₍g₎ − θ̄)² of G replicates.
+pub fn jackknife_variance(reps: &[f64]) -> f64 {
+    let g = reps.len() as f64;
+    let m = reps.iter().sum::<f64>() / g;
+    (g - 1.0) / g * reps.iter().map(|r| (r - m).powi(2)).sum::<f64>()
 }
 
 /// Experiment: delete-a-group jackknife of the whole cross-validated estimate, and the
@@ -536,26 +549,15 @@ pub fn jackknife_trial(
             (full, other, se, reps)
         })
         .collect();
-    let mut t_t = Trial {
-        name: "jackknife t(G-1)".into(),
-        ..Default::default()
-    };
-    let mut t_z = Trial {
-        name: "jackknife z".into(),
-        ..Default::default()
-    };
-    let mut t_max = Trial {
-        name: "max(clt, jackknife) z".into(),
-        ..Default::default()
-    };
+    let mut t_t = Trial::named("jackknife t(G-1)");
+    let mut t_z = Trial::named("jackknife z");
+    let mut t_max = Trial::named("max(clt, jackknife) z");
     let g = groups as f64;
     let tq = embloom::eval::t_quantile(0.975, g - 1.0);
     let mut noise = 0.0;
     for (full, other, se, reps) in &per {
         noise += (full - other).powi(2) / 2.0;
-        let m = reps.iter().sum::<f64>() / g;
-        let vj = (g - 1.0) / g * reps.iter().map(|r| (r - m).powi(2)).sum::<f64>();
-        let sj = vj.sqrt();
+        let sj = jackknife_variance(reps).sqrt();
         t_t.add(*full, full - tq * sj, full + tq * sj, truth.delta);
         t_z.add(*full, full - 1.96 * sj, full + 1.96 * sj, truth.delta);
         let s = sj.max(*se);
@@ -620,22 +622,10 @@ pub fn bootstrap_trial(
             (full, reps)
         })
         .collect();
-    let mut t_z = Trial {
-        name: "whole-set bootstrap z".into(),
-        ..Default::default()
-    };
-    let mut t_p = Trial {
-        name: "whole-set bootstrap pct".into(),
-        ..Default::default()
-    };
-    let mut t_h = Trial {
-        name: "clt + boot excess z".into(),
-        ..Default::default()
-    };
-    let mut t_c = Trial {
-        name: "cv-clt z".into(),
-        ..Default::default()
-    };
+    let mut t_z = Trial::named("whole-set bootstrap z");
+    let mut t_p = Trial::named("whole-set bootstrap pct");
+    let mut t_h = Trial::named("clt + boot excess z");
+    let mut t_c = Trial::named("cv-clt z");
     for ((full, se), pairs) in &per {
         let reps: Vec<f64> = pairs.iter().map(|p| p.0).collect();
         let b = reps.len() as f64;
