@@ -202,13 +202,7 @@ pub fn truth(w: &World, folds: usize, train_sets: usize, test_per_class: usize) 
             figure(w, &hits, &grown)
         })
         .collect();
-    let n = deltas.len() as f64;
-    let mean = deltas.iter().sum::<f64>() / n;
-    let var = deltas.iter().map(|d| (d - mean).powi(2)).sum::<f64>() / (n - 1.0);
-    Truth {
-        delta: mean,
-        mc_se: (var / n).sqrt(),
-    }
+    Truth::of(&deltas)
 }
 
 /// The jackknife with keyed growth over `datasets` data sets: its tallies, the augmentation
@@ -268,8 +262,7 @@ pub fn jackknife(
         let sd = ((jack(&avg) - jack(&dif) / 4.0).max(0.0) + sigma2).sqrt();
         t_d.add(*full, full - 1.96 * sd, full + 1.96 * sd, truth.delta);
     }
-    let n = per.len() as f64;
-    let m = per.iter().map(|p| p.0).sum::<f64>() / n;
-    let v = per.iter().map(|p| (p.0 - m).powi(2)).sum::<f64>() / (n - 1.0);
-    (vec![t_t, t_z, t_d], noise / n, v)
+    let fulls: Vec<f64> = per.iter().map(|p| p.0).collect();
+    let v = sim::mean_var(&fulls).1;
+    (vec![t_t, t_z, t_d], noise / fulls.len() as f64, v)
 }

@@ -131,6 +131,27 @@ pub struct Truth {
     pub mc_se: f64,
 }
 
+/// The arithmetic mean and the sample variance (n − 1 in the denominator) of `v`.
+pub fn mean_var(v: &[f64]) -> (f64, f64) {
+    let n = v.len() as f64;
+    let m = v.iter().sum::<f64>() / n;
+    (
+        m,
+        v.iter().map(|e| (e - m).powi(2)).sum::<f64>() / (n - 1.0),
+    )
+}
+
+impl Truth {
+    /// The mean of Monte Carlo draws of the difference, with its standard error.
+    pub fn of(deltas: &[f64]) -> Truth {
+        let (delta, var) = mean_var(deltas);
+        Truth {
+            delta,
+            mc_se: (var / deltas.len() as f64).sqrt(),
+        }
+    }
+}
+
 /// Truth by Monte Carlo over `train_sets` fresh training sets of the size a fold of `folds`
 /// trains on, each scored on `test_per_class` fresh rows per class.
 pub fn truth(
@@ -190,13 +211,7 @@ pub fn truth(
             score(&x, &y) - score(&train.x, &train.labels)
         })
         .collect();
-    let n = deltas.len() as f64;
-    let mean = deltas.iter().sum::<f64>() / n;
-    let var = deltas.iter().map(|d| (d - mean).powi(2)).sum::<f64>() / (n - 1.0);
-    Truth {
-        delta: mean,
-        mc_se: (var / n).sqrt(),
-    }
+    Truth::of(&deltas)
 }
 
 /// What one interval kind did over the simulated data sets.
@@ -224,9 +239,7 @@ impl Tally {
     }
     /// Mean printed width ÷ (2 · 1.96 · spread of the point estimates across data sets).
     pub fn width_ratio(&self) -> f64 {
-        let n = self.estimates.len() as f64;
-        let m = self.estimates.iter().sum::<f64>() / n;
-        let sd = (self.estimates.iter().map(|e| (e - m).powi(2)).sum::<f64>() / (n - 1.0)).sqrt();
+        let sd = mean_var(&self.estimates).1.sqrt();
         (self.width_sum / self.with_interval.max(1) as f64) / (2.0 * 1.96 * sd)
     }
     /// Mean point estimate minus the truth.
@@ -487,9 +500,7 @@ impl Trial {
         self.estimates.push(est);
     }
     pub fn line(&self) -> String {
-        let n = self.estimates.len() as f64;
-        let m = self.estimates.iter().sum::<f64>() / n;
-        let sd = (self.estimates.iter().map(|e| (e - m).powi(2)).sum::<f64>() / (n - 1.0)).sqrt();
+        let sd = mean_var(&self.estimates).1.sqrt();
         let (lo, hi) = wilson(self.covered, self.n);
         format!(
             "{:<28} cov {:.3} [{:.3},{:.3}] rej {:.3} width {:.2}",
@@ -564,10 +575,8 @@ pub fn jackknife_trial(
         t_max.add(*full, full - 1.96 * s, full + 1.96 * s, truth.delta);
     }
     let fulls: Vec<f64> = per.iter().map(|p| p.0).collect();
-    let n = fulls.len() as f64;
-    let m = fulls.iter().sum::<f64>() / n;
-    let v = fulls.iter().map(|e| (e - m).powi(2)).sum::<f64>() / (n - 1.0);
-    (vec![t_t, t_z, t_max], noise / n, v)
+    let v = mean_var(&fulls).1;
+    (vec![t_t, t_z, t_max], noise / fulls.len() as f64, v)
 }
 
 /// Experiment: the whole cross-validated estimate recomputed on `boots` class-stratified
@@ -630,13 +639,11 @@ pub fn bootstrap_trial(
         let reps: Vec<f64> = pairs.iter().map(|p| p.0).collect();
         let b = reps.len() as f64;
         let row_b = pairs.iter().map(|p| p.1 * p.1).sum::<f64>() / b;
-        let mb = reps.iter().sum::<f64>() / b;
-        let vb = reps.iter().map(|r| (r - mb).powi(2)).sum::<f64>() / (b - 1.0);
+        let vb = mean_var(&reps).1;
         let sh = (se * se + (vb - row_b).max(0.0)).sqrt();
         t_h.add(*full, full - 1.96 * sh, full + 1.96 * sh, truth.delta);
         t_c.add(*full, full - 1.96 * se, full + 1.96 * se, truth.delta);
-        let m = reps.iter().sum::<f64>() / b;
-        let sd = (reps.iter().map(|r| (r - m).powi(2)).sum::<f64>() / (b - 1.0)).sqrt();
+        let sd = vb.sqrt();
         t_z.add(*full, full - 1.96 * sd, full + 1.96 * sd, truth.delta);
         let mut sorted = reps.clone();
         sorted.sort_by(f64::total_cmp);
