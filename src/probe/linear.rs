@@ -12,18 +12,20 @@ use crate::data::{Rows, SoftLabel};
 use crate::error::{Error, Result};
 
 /// The f32 phase of a fit stops at this multiple of the gradient tolerance (or at its first
-/// failed line search); the f64 phase checks the exact gradient and takes it the rest of the
-/// way. At 1 the f32 phase does nearly all the work: its gradient is summed block by block in
-/// f64 and is accurate well below the default tolerance, so the f64 phase usually needs one
-/// evaluation to confirm convergence. Measured in tests/bench/linear_compare.sh: a factor of
-/// 100 left 43 of 58 evaluations to f64 on the benchmark set (each costs about two f32 ones).
+/// failed line search); the stepped phase (f64 logits moved by f32 products of each step, see
+/// softmax_loss.rs) takes it the rest of the way with values accurate enough for the line
+/// search, and only a tolerance near the stepped gradient's rounding needs a last phase in
+/// f64 throughout. At 1 the f32 phase does nearly all the work: its gradient is summed block
+/// by block in f64 and is accurate well below the default tolerance. Measured in
+/// tests/bench/linear_compare.sh: a factor of 100 left 43 of 58 evaluations to f64 on the
+/// benchmark set (each then cost about two f32 ones).
 const FAST_PHASE_TOL_FACTOR: f64 = 1.0;
 
-/// The f64 phase runs on until the largest exact gradient component is at most this multiple
-/// of the gradient tolerance. The fit is reported converged by the user's rule (largest
-/// component ≤ `tol`); stopping a little past it costs a few f64 iterations and reaches a
-/// final objective at or below scikit-learn's lbfgs at the same `tol`, which otherwise stops
-/// where its own path happens to cross `tol`, often slightly lower than ours.
+/// The phases after the f32 one run on until the largest gradient component is at most this
+/// multiple of the gradient tolerance. The fit is reported converged by the user's rule
+/// (largest component ≤ `tol`); stopping a little past it costs a few iterations and reaches
+/// a final objective at or below scikit-learn's lbfgs at the same `tol`, which otherwise
+/// stops where its own path happens to cross `tol`, often slightly lower than ours.
 const EXACT_PHASE_TOL_FACTOR: f64 = 0.5;
 
 /// How training rows are weighted in the loss.
@@ -277,33 +279,67 @@ impl LinearProbe {
             evaluations += 1;
             loss.evaluate(t, g, p)
         };
-        let fast = minimise(
-            &mut |t, g| eval(t, g, Precision::Fast),
+        let tol = self.params.tol;
+        let max_iter = self.params.max_iter;
+        let mut phase = |precision: Precision,
+                         x0: Vec<f64>,
+                         memory: lbfgs::Memory,
+                         tol_factor: f64,
+                         used: usize,
+                         stop_on_failed_search: bool| {
+            minimise(
+                &mut |t, g| eval(t, g, precision),
+                x0,
+                memory,
+                &lbfgs::Options {
+                    memory: 10,
+                    tol: tol_factor * tol,
+                    max_iter: max_iter - used,
+                    stop_on_failed_search,
+                },
+            )
+        };
+        let fast = phase(
+            Precision::Fast,
             theta0,
             lbfgs::Memory::default(),
-            &lbfgs::Options {
-                memory: 10,
-                tol: FAST_PHASE_TOL_FACTOR * self.params.tol,
-                max_iter: self.params.max_iter,
-                stop_on_failed_search: true,
-            },
+            FAST_PHASE_TOL_FACTOR,
+            0,
+            true,
         );
         // The f32 phase's correction pairs carry over: its gradients are close to the exact
-        // ones, so the f64 phase continues with their curvature instead of restarting.
-        let mut out = minimise(
-            &mut |t, g| eval(t, g, Precision::Exact),
+        // ones, so the phases after it continue with their curvature instead of restarting.
+        // The stepped phase's first evaluation computes the logits in f64, so the stopping
+        // rule is never judged on f32 logits.
+        let mut out = phase(
+            Precision::Stepped,
             fast.x,
             fast.memory,
-            &lbfgs::Options {
-                memory: 10,
-                tol: EXACT_PHASE_TOL_FACTOR * self.params.tol,
-                max_iter: self.params.max_iter - fast.iterations,
-                stop_on_failed_search: false,
-            },
+            EXACT_PHASE_TOL_FACTOR,
+            fast.iterations,
+            true,
         );
         out.iterations += fast.iterations;
-        out.converged = out.grad_max <= self.params.tol;
-        let exact_evaluations = out.evaluations;
+        let mut exact_evaluations = out.evaluations;
+        if out.grad_max > EXACT_PHASE_TOL_FACTOR * tol && out.iterations < max_iter {
+            // A tolerance near the rounding of the stepped gradient's f32 products (a fit to
+            // 1e-8 in this file's tests needs it): finish in f64 throughout.
+            let used = out.iterations;
+            let rest = phase(
+                Precision::Exact,
+                out.x,
+                out.memory,
+                EXACT_PHASE_TOL_FACTOR,
+                used,
+                false,
+            );
+            exact_evaluations += rest.evaluations;
+            out = lbfgs::Outcome {
+                iterations: used + rest.iterations,
+                ..rest
+            };
+        }
+        out.converged = out.grad_max <= tol;
         drop(loss);
         let (w, b) = out.x.split_at(c * d);
         Ok(LinearModel {

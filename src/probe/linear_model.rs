@@ -20,7 +20,7 @@ pub struct LinearModel {
     pub iterations: usize,
     /// Objective-and-gradient evaluations in all (line-search trials included).
     pub evaluations: usize,
-    /// Of those, the evaluations in full f64 that finish the fit.
+    /// Of those, the evaluations on f64 logits that finish the fit (after the f32 phase).
     pub exact_evaluations: usize,
     /// The objective (weighted mean cross-entropy + λ/2‖W‖²) at the returned weights.
     pub final_loss: f64,

@@ -9,23 +9,37 @@
 //!   matrix products with no standardised copy; each block's products are added into f64
 //!   sums. The softmax runs in f32 with a vectorised exp (`exp_f32.rs`); the per-row loss, the
 //!   bias gradient and the block sums are accumulated in f64. This is where the time goes.
-//! - [`Precision::Exact`] standardises each block into f64 and multiplies in f64. It is slower
-//!   and is used only to finish a fit once f32 rounding stops the line search from making
-//!   progress.
+//! - [`Precision::Exact`] standardises each block into f64 and multiplies in f64. It is about
+//!   three times slower; the tests and the benchmark use it as the reference.
+//! - [`Precision::Stepped`] finishes a fit once f32 rounding of the whole logits stops the
+//!   line search: it keeps the f64 logits of the last point it saw and adds the change
+//!   `ΔW xᵢ + Δb`, an f32 product whose rounding is relative to the step, so near the optimum
+//!   the value is accurate far below the line search's resolution at the cost of a `Fast`
+//!   evaluation plus an f64 softmax. Only its first evaluation multiplies in f64.
 //!
 //! Blocks are gathered into a fixed number of groups that depends only on the problem's shape;
 //! groups run in parallel (rayon) and their partial sums are added in group order, so the value
 //! and gradient are bit-identical for any thread count.
 
+use std::cell::RefCell;
 use std::ops::Range;
+use std::sync::{Mutex, PoisonError};
 
 use ndarray::linalg::general_mat_mul;
-use ndarray::{Array1, Array2, ArrayView1, ArrayView2, ArrayViewMut1, Axis, s};
+use ndarray::{Array1, Array2, ArrayView1, ArrayView2, ArrayViewMut1, ArrayViewMut2, Axis, s};
 use rayon::prelude::*;
 
 use super::exp_f32::exp_shifted;
 use crate::data::{Rows, SoftLabel};
 use crate::linalg;
+
+/// A stepped evaluation whose change moved the logits by more than this (`Σᵢ cᵢ maxₖ |Δzᵢₖ|`,
+/// the row-weighted mean of each row's largest change) recomputes them in f64: the f32
+/// product's rounding, about 1e-7 of each change, stays in the kept logits and in the value,
+/// so only short steps may add to them. Its signs differ from row to row and mostly cancel
+/// in the value: on the benchmark set the stepped phase's steps move the logits by 2e-3 to
+/// 1.4e-2 in this measure, and after 5–11 of them the value is within 1e-12 of the f64 one.
+const REFRESH_AT: f64 = 0.1;
 
 /// Rows standardised and multiplied at a time.
 const BLOCK_ROWS: usize = 256;
@@ -63,6 +77,61 @@ pub(crate) struct SoftmaxLoss<'a> {
     l2: f64,
     /// Consecutive runs of blocks; one parallel work item each.
     groups: Vec<Vec<Block>>,
+    /// The rows (indices into `y`) each group covers, in order and without gaps.
+    group_rows: Vec<Range<usize>>,
+    /// What [`Precision::Stepped`] kept from its last evaluation.
+    kept: Mutex<Option<KeptLogits>>,
+    /// One partial sum per group, reused by every evaluation.
+    sums: Mutex<Vec<Partial>>,
+}
+
+/// A worker thread's buffers for the group sums, kept between evaluations: allocating them
+/// per evaluation had glibc map and trim memory each time, several seconds of system time
+/// in a benchmark run of `assess`.
+#[derive(Default)]
+struct Scratch {
+    /// Centred rows of a block, f32.
+    xc: Vec<f32>,
+    /// Logits or their change, then the gradient in the logits, of a block, f32.
+    r: Vec<f32>,
+    /// One block's gradient product, f32.
+    g: Vec<f32>,
+    /// Standardised rows of a block, f64.
+    xs: Vec<f64>,
+    /// Logits of a block, f64.
+    z: Vec<f64>,
+}
+
+thread_local! {
+    static SCRATCH: RefCell<Scratch> = RefCell::default();
+}
+
+/// The first `rows × cols` entries of `v` (grown if needed) as a matrix; the contents are
+/// whatever the last user left.
+fn grown<T: Clone + Default>(v: &mut Vec<T>, rows: usize, cols: usize) -> ArrayViewMut2<'_, T> {
+    let n = rows * cols;
+    if v.len() < n {
+        v.resize(n, T::default());
+    }
+    ArrayViewMut2::from_shape((rows, cols), &mut v[..n]).expect("a buffer of rows × cols")
+}
+
+/// The logits `zᵢ = W xᵢ + b` of every row (n × C, row-major in the order of `y`) at the
+/// parameters `theta`.
+struct KeptLogits {
+    theta: Vec<f64>,
+    z: Vec<f64>,
+}
+
+/// How a stepped evaluation gets its logits.
+enum Logits<'w> {
+    /// From scratch, in f64: standardised rows times `w`, plus `b`.
+    Fresh {
+        w: ArrayView2<'w, f64>,
+        b: &'w [f64],
+    },
+    /// The kept logits plus the change: `w = ΔW/s` (f32) on centred rows, plus `b = Δb`.
+    Change { w: Array2<f32>, b: Vec<f64> },
 }
 
 /// Which arithmetic an evaluation uses (see the module notes).
@@ -70,6 +139,7 @@ pub(crate) struct SoftmaxLoss<'a> {
 pub(crate) enum Precision {
     Fast,
     Exact,
+    Stepped,
 }
 
 /// Partial sums of one group.
@@ -77,6 +147,26 @@ struct Partial {
     data_loss: f64,
     g_w: Array2<f64>,
     g_b: Array1<f64>,
+    /// `Σᵢ cᵢ maxₖ |Δzᵢₖ|`, how far a step moved the kept logits ([`Precision::Stepped`]).
+    change: f64,
+}
+
+impl Partial {
+    fn zeros(c: usize, d: usize) -> Self {
+        Partial {
+            data_loss: 0.0,
+            g_w: Array2::zeros((c, d)),
+            g_b: Array1::zeros(c),
+            change: 0.0,
+        }
+    }
+
+    fn clear(&mut self) {
+        self.data_loss = 0.0;
+        self.change = 0.0;
+        self.g_w.fill(0.0);
+        self.g_b.fill(0.0);
+    }
 }
 
 impl<'a> SoftmaxLoss<'a> {
@@ -117,7 +207,14 @@ impl<'a> SoftmaxLoss<'a> {
             .clamp(1, MAX_GROUPS)
             .min(blocks.len().max(1));
         let per = blocks.len().div_ceil(n_groups).max(1);
-        let groups = blocks.chunks(per).map(<[Block]>::to_vec).collect();
+        let groups: Vec<Vec<Block>> = blocks.chunks(per).map(<[Block]>::to_vec).collect();
+        let group_rows = groups
+            .iter()
+            .map(|g| {
+                let (first, last) = (&g[0], &g[g.len() - 1]);
+                first.first..last.first + last.rows.len()
+            })
+            .collect();
         SoftmaxLoss {
             parts,
             mean,
@@ -127,7 +224,14 @@ impl<'a> SoftmaxLoss<'a> {
             coef,
             n_classes,
             l2,
+            sums: Mutex::new(
+                (0..groups.len())
+                    .map(|_| Partial::zeros(n_classes, d))
+                    .collect(),
+            ),
             groups,
+            group_rows,
+            kept: Mutex::new(None),
         }
     }
 
@@ -162,43 +266,27 @@ impl<'a> SoftmaxLoss<'a> {
         let (c, d) = (self.n_classes, self.mean.len());
         let (w_flat, b) = theta.split_at(c * d);
         let w = ArrayView2::from_shape((c, d), w_flat).expect("packed weights match C × d");
-        let partials: Vec<Partial> = match precision {
-            Precision::Exact => self
-                .groups
-                .par_iter()
-                .map(|blocks| self.group(blocks, w, b))
-                .collect(),
+        let mut sums = self.sums.lock().unwrap_or_else(PoisonError::into_inner);
+        match precision {
+            Precision::Exact => self.each_group(&mut sums, |blocks, out, scratch| {
+                self.group(blocks, w, b, out, scratch)
+            }),
             Precision::Fast => {
-                // Weights W/s (f32) acting on centred rows x − m; biases unchanged.
-                let mut w_raw = Array2::<f32>::zeros((c, d));
-                let b_raw = b.to_vec();
-                for k in 0..c {
-                    for j in 0..d {
-                        let v = w[[k, j]] / self.scale[j];
-                        w_raw[[k, j]] = v as f32;
-                    }
-                }
-                let mut partials: Vec<Partial> = self
-                    .groups
-                    .par_iter()
-                    .map(|blocks| self.group_fast(blocks, w_raw.view(), &b_raw))
-                    .collect();
-                // Back to standardised coordinates: ∂/∂W_kj = Σᵢ rᵢₖ (xᵢⱼ − mⱼ) / sⱼ.
-                for p in &mut partials {
-                    for mut row in p.g_w.axis_iter_mut(Axis(0)) {
-                        row.iter_mut().zip(self.scale).for_each(|(g, s)| *g /= s);
-                    }
-                }
-                partials
+                let w_raw = self.unscaled(w.iter().copied());
+                self.each_group(&mut sums, |blocks, out, scratch| {
+                    self.group_fast(blocks, w_raw.view(), b, out, scratch)
+                });
+                self.rescale(&mut sums);
             }
-        };
+            Precision::Stepped => self.stepped(theta, w, b, &mut sums),
+        }
         let (g_w, g_b) = grad.split_at_mut(c * d);
         let mut g_w = ndarray::ArrayViewMut2::from_shape((c, d), g_w).expect("C × d");
         g_w.fill(0.0);
         g_b.fill(0.0);
         let mut data_loss = 0.0;
         // Fixed order: the sum does not depend on which thread finished first.
-        for p in &partials {
+        for p in sums.iter() {
             data_loss += p.data_loss;
             g_w += &p.g_w;
             g_b.iter_mut().zip(&p.g_b).for_each(|(g, s)| *g += s);
@@ -208,29 +296,246 @@ impl<'a> SoftmaxLoss<'a> {
         data_loss + penalty
     }
 
-    /// Partial loss and gradient over one group's blocks, in block order.
-    fn group(&self, blocks: &[Block], w: ArrayView2<f64>, b: &[f64]) -> Partial {
-        let (c, d) = (self.n_classes, self.mean.len());
-        let mut out = Partial {
-            data_loss: 0.0,
-            g_w: Array2::zeros((c, d)),
-            g_b: Array1::zeros(c),
+    /// Runs `f` on every group (in parallel) with the group's partial sums, cleared, and the
+    /// worker thread's buffers.
+    fn each_group<F>(&self, sums: &mut [Partial], f: F)
+    where
+        F: Fn(&[Block], &mut Partial, &mut Scratch) + Sync,
+    {
+        self.groups
+            .par_iter()
+            .zip(sums.par_iter_mut())
+            .for_each(|(blocks, out)| {
+                out.clear();
+                SCRATCH.with_borrow_mut(|scratch| f(blocks, out, scratch));
+            });
+    }
+
+    /// Weights `W/s` in f32, acting on centred rows `x − m` (the same logits as `W` on
+    /// standardised rows), from `W` row-major.
+    fn unscaled(&self, w: impl Iterator<Item = f64>) -> Array2<f32> {
+        let d = self.mean.len();
+        let v = w
+            .enumerate()
+            .map(|(i, v)| (v / self.scale[i % d]) as f32)
+            .collect();
+        Array2::from_shape_vec((self.n_classes, d), v).expect("C × d weights")
+    }
+
+    /// Gradients summed against centred rows back to standardised coordinates:
+    /// `∂/∂W_kj = Σᵢ rᵢₖ (xᵢⱼ − mⱼ) / sⱼ`.
+    fn rescale(&self, partials: &mut [Partial]) {
+        for p in partials {
+            for mut row in p.g_w.axis_iter_mut(Axis(0)) {
+                row.iter_mut().zip(self.scale).for_each(|(g, s)| *g /= s);
+            }
+        }
+    }
+
+    /// The partial sums at `theta` for [`Precision::Stepped`]; the logits kept from the
+    /// previous call move to `theta`.
+    fn stepped<'w>(
+        &self,
+        theta: &[f64],
+        w: ArrayView2<'w, f64>,
+        b: &'w [f64],
+        sums: &mut [Partial],
+    ) {
+        let c = self.n_classes;
+        let mut kept = self.kept.lock().unwrap_or_else(PoisonError::into_inner);
+        let logits = match kept.as_ref() {
+            Some(k) => {
+                let (w0, b0) = k.theta.split_at(w.len());
+                Logits::Change {
+                    w: self.unscaled(w.iter().zip(w0).map(|(v, v0)| v - v0)),
+                    b: b.iter().zip(b0).map(|(v, v0)| v - v0).collect(),
+                }
+            }
+            None => Logits::Fresh { w, b },
         };
+        let k = kept.get_or_insert_with(|| KeptLogits {
+            theta: Vec::new(),
+            z: vec![0.0; self.y.len() * c],
+        });
+        let pass = |logits: &Logits<'_>, sums: &mut [Partial], z: &mut [f64]| {
+            let mut chunks = Vec::with_capacity(self.groups.len());
+            let mut rest = z;
+            for rows in &self.group_rows {
+                let (chunk, tail) = rest.split_at_mut(rows.len() * c);
+                chunks.push(chunk);
+                rest = tail;
+            }
+            self.groups
+                .par_iter()
+                .zip(sums.par_iter_mut())
+                .zip(chunks)
+                .for_each(|((blocks, out), z)| {
+                    out.clear();
+                    SCRATCH.with_borrow_mut(|scratch| {
+                        self.group_stepped(blocks, z, logits, out, scratch);
+                    });
+                });
+        };
+        pass(&logits, sums, &mut k.z);
+        if matches!(logits, Logits::Change { .. })
+            && sums.iter().map(|p| p.change).sum::<f64>() > REFRESH_AT
+        {
+            // A long step: its rounding would stay in the kept logits. Start them afresh.
+            pass(&Logits::Fresh { w, b }, sums, &mut k.z);
+        }
+        k.theta.clear();
+        k.theta.extend_from_slice(theta);
+        self.rescale(sums);
+    }
+
+    /// Standardised rows `(x − m)/s` of one block, in f64.
+    fn standardise(&self, block: &Block, mut xs: ArrayViewMut2<f64>) {
+        let part = &self.parts[block.part];
+        for (mut dst, src) in xs
+            .outer_iter_mut()
+            .zip(block.rows.clone().map(|r| part.row(r)))
+        {
+            dst.iter_mut()
+                .zip(src.iter().zip(self.mean.iter().zip(self.scale)))
+                .for_each(|(o, (&v, (mj, sj)))| *o = (f64::from(v) - mj) / sj);
+        }
+    }
+
+    /// Centred rows `x − m` of one block, in f32 (a subtraction per entry, cheap beside the
+    /// products) so large column means do not swamp the logits' rounding.
+    #[inline(always)]
+    fn centre(&self, block: &Block, mean32: &[f32], mut xc: ArrayViewMut2<f32>) {
+        let part = &self.parts[block.part];
+        for (mut dst, src) in xc
+            .outer_iter_mut()
+            .zip(block.rows.clone().map(|r| part.row(r)))
+        {
+            // On slices the subtraction vectorises; ndarray's element iterators do not.
+            match (dst.as_slice_mut(), src.as_slice()) {
+                (Some(o), Some(v)) => o
+                    .iter_mut()
+                    .zip(v.iter().zip(mean32))
+                    .for_each(|(o, (&v, &mj))| *o = v - mj),
+                _ => dst
+                    .iter_mut()
+                    .zip(src.iter().zip(mean32))
+                    .for_each(|(o, (&v, &mj))| *o = v - mj),
+            }
+        }
+    }
+
+    /// Row `i`'s weighted loss `cᵢ ℓᵢ` from its logits `z`, which become the gradient with
+    /// respect to them, `cᵢ (pᵢ − tᵢ)`; f64, one `exp` per class.
+    fn loss_and_residual(&self, z: &mut [f64], i: usize) -> f64 {
+        let (yi, ci) = (self.y[i] as usize, self.coef[i]);
+        let max = z.iter().fold(f64::NEG_INFINITY, |m, &v| m.max(v));
+        let soft = self.soft_of(i);
+        let target = match soft {
+            Some((p, wy, wp)) => wy * (z[yi] - max) + wp * (z[p] - max),
+            None => z[yi] - max,
+        };
+        let mut sum = 0.0;
+        for v in z.iter_mut() {
+            *v = (*v - max).exp();
+            sum += *v;
+        }
+        let to_grad = ci / sum;
+        z.iter_mut().for_each(|v| *v *= to_grad);
+        match soft {
+            Some((p, wy, wp)) => {
+                z[yi] -= ci * wy;
+                z[p] -= ci * wp;
+            }
+            None => z[yi] -= ci,
+        }
+        ci * (sum.ln() - target)
+    }
+
+    /// Partial loss and gradient over one group's blocks for [`Precision::Stepped`]; `z` holds
+    /// the group's kept logits and is moved to the new point. The gradient is summed as in
+    /// [`SoftmaxLoss::group_fast`] (f32 products per block, added in f64).
+    fn group_stepped(
+        &self,
+        blocks: &[Block],
+        z: &mut [f64],
+        logits: &Logits<'_>,
+        out: &mut Partial,
+        scratch: &mut Scratch,
+    ) {
+        let (c, d) = (self.n_classes, self.mean.len());
         let cap = blocks.iter().map(|b| b.rows.len()).max().unwrap_or(0);
-        let mut xs_buf = Array2::<f64>::zeros((cap, d));
-        let mut z_buf = Array2::<f64>::zeros((cap, c));
+        let Scratch { xc, r, g, xs, .. } = scratch;
+        let mut xc_buf = grown(xc, cap, d);
+        let mut r_buf = grown(r, cap, c);
+        let mut xs_buf = match logits {
+            Logits::Fresh { .. } => grown(xs, cap, d),
+            Logits::Change { .. } => grown(xs, 0, d),
+        };
+        let mut g_blk = grown(g, c, d);
+        let mean32: Vec<f32> = self.mean.iter().map(|&m| m as f32).collect();
+        let start = blocks.first().map_or(0, |b| b.first);
         for block in blocks {
             let m = block.rows.len();
-            let part = &self.parts[block.part];
-            let mut xs = xs_buf.slice_mut(s![..m, ..]);
-            for (mut dst, src) in xs
-                .outer_iter_mut()
-                .zip(block.rows.clone().map(|r| part.row(r)))
-            {
-                dst.iter_mut()
-                    .zip(src.iter().zip(self.mean.iter().zip(self.scale)))
-                    .for_each(|(o, (&v, (mj, sj)))| *o = (f64::from(v) - mj) / sj);
+            let mut xc = xc_buf.slice_mut(s![..m, ..]);
+            self.centre(block, &mean32, xc.view_mut());
+            let at = (block.first - start) * c;
+            let mut zb = ArrayViewMut2::from_shape((m, c), &mut z[at..at + m * c])
+                .expect("a block's kept logits");
+            let mut r = r_buf.slice_mut(s![..m, ..]);
+            match logits {
+                Logits::Fresh { w, b } => {
+                    let mut xs = xs_buf.slice_mut(s![..m, ..]);
+                    self.standardise(block, xs.view_mut());
+                    general_mat_mul(1.0, &xs, &w.t(), 0.0, &mut zb);
+                    for mut row in zb.rows_mut() {
+                        row.iter_mut().zip(*b).for_each(|(v, bc)| *v += bc);
+                    }
+                }
+                Logits::Change { w, b } => {
+                    linalg::sgemm(xc.view(), w.t(), &mut r, false);
+                    let coef = &self.coef[block.first..block.first + m];
+                    for ((mut row, dz), ci) in zb.rows_mut().into_iter().zip(r.rows()).zip(coef) {
+                        let mut largest = 0.0f64;
+                        row.iter_mut()
+                            .zip(dz.iter().zip(b))
+                            .for_each(|(v, (&dv, db))| {
+                                let change = f64::from(dv) + db;
+                                largest = largest.max(change.abs());
+                                *v += change;
+                            });
+                        out.change += ci * largest;
+                    }
+                }
             }
+            let mut res = vec![0.0f64; c];
+            for ((zi, mut ri), i) in zb.rows().into_iter().zip(r.rows_mut()).zip(block.first..) {
+                res.iter_mut().zip(zi).for_each(|(o, &v)| *o = v);
+                out.data_loss += self.loss_and_residual(&mut res, i);
+                ri.iter_mut().zip(&res).for_each(|(o, &v)| *o = v as f32);
+                out.g_b.iter_mut().zip(&res).for_each(|(g, v)| *g += v);
+            }
+            linalg::sgemm(r.t(), xc.view(), &mut g_blk, false);
+            out.g_w.zip_mut_with(&g_blk, |acc, &v| *acc += f64::from(v));
+        }
+    }
+
+    /// Partial loss and gradient over one group's blocks, in block order.
+    fn group(
+        &self,
+        blocks: &[Block],
+        w: ArrayView2<f64>,
+        b: &[f64],
+        out: &mut Partial,
+        scratch: &mut Scratch,
+    ) {
+        let (c, d) = (self.n_classes, self.mean.len());
+        let cap = blocks.iter().map(|b| b.rows.len()).max().unwrap_or(0);
+        let mut xs_buf = grown(&mut scratch.xs, cap, d);
+        let mut z_buf = grown(&mut scratch.z, cap, c);
+        for block in blocks {
+            let m = block.rows.len();
+            let mut xs = xs_buf.slice_mut(s![..m, ..]);
+            self.standardise(block, xs.view_mut());
             let mut z = z_buf.slice_mut(s![..m, ..]);
             general_mat_mul(1.0, &xs, &w.t(), 0.0, &mut z);
             let rows = block.first..block.first + m;
@@ -263,7 +568,6 @@ impl<'a> SoftmaxLoss<'a> {
             }
             general_mat_mul(1.0, &z.t(), &xs, 1.0, &mut out.g_w);
         }
-        out
     }
 }
 
@@ -274,52 +578,59 @@ impl SoftmaxLoss<'_> {
     /// Beside the products, the centring and the softmax's `exp` took as long as the products
     /// in the baseline build (four lanes wide); on a CPU with AVX-512 they are compiled
     /// sixteen wide (`group_fast_avx512`). Same operations per element, so the same bits.
-    fn group_fast(&self, blocks: &[Block], w: ArrayView2<f32>, b: &[f64]) -> Partial {
+    fn group_fast(
+        &self,
+        blocks: &[Block],
+        w: ArrayView2<f32>,
+        b: &[f64],
+        out: &mut Partial,
+        scratch: &mut Scratch,
+    ) {
         #[cfg(target_arch = "x86_64")]
         {
             if std::arch::is_x86_feature_detected!("avx512f") {
                 // SAFETY: the CPU has AVX-512F, the only requirement of `group_fast_avx512`.
-                return unsafe { self.group_fast_avx512(blocks, w, b) };
+                return unsafe { self.group_fast_avx512(blocks, w, b, out, scratch) };
             }
         }
-        self.group_fast_body(blocks, w, b)
+        self.group_fast_body(blocks, w, b, out, scratch)
     }
 
     #[cfg(target_arch = "x86_64")]
     #[target_feature(enable = "avx512f")]
-    fn group_fast_avx512(&self, blocks: &[Block], w: ArrayView2<f32>, b: &[f64]) -> Partial {
-        self.group_fast_body(blocks, w, b)
+    fn group_fast_avx512(
+        &self,
+        blocks: &[Block],
+        w: ArrayView2<f32>,
+        b: &[f64],
+        out: &mut Partial,
+        scratch: &mut Scratch,
+    ) {
+        self.group_fast_body(blocks, w, b, out, scratch)
     }
 
     #[inline(always)]
-    fn group_fast_body(&self, blocks: &[Block], w: ArrayView2<f32>, b: &[f64]) -> Partial {
+    fn group_fast_body(
+        &self,
+        blocks: &[Block],
+        w: ArrayView2<f32>,
+        b: &[f64],
+        out: &mut Partial,
+        scratch: &mut Scratch,
+    ) {
         let (c, d) = (self.n_classes, self.mean.len());
-        let mut out = Partial {
-            data_loss: 0.0,
-            g_w: Array2::zeros((c, d)),
-            g_b: Array1::zeros(c),
-        };
         let cap = blocks.iter().map(|b| b.rows.len()).max().unwrap_or(0);
-        let mut z_buf = Array2::<f32>::zeros((cap, c));
-        let mut xc_buf = Array2::<f32>::zeros((cap, d));
+        let Scratch { xc, r, g, .. } = scratch;
+        let mut z_buf = grown(r, cap, c);
+        let mut xc_buf = grown(xc, cap, d);
         let mean32: Vec<f32> = self.mean.iter().map(|&m| m as f32).collect();
-        let mut g_blk = Array2::<f32>::zeros((c, d));
+        let mut g_blk = grown(g, c, d);
         let b32: Vec<f32> = b.iter().map(|&v| v as f32).collect();
         let mut e = vec![0.0f32; c];
         for block in blocks {
             let m = block.rows.len();
-            let part = &self.parts[block.part];
-            // Centred in f32 (a subtraction per entry, cheap beside the products) so large
-            // column means do not swamp the logits' rounding.
             let mut xc = xc_buf.slice_mut(s![..m, ..]);
-            for (mut dst, src) in xc
-                .outer_iter_mut()
-                .zip(block.rows.clone().map(|r| part.row(r)))
-            {
-                dst.iter_mut()
-                    .zip(src.iter().zip(&mean32))
-                    .for_each(|(o, (&v, &mj))| *o = v - mj);
-            }
+            self.centre(block, &mean32, xc.view_mut());
             let mut z = z_buf.slice_mut(s![..m, ..]);
             linalg::sgemm(xc.view(), w.t(), &mut z, false);
             let rows = block.first..block.first + m;
@@ -361,10 +672,9 @@ impl SoftmaxLoss<'_> {
                     .zip(row.iter())
                     .for_each(|(g, &r)| *g += f64::from(r));
             }
-            linalg::sgemm(z.t(), xc.view(), &mut g_blk.view_mut(), false);
+            linalg::sgemm(z.t(), xc.view(), &mut g_blk, false);
             out.g_w.zip_mut_with(&g_blk, |acc, &v| *acc += f64::from(v));
         }
-        out
     }
 }
 
@@ -591,6 +901,68 @@ mod tests {
         }
         direct += 0.05 * w.iter().map(|v| v * v).sum::<f64>();
         assert!((f1 - direct).abs() < 1e-12, "{f1} vs {direct}");
+    }
+
+    #[test]
+    fn stepped_evaluations_track_the_exact_objective() {
+        // Common practice, no source: logits kept in f64 and moved by f32 products of the
+        // change give, along a path of short steps, the f64 value to far better than one f32
+        // rounding of the whole logits (about 1e-7 of a value near 3 here), and the f64
+        // gradient to the rounding of the f32 gradient products; bit-identical on 1 and 3
+        // threads.
+        let (n, d, c) = (1500, 9, 5);
+        let x = Array2::from_shape_fn((n, d), |(i, j)| {
+            ((i * 37 + j * 11) % 29) as f32 / 7.0 + 40.0 * j as f32
+        });
+        let y: Vec<u32> = (0..n).map(|i| ((i * 7) % c) as u32).collect();
+        let mean = Array1::from_shape_fn(d, |j| 2.0 + 40.0 * j as f64);
+        let scale = Array1::from_elem(d, 1.2);
+        let parts = [x.slice(s![..900, ..]), x.slice(s![900.., ..])];
+        let weights = [0.7, 1.9, 1.1, 1.0, 0.4];
+        let start: Vec<f64> = (0..c * d + c)
+            .map(|i| ((i * 7 % 11) as f64 - 5.0) / 7.0)
+            .collect();
+        // Steps like the last ones of a fit: each moves every parameter by up to 1e-3,
+        // shrinking, in varying directions.
+        let path = |k: usize| -> Vec<f64> {
+            let t = 1e-3 * 0.8f64.powi(k as i32);
+            start
+                .iter()
+                .enumerate()
+                .map(|(i, v)| v + t * (((i + k) % 3) as f64 - 1.0))
+                .collect()
+        };
+        let run = |threads: usize| {
+            let pool = rayon::ThreadPoolBuilder::new()
+                .num_threads(threads)
+                .build()
+                .unwrap();
+            pool.install(|| {
+                let loss =
+                    SoftmaxLoss::new(&parts, mean.view(), scale.view(), &y, &weights, c, 0.1);
+                (0..30)
+                    .map(|k| {
+                        let theta = path(k);
+                        let mut g = vec![0.0; theta.len()];
+                        let f = loss.evaluate(&theta, &mut g, Precision::Stepped);
+                        let mut g_exact = vec![0.0; theta.len()];
+                        let f_exact = loss.evaluate(&theta, &mut g_exact, Precision::Exact);
+                        (f, g, f_exact, g_exact)
+                    })
+                    .collect::<Vec<_>>()
+            })
+        };
+        let one = run(1);
+        for (k, (f, g, f_exact, g_exact)) in one.iter().enumerate() {
+            assert!((f - f_exact).abs() <= 1e-12, "step {k}: {f} vs {f_exact}");
+            for (a, b) in g.iter().zip(g_exact) {
+                assert!((a - b).abs() < 1e-7, "step {k}: {a} vs {b}");
+            }
+        }
+        for (a, b) in one.iter().zip(run(3)) {
+            assert_eq!(a.0.to_bits(), b.0.to_bits());
+            assert_eq!(a.1, b.1);
+        }
     }
 
     #[test]
